@@ -1,0 +1,1 @@
+"""The lab domain: samples, tests, results, specifications, stability studies and trends."""

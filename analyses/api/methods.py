@@ -1,0 +1,80 @@
+"""Method plugins over REST: their metadata, and a stateless calculation."""
+from __future__ import annotations
+
+from drf_spectacular.utils import OpenApiResponse, extend_schema, inline_serializer
+from rest_framework import serializers
+from rest_framework.permissions import AllowAny
+from rest_framework.request import Request
+from rest_framework.response import Response
+from rest_framework.views import APIView
+
+from analyses.selectors.methods import method_detail, method_list
+from analyses.services.calculation import calculation_run
+
+
+class MethodSerializer(serializers.Serializer):
+    code = serializers.CharField()
+    title = serializers.CharField()
+    version = serializers.CharField()
+    standards = serializers.ListField(child=serializers.CharField())
+    inputs = serializers.ListField(child=serializers.DictField())
+    result_unit = serializers.CharField()
+    decimals = serializers.IntegerField()
+    replicates = serializers.IntegerField()
+    repeatability = serializers.DictField(allow_null=True)
+    spec_limits = serializers.ListField(child=serializers.DictField())
+    cautions = serializers.CharField()
+
+
+class CalculationRequestSerializer(serializers.Serializer):
+    method = serializers.CharField(help_text="Method code, e.g. sv, iv, av, pv, ffa")
+    inputs = serializers.DictField(
+        help_text='Input name to value: a number in the default unit, or a quantity string such as "2015 mg"'
+    )
+
+
+class CalculationResultSerializer(serializers.Serializer):
+    method = serializers.CharField()
+    method_version = serializers.CharField()
+    value = serializers.FloatField(help_text="Unrounded result")
+    reported = serializers.CharField(help_text="Rounded to the reporting precision, ASTM E29 (half to even)")
+    unit = serializers.CharField()
+    decimals = serializers.IntegerField()
+    inputs = serializers.DictField(help_text="Inputs as used, in each input's default unit")
+
+
+ErrorSerializer = inline_serializer(
+    "FieldError",
+    {"detail": serializers.CharField(), "fields": serializers.DictField(child=serializers.ListField(child=serializers.CharField()))},
+)
+
+
+class MethodListView(APIView):
+    permission_classes = [AllowAny]
+
+    @extend_schema(responses=MethodSerializer(many=True), summary="List the registered method plugins")
+    def get(self, request: Request) -> Response:
+        return Response(method_list())
+
+
+class MethodDetailView(APIView):
+    permission_classes = [AllowAny]
+
+    @extend_schema(responses=MethodSerializer, summary="One method plugin's metadata")
+    def get(self, request: Request, code: str) -> Response:
+        return Response(method_detail(code))
+
+
+class CalculationView(APIView):
+    permission_classes = [AllowAny]
+
+    @extend_schema(
+        request=CalculationRequestSerializer,
+        responses={200: CalculationResultSerializer, 400: OpenApiResponse(ErrorSerializer), 404: OpenApiResponse(description="Unknown method")},
+        summary="Compute one determination; nothing is stored",
+    )
+    def post(self, request: Request) -> Response:
+        serializer = CalculationRequestSerializer(data=request.data)
+        serializer.is_valid(raise_exception=True)
+        result = calculation_run(serializer.validated_data["method"], serializer.validated_data["inputs"])
+        return Response(result.as_dict())

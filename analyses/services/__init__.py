@@ -1,0 +1,1 @@
+"""Write services: plain, typed functions named <thing>_<action>."""

@@ -1,0 +1,20 @@
+"""The API root: where to go next."""
+from drf_spectacular.utils import extend_schema
+from rest_framework.decorators import api_view, permission_classes
+from rest_framework.permissions import AllowAny
+from rest_framework.response import Response
+from rest_framework.reverse import reverse
+
+
+@extend_schema(exclude=True)
+@api_view(["GET"])
+@permission_classes([AllowAny])
+def api_root(request, format=None):
+    return Response(
+        {
+            "methods": reverse("method-list", request=request, format=format),
+            "calculations": reverse("calculation", request=request, format=format),
+            "schema": reverse("schema", request=request, format=format),
+            "docs": reverse("api-docs", request=request, format=format),
+        }
+    )

@@ -1,0 +1,159 @@
+"""Settings, read from the environment.
+
+DATABASE_URL   default: SQLite file in var/ (git-ignored); PostgreSQL when set.
+REDIS_URL      Celery broker and result backend; default: a filesystem broker in var/ (no server).
+DJANGO_SECRET_KEY  default: a key generated once into var/secret_key, never committed.
+DEBUG          off unless set to 1/true/yes.
+"""
+from __future__ import annotations
+
+import os
+import secrets
+from pathlib import Path
+
+import dj_database_url
+
+BASE_DIR = Path(__file__).resolve().parent.parent
+VAR_DIR = Path(os.environ.get("OLEOTRACE_VAR_DIR", BASE_DIR / "var"))
+VAR_DIR.mkdir(parents=True, exist_ok=True)
+
+
+def _env_flag(name: str, default: bool = False) -> bool:
+    value = os.environ.get(name)
+    if value is None:
+        return default
+    return value.strip().lower() in {"1", "true", "yes", "on"}
+
+
+def _local_secret_key() -> str:
+    key_file = VAR_DIR / "secret_key"
+    if not key_file.exists():
+        key_file.write_text(secrets.token_urlsafe(50))
+        key_file.chmod(0o600)
+    return key_file.read_text().strip()
+
+
+SECRET_KEY = os.environ.get("DJANGO_SECRET_KEY") or _local_secret_key()
+DEBUG = _env_flag("DEBUG")
+ALLOWED_HOSTS = [h for h in os.environ.get("ALLOWED_HOSTS", "localhost,127.0.0.1,[::1],testserver").split(",") if h]
+
+INSTALLED_APPS = [
+    "django.contrib.admin",
+    "django.contrib.auth",
+    "django.contrib.contenttypes",
+    "django.contrib.sessions",
+    "django.contrib.messages",
+    "django.contrib.staticfiles",
+    "rest_framework",
+    "rest_framework.authtoken",
+    "django_filters",
+    "drf_spectacular",
+    "analyses",
+]
+
+MIDDLEWARE = [
+    "django.middleware.security.SecurityMiddleware",
+    "django.contrib.sessions.middleware.SessionMiddleware",
+    "django.middleware.common.CommonMiddleware",
+    "django.middleware.csrf.CsrfViewMiddleware",
+    "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "django.contrib.messages.middleware.MessageMiddleware",
+    "django.middleware.clickjacking.XFrameOptionsMiddleware",
+]
+
+ROOT_URLCONF = "labcore.urls"
+WSGI_APPLICATION = "labcore.wsgi.application"
+
+TEMPLATES = [
+    {
+        "BACKEND": "django.template.backends.django.DjangoTemplates",
+        "DIRS": [],
+        "APP_DIRS": True,
+        "OPTIONS": {
+            "context_processors": [
+                "django.template.context_processors.request",
+                "django.contrib.auth.context_processors.auth",
+                "django.contrib.messages.context_processors.messages",
+            ],
+        },
+    },
+]
+
+DATABASES = {
+    "default": dj_database_url.parse(
+        os.environ.get("DATABASE_URL") or f"sqlite:///{VAR_DIR / 'oleotrace.sqlite3'}",
+        conn_max_age=0,
+    )
+}
+DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+LANGUAGE_CODE = "en"
+TIME_ZONE = "UTC"
+USE_I18N = True
+USE_TZ = True
+STATIC_URL = "static/"
+STATIC_ROOT = VAR_DIR / "static"
+
+REST_FRAMEWORK = {
+    "DEFAULT_AUTHENTICATION_CLASSES": [
+        "rest_framework.authentication.TokenAuthentication",
+        "rest_framework.authentication.SessionAuthentication",
+    ],
+    "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    "DEFAULT_PAGINATION_CLASS": "rest_framework.pagination.PageNumberPagination",
+    "PAGE_SIZE": 50,
+    "DEFAULT_FILTER_BACKENDS": ["django_filters.rest_framework.DjangoFilterBackend"],
+    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    "EXCEPTION_HANDLER": "analyses.api.errors.exception_handler",
+}
+
+SPECTACULAR_SETTINGS = {
+    "TITLE": "oleotrace API",
+    "DESCRIPTION": "Edible-oil laboratory backend: method plugins, samples, results, review, release, "
+    "stability studies and trend alerts. The software supports decisions; it does not certify them.",
+    "VERSION": "0.1.0",
+    "SERVE_INCLUDE_SCHEMA": False,
+    "COMPONENT_SPLIT_REQUEST": True,
+}
+
+# Celery: Redis when REDIS_URL is set, otherwise a filesystem broker that needs no server.
+REDIS_URL = os.environ.get("REDIS_URL", "")
+BROKER_DIR = VAR_DIR / "broker"
+if REDIS_URL:
+    CELERY_BROKER_URL = REDIS_URL
+    CELERY_RESULT_BACKEND = REDIS_URL
+    CELERY_BROKER_TRANSPORT_OPTIONS: dict = {}
+else:
+    for sub in ("out", "processed"):
+        (BROKER_DIR / sub).mkdir(parents=True, exist_ok=True)
+    CELERY_BROKER_URL = "filesystem://"
+    CELERY_BROKER_TRANSPORT_OPTIONS = {
+        "data_folder_in": str(BROKER_DIR / "out"),
+        "data_folder_out": str(BROKER_DIR / "out"),
+        "processed_folder": str(BROKER_DIR / "processed"),
+        "store_processed": False,
+    }
+    CELERY_RESULT_BACKEND = f"file://{VAR_DIR / 'results'}"
+    (VAR_DIR / "results").mkdir(parents=True, exist_ok=True)
+CELERY_TASK_ACKS_LATE = True
+CELERY_TASK_REJECT_ON_WORKER_LOST = True
+CELERY_WORKER_PREFETCH_MULTIPLIER = 1
+CELERY_TASK_SERIALIZER = "json"
+CELERY_ACCEPT_CONTENT = ["json"]
+CELERY_TIMEZONE = TIME_ZONE
+CELERY_BEAT_SCHEDULE_FILENAME = str(VAR_DIR / "celerybeat-schedule")
+
+EMAIL_BACKEND = os.environ.get("EMAIL_BACKEND", "django.core.mail.backends.console.EmailBackend")
+DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")
+ALERT_EMAIL_RECIPIENTS = [a for a in os.environ.get("ALERT_EMAIL_RECIPIENTS", "qa@localhost").split(",") if a]
+ALERT_WEBHOOK_URL = os.environ.get("ALERT_WEBHOOK_URL", "")
+
+LOGGING = {
+    "version": 1,
+    "disable_existing_loggers": False,
+    "handlers": {"console": {"class": "logging.StreamHandler"}},
+    "loggers": {
+        "plugins": {"handlers": ["console"], "level": "INFO"},
+        "analyses": {"handlers": ["console"], "level": "INFO"},
+    },
+}

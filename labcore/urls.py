@@ -1,0 +1,15 @@
+from django.contrib import admin
+from django.urls import include, path
+from drf_spectacular.views import SpectacularAPIView, SpectacularRedocView, SpectacularSwaggerView
+
+from labcore.api_root import api_root
+
+urlpatterns = [
+    path("admin/", admin.site.urls),
+    path("api/", api_root, name="api-root"),
+    path("api/", include("analyses.api.urls")),
+    path("api/auth/", include("rest_framework.urls")),
+    path("api/schema/", SpectacularAPIView.as_view(), name="schema"),
+    path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="api-docs"),
+    path("api/redoc/", SpectacularRedocView.as_view(url_name="schema"), name="api-redoc"),
+]

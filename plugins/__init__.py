@@ -1,0 +1,1 @@
+"""Method plugins. The contract is in plugins.contract; discovery in plugins.registry."""

@@ -1,0 +1,74 @@
+"""Default specification limits from the Codex standards, each with its source.
+
+Identity ranges (SV, IV) come from Codex CXS 210 (named vegetable oils); quality limits
+from the CXS 210 appendix and CXS 19 (AV, PV) and CXS 33 (olive oils). The values and
+their evidence tags are those of shared/references.md: "found" rows were read in copies
+of the standard, "from memory" rows were not confirmed.
+"""
+from __future__ import annotations
+
+from plugins.contract import SpecLimit
+
+CXS_210 = "Codex CXS 210-1999, Standard for Named Vegetable Oils"
+CXS_210_QUALITY = "Codex CXS 210-1999 appendix / CXS 19-1981, quality characteristics"
+CXS_33 = "Codex CXS 33-1981, Standard for Olive Oils and Olive Pomace Oils"
+FOUND = "found"
+MEMORY = "from memory"
+
+# oil type -> (SV min, SV max, SV evidence, IV min, IV max, IV evidence)
+_IDENTITY: dict[str, tuple[float, float, str, float | None, float | None, str]] = {
+    "soybean": (189, 195, FOUND, 124, 139, FOUND),
+    "maize": (187, 195, FOUND, 103, 135, FOUND),
+    "palm": (190, 209, FOUND, 50.0, 55.0, FOUND),
+    "rapeseed_low_erucic": (182, 193, FOUND, 105, 126, FOUND),
+    "coconut": (248, 265, FOUND, 6.3, 10.6, FOUND),
+    "sunflowerseed": (187, 194, FOUND, 118, 141, MEMORY),
+    "sunflowerseed_high_oleic": (182, 194, FOUND, 78, 90, FOUND),
+    "palm_olein": (194, 202, MEMORY, 56, None, MEMORY),
+    "palm_kernel": (230, 254, MEMORY, 14.1, 21.0, MEMORY),
+    "groundnut": (187, 196, MEMORY, 86, 107, MEMORY),
+}
+
+OIL_TYPES: tuple[str, ...] = tuple(_IDENTITY) + (
+    "refined",
+    "cold_pressed",
+    "virgin_palm",
+    "olive_extra_virgin",
+    "olive_virgin",
+    "olive_refined",
+)
+
+
+def _identity(column: int) -> tuple[SpecLimit, ...]:
+    limits = []
+    for oil_type, row in _IDENTITY.items():
+        low, high, evidence = row[column], row[column + 1], row[column + 2]
+        limits.append(SpecLimit(oil_type, CXS_210, minimum=low, maximum=high, evidence=evidence))
+    return tuple(limits)
+
+
+_QUALITY: dict[str, tuple[SpecLimit, ...]] = {
+    "sv": _identity(0),
+    "iv": _identity(3),
+    "av": (
+        SpecLimit("refined", CXS_210_QUALITY, maximum=0.6),
+        SpecLimit("cold_pressed", CXS_210_QUALITY, maximum=4.0),
+        SpecLimit("virgin_palm", CXS_210_QUALITY, maximum=10.0),
+    ),
+    "pv": (
+        SpecLimit("refined", CXS_210_QUALITY, maximum=10.0),
+        SpecLimit("cold_pressed", CXS_210_QUALITY, maximum=15.0),
+        SpecLimit("olive_extra_virgin", CXS_33, maximum=20.0, evidence=MEMORY),
+        SpecLimit("olive_virgin", CXS_33, maximum=20.0, evidence=MEMORY),
+        SpecLimit("olive_refined", CXS_33, maximum=5.0, evidence=MEMORY),
+    ),
+    "ffa": (
+        SpecLimit("olive_extra_virgin", CXS_33, maximum=0.8),
+        SpecLimit("olive_virgin", CXS_33, maximum=2.0),
+        SpecLimit("olive_refined", CXS_33, maximum=0.3),
+    ),
+}
+
+
+def limits_for(method_code: str) -> tuple[SpecLimit, ...]:
+    return _QUALITY.get(method_code, ())

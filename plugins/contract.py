@@ -1,0 +1,322 @@
+"""The method plugin contract: the one module every analytical method follows.
+
+A method plugin is a subclass of :class:`MethodPlugin`. Its static facts are class
+attributes; its computation is the :meth:`MethodPlugin.compute` method.
+
+Static facts
+    code            short, unique, lower-case ("sv", "iv", ...)
+    title           the method's name
+    version         the plugin's own version; stored with every result
+    standards       the published methods it follows, e.g. ("AOCS Cd 3-25", "ISO 3657")
+    inputs          a tuple of :class:`QuantityInput` / :class:`ChoiceInput`
+    result_unit     the trade's form of the unit ("mg KOH/g", "g I2/100 g", ...)
+    decimals        reporting precision, in decimal places
+    replicates      determinations per test (2 = duplicates)
+    repeatability   a :class:`Repeatability`, or None where no limit applies
+    spec_limits     default limits per oil type, each a :class:`SpecLimit` with its source
+    examples        worked examples, each a :class:`WorkedExample` with its source
+    cautions        reagent hazards, for the docs and the API
+
+Computation
+    ``compute(values)`` receives the validated inputs as plain floats in each input's
+    default unit (and strings for choices) and returns the unrounded result in
+    ``result_unit``. Cross-field rules go in ``check(values)``, which raises
+    :class:`MethodInputError` naming the field.
+
+Every public entry point (:meth:`MethodPlugin.calculate`) validates first, so a plugin
+never sees a value it cannot use. All input errors are one type,
+:class:`MethodInputError`, which names the offending input and says why.
+
+Discovery: plugins are found through the ``oleotrace.methods`` entry-point group (see
+``plugins.registry``). A package registers a plugin in its pyproject.toml::
+
+    [project.entry-points."oleotrace.methods"]
+    anv = "my_package.anisidine:AnisidineValue"
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from decimal import ROUND_HALF_EVEN, Decimal
+from typing import Any, ClassVar
+
+from plugins.units import UnitProblem, to_magnitude
+
+ENTRY_POINT_GROUP = "oleotrace.methods"
+
+
+class MethodInputError(ValueError):
+    """An input that cannot be right. ``field`` names it; ``reason`` says why."""
+
+    def __init__(self, field: str, reason: str):
+        self.field = field
+        self.reason = reason
+        super().__init__(f"{field}: {reason}")
+
+
+@dataclass(frozen=True)
+class QuantityInput:
+    """A measured quantity. Bounds are in ``unit``; a bare number is taken in ``unit``."""
+
+    name: str
+    unit: str
+    help: str
+    minimum: float | None = None
+    minimum_inclusive: bool = True
+    maximum: float | None = None
+    required: bool = True
+    default: float | None = None
+
+    def parse(self, raw: Any) -> float:
+        try:
+            value = to_magnitude(raw, self.unit)
+        except UnitProblem as problem:
+            raise MethodInputError(self.name, str(problem)) from None
+        if not math.isfinite(value):
+            raise MethodInputError(self.name, "must be a finite number")
+        if self.minimum is not None:
+            if self.minimum_inclusive and value < self.minimum:
+                raise MethodInputError(self.name, f"must be at least {self.minimum:g} {self.unit}, got {value:g}")
+            if not self.minimum_inclusive and value <= self.minimum:
+                raise MethodInputError(self.name, f"must be greater than {self.minimum:g} {self.unit}, got {value:g}")
+        if self.maximum is not None and value > self.maximum:
+            raise MethodInputError(self.name, f"must be at most {self.maximum:g} {self.unit}, got {value:g}")
+        return value
+
+    def describe(self) -> dict[str, Any]:
+        return {
+            "name": self.name,
+            "kind": "quantity",
+            "unit": self.unit,
+            "minimum": self.minimum,
+            "minimum_inclusive": self.minimum_inclusive,
+            "maximum": self.maximum,
+            "required": self.required,
+            "default": self.default,
+            "help": self.help,
+        }
+
+
+@dataclass(frozen=True)
+class ChoiceInput:
+    """One of a fixed set of words, e.g. the fatty-acid basis of an FFA result."""
+
+    name: str
+    choices: tuple[str, ...]
+    help: str
+    required: bool = True
+    default: str | None = None
+
+    def parse(self, raw: Any) -> str:
+        word = str(raw).strip().lower()
+        if word not in self.choices:
+            raise MethodInputError(self.name, f"must be one of {', '.join(self.choices)}, got {raw!r}")
+        return word
+
+    def describe(self) -> dict[str, Any]:
+        return {
+            "name": self.name,
+            "kind": "choice",
+            "choices": list(self.choices),
+            "required": self.required,
+            "default": self.default,
+            "help": self.help,
+        }
+
+
+MethodInput = QuantityInput | ChoiceInput
+
+
+@dataclass(frozen=True)
+class Repeatability:
+    """Largest acceptable difference between duplicates: ``absolute`` in the result unit,
+    or ``relative`` as a fraction of their mean, whichever the source gives."""
+
+    source: str
+    absolute: float | None = None
+    relative: float | None = None
+
+    def limit_for(self, mean: float) -> float:
+        if self.absolute is not None:
+            return self.absolute
+        if self.relative is not None:
+            return abs(mean) * self.relative
+        raise ValueError("a repeatability needs an absolute or a relative limit")
+
+
+@dataclass(frozen=True)
+class SpecLimit:
+    """A default specification limit for one oil type, with the source it comes from."""
+
+    oil_type: str
+    source: str
+    minimum: float | None = None
+    maximum: float | None = None
+    evidence: str = "found"  # "found" in the source, or "from memory" where not confirmed
+
+
+@dataclass(frozen=True)
+class WorkedExample:
+    """Inputs and the result the source gives (or that follows from it), within ``tolerance``."""
+
+    inputs: Mapping[str, Any]
+    expected: float
+    source: str
+    tolerance: float = 1e-9
+
+
+@dataclass(frozen=True)
+class DuplicateCheck:
+    values: tuple[float, ...]
+    difference: float
+    limit: float | None
+    agrees: bool | None
+    source: str | None
+
+
+@dataclass(frozen=True)
+class MethodResult:
+    code: str
+    version: str
+    value: float
+    reported: Decimal
+    unit: str
+    decimals: int
+    inputs: dict[str, Any] = field(default_factory=dict)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "method": self.code,
+            "method_version": self.version,
+            "value": self.value,
+            "reported": str(self.reported),
+            "unit": self.unit,
+            "decimals": self.decimals,
+            "inputs": self.inputs,
+        }
+
+
+def round_half_even(value: float, decimals: int) -> Decimal:
+    """ASTM E29 rounding: half to even, on the value as written (so 21.45 -> 21.4 at 1 place)."""
+    quantum = Decimal(1).scaleb(-decimals)
+    return Decimal(repr(float(value))).quantize(quantum, rounding=ROUND_HALF_EVEN)
+
+
+class MethodPlugin:
+    """Base class of every method plugin. See the module docstring for the contract."""
+
+    code: ClassVar[str]
+    title: ClassVar[str]
+    version: ClassVar[str]
+    standards: ClassVar[tuple[str, ...]]
+    inputs: ClassVar[tuple[MethodInput, ...]]
+    result_unit: ClassVar[str]
+    decimals: ClassVar[int]
+    replicates: ClassVar[int] = 2
+    repeatability: ClassVar[Repeatability | None] = None
+    spec_limits: ClassVar[tuple[SpecLimit, ...]] = ()
+    examples: ClassVar[tuple[WorkedExample, ...]] = ()
+    cautions: ClassVar[str] = ""
+
+    REQUIRED_ATTRIBUTES: ClassVar[tuple[str, ...]] = (
+        "code", "title", "version", "standards", "inputs", "result_unit", "decimals",
+    )
+
+    # --- to override -------------------------------------------------------------
+    def compute(self, values: Mapping[str, Any]) -> float:
+        raise NotImplementedError
+
+    def check(self, values: Mapping[str, Any]) -> None:
+        """Cross-field rules; raise MethodInputError naming the field."""
+
+    def unit_for(self, values: Mapping[str, Any]) -> str:
+        """The result's unit for these inputs; ``result_unit`` unless an input changes it."""
+        return self.result_unit
+
+    # --- shared behaviour ---------------------------------------------------------
+    def validate(self, raw: Mapping[str, Any]) -> dict[str, Any]:
+        """Parse and bound-check every input; refuse unknown names; run ``check``."""
+        if not isinstance(raw, Mapping):
+            raise MethodInputError("inputs", "must be an object of name=value pairs")
+        known = {spec.name for spec in self.inputs}
+        for name in raw:
+            if name not in known:
+                raise MethodInputError(str(name), f"is not an input of method {self.code} (expected: {', '.join(sorted(known))})")
+        values: dict[str, Any] = {}
+        for spec in self.inputs:
+            given = raw.get(spec.name)
+            if given is None or given == "":
+                if spec.default is not None:
+                    given = spec.default
+                elif spec.required:
+                    raise MethodInputError(spec.name, "is required")
+                else:
+                    continue
+            values[spec.name] = spec.parse(given)
+        self.check(values)
+        return values
+
+    def calculate(self, raw: Mapping[str, Any]) -> MethodResult:
+        values = self.validate(raw)
+        value = float(self.compute(values))
+        if not math.isfinite(value):
+            raise MethodInputError("inputs", "give no finite result")
+        return MethodResult(
+            code=self.code,
+            version=self.version,
+            value=value,
+            reported=round_half_even(value, self.decimals),
+            unit=self.unit_for(values),
+            decimals=self.decimals,
+            inputs=values,
+        )
+
+    def report(self, value: float) -> Decimal:
+        return round_half_even(value, self.decimals)
+
+    def duplicate_check(self, values: tuple[float, ...] | list[float]) -> DuplicateCheck:
+        """Compare replicate results with the repeatability limit (max - min <= r)."""
+        values = tuple(float(v) for v in values)
+        spread = max(values) - min(values) if values else 0.0
+        if self.repeatability is None or len(values) < 2:
+            return DuplicateCheck(values, spread, None, None, None)
+        limit = self.repeatability.limit_for(sum(values) / len(values))
+        return DuplicateCheck(values, spread, limit, spread <= limit + 1e-12, self.repeatability.source)
+
+    def limits_for(self, oil_type: str) -> SpecLimit | None:
+        for limit in self.spec_limits:
+            if limit.oil_type == oil_type:
+                return limit
+        return None
+
+    @classmethod
+    def describe(cls) -> dict[str, Any]:
+        return {
+            "code": cls.code,
+            "title": cls.title,
+            "version": cls.version,
+            "standards": list(cls.standards),
+            "inputs": [spec.describe() for spec in cls.inputs],
+            "result_unit": cls.result_unit,
+            "decimals": cls.decimals,
+            "replicates": cls.replicates,
+            "repeatability": None
+            if cls.repeatability is None
+            else {
+                "absolute": cls.repeatability.absolute,
+                "relative": cls.repeatability.relative,
+                "source": cls.repeatability.source,
+            },
+            "spec_limits": [
+                {
+                    "oil_type": s.oil_type,
+                    "minimum": s.minimum,
+                    "maximum": s.maximum,
+                    "source": s.source,
+                    "evidence": s.evidence,
+                }
+                for s in cls.spec_limits
+            ],
+            "cautions": cls.cautions,
+        }

@@ -1,0 +1,141 @@
+"""Discovery of method plugins through the ``oleotrace.methods`` entry-point group.
+
+Plugins load once, when the ``analyses`` app is ready. A plugin that fails to import,
+repeats a code, lacks a unit, or fails one of its own worked examples is left out; the
+reason is logged and reported by a Django system check, and the service still starts.
+"""
+from __future__ import annotations
+
+import logging
+import math
+from collections.abc import Iterable
+from dataclasses import dataclass
+from importlib.metadata import EntryPoint, entry_points
+
+import pint
+
+from plugins.contract import (
+    ENTRY_POINT_GROUP,
+    ChoiceInput,
+    MethodInputError,
+    MethodPlugin,
+    QuantityInput,
+)
+from plugins.units import registry as unit_registry
+
+logger = logging.getLogger(__name__)
+
+
+class UnknownMethod(LookupError):
+    def __init__(self, code: str, known: Iterable[str]):
+        self.code = code
+        super().__init__(f"unknown method {code!r}; known methods: {', '.join(sorted(known)) or 'none'}")
+
+
+@dataclass(frozen=True)
+class RejectedPlugin:
+    entry_point: str
+    reason: str
+
+
+class PluginRegistry:
+    def __init__(self) -> None:
+        self._plugins: dict[str, MethodPlugin] = {}
+        self.rejected: list[RejectedPlugin] = []
+        self.loaded = False
+
+    def load(self, found: Iterable[EntryPoint] | None = None) -> PluginRegistry:
+        """Load every plugin of the entry-point group (or of ``found``), replacing any earlier load."""
+        self._plugins = {}
+        self.rejected = []
+        if found is None:
+            found = entry_points(group=ENTRY_POINT_GROUP)
+        for entry_point in sorted(found, key=lambda ep: ep.name):
+            label = f"{entry_point.name} = {entry_point.value}"
+            try:
+                plugin_class = entry_point.load()
+            except Exception as exc:  # any import failure leaves the plugin out, never the service
+                self._reject(label, f"failed to import: {type(exc).__name__}: {exc}")
+                continue
+            problem = plugin_problem(plugin_class)
+            if problem is None and plugin_class.code in self._plugins:
+                problem = f"repeats method code {plugin_class.code!r}, already registered"
+            if problem:
+                self._reject(label, problem)
+                continue
+            self._plugins[plugin_class.code] = plugin_class()
+        self.loaded = True
+        return self
+
+    def _reject(self, label: str, reason: str) -> None:
+        logger.error("method plugin %s rejected: %s", label, reason)
+        self.rejected.append(RejectedPlugin(label, reason))
+
+    def get(self, code: str) -> MethodPlugin:
+        try:
+            return self._plugins[code]
+        except KeyError:
+            raise UnknownMethod(code, self._plugins) from None
+
+    def all(self) -> list[MethodPlugin]:
+        return [self._plugins[code] for code in sorted(self._plugins)]
+
+    def codes(self) -> list[str]:
+        return sorted(self._plugins)
+
+    def __contains__(self, code: object) -> bool:
+        return code in self._plugins
+
+
+def plugin_problem(plugin_class: object) -> str | None:
+    """Why ``plugin_class`` cannot be registered, or None when it keeps the contract."""
+    if not (isinstance(plugin_class, type) and issubclass(plugin_class, MethodPlugin)):
+        return "is not a subclass of plugins.contract.MethodPlugin"
+    missing = [name for name in MethodPlugin.REQUIRED_ATTRIBUTES if not hasattr(plugin_class, name)]
+    if missing:
+        return f"lacks {', '.join(missing)}"
+    if not isinstance(plugin_class.code, str) or not plugin_class.code.isidentifier() or plugin_class.code != plugin_class.code.lower():
+        return f"code {plugin_class.code!r} must be a short lower-case identifier"
+    if not plugin_class.result_unit:
+        return "lacks a result unit"
+    if not plugin_class.inputs:
+        return "declares no inputs"
+    names = [spec.name for spec in plugin_class.inputs]
+    if len(set(names)) != len(names):
+        return "declares an input name twice"
+    for spec in plugin_class.inputs:
+        if isinstance(spec, QuantityInput):
+            if not spec.unit:
+                return f"input {spec.name!r} lacks a unit"
+            try:
+                unit_registry().Unit(spec.unit)
+            except (pint.errors.PintError, ValueError, AttributeError, TypeError):
+                return f"input {spec.name!r} has unit {spec.unit!r}, which pint does not know"
+        elif not isinstance(spec, ChoiceInput):
+            return f"input {spec!r} is neither a QuantityInput nor a ChoiceInput"
+    if plugin_class.compute is MethodPlugin.compute:
+        return "does not implement compute()"
+    if not plugin_class.examples:
+        return "ships no worked examples"
+    plugin = plugin_class()
+    for number, example in enumerate(plugin_class.examples, start=1):
+        try:
+            result = plugin.calculate(example.inputs)
+        except (MethodInputError, ArithmeticError, TypeError, ValueError) as exc:
+            return f"worked example {number} ({example.source}) raised {exc}"
+        if not math.isclose(result.value, example.expected, rel_tol=0, abs_tol=example.tolerance):
+            return (
+                f"fails its worked example {number} ({example.source}): "
+                f"got {result.value:.6g}, expected {example.expected:.6g} ± {example.tolerance:g}"
+            )
+    return None
+
+
+method_registry = PluginRegistry()
+
+
+def get_registry() -> PluginRegistry:
+    """The process-wide registry, loaded on first use (the app loads it at start-up)."""
+    if not method_registry.loaded:
+        method_registry.load()
+    return method_registry
