@@ -1,0 +1,62 @@
+"""Shared test set-up.
+
+Tests that need a real service (PostgreSQL, Redis) use the ``postgres`` or ``redis_url``
+fixtures. On a laptop without them they skip with the reason; with
+OLEOTRACE_REQUIRE_SERVICES=1 (set by .ci/run) a missing service fails the run instead.
+"""
+from __future__ import annotations
+
+import os
+
+import pytest
+
+REQUIRE_SERVICES = os.environ.get("OLEOTRACE_REQUIRE_SERVICES") == "1"
+
+
+def service_missing(reason: str) -> None:
+    if REQUIRE_SERVICES:
+        pytest.fail(f"{reason} (OLEOTRACE_REQUIRE_SERVICES=1 turns this skip into a failure)")
+    pytest.skip(reason)
+
+
+def pytest_report_header(config):
+    from django.conf import settings
+
+    engine = settings.DATABASES["default"]["ENGINE"]
+    return [f"oleotrace: database engine {engine}; REDIS_URL={os.environ.get('REDIS_URL') or '(unset)'}"]
+
+
+def pytest_sessionstart(session):
+    if REQUIRE_SERVICES:
+        from django.conf import settings
+
+        engine = settings.DATABASES["default"]["ENGINE"]
+        if "postgresql" not in engine:
+            raise pytest.UsageError(
+                f"OLEOTRACE_REQUIRE_SERVICES=1 but DATABASE_URL selects {engine}; point it at PostgreSQL"
+            )
+
+
+@pytest.fixture
+def postgres(db):
+    """The test database, when it is a real PostgreSQL server."""
+    from django.db import connection
+
+    if connection.vendor != "postgresql":
+        service_missing("needs PostgreSQL: set DATABASE_URL=postgres://...")
+    return connection
+
+
+@pytest.fixture(scope="session")
+def redis_url() -> str:
+    """A reachable Redis server's URL (REDIS_URL)."""
+    url = os.environ.get("REDIS_URL")
+    if not url:
+        service_missing("needs Redis: set REDIS_URL=redis://127.0.0.1:6379/0")
+    import redis
+
+    try:
+        redis.Redis.from_url(url, socket_connect_timeout=2).ping()
+    except redis.exceptions.RedisError as exc:
+        service_missing(f"needs Redis at {url}: {exc}")
+    return url
