@@ -1,0 +1,33 @@
+"""List the registered method plugins."""
+from __future__ import annotations
+
+import json
+
+from django.core.management.base import BaseCommand
+
+from analyses.selectors.methods import method_list
+from plugins.registry import get_registry
+
+
+class Command(BaseCommand):
+    help = "List the registered method plugins with code, title, unit, standards and inputs."
+
+    def add_arguments(self, parser):
+        parser.add_argument("--json", action="store_true", help="print a JSON list of objects, each with a 'code' key")
+
+    def handle(self, *args, **options):
+        methods = method_list()
+        if options["json"]:
+            self.stdout.write(json.dumps(methods, indent=2))
+            return
+        for method in methods:
+            self.stdout.write(f"{method['code']:<5} {method['title']}  [{method['result_unit']}]")
+            self.stdout.write(f"      standards: {'; '.join(method['standards'])}")
+            for spec in method["inputs"]:
+                if spec["kind"] == "quantity":
+                    optional = "" if spec["required"] else ", optional"
+                    self.stdout.write(f"      {spec['name']} ({spec['unit']}{optional}): {spec['help']}")
+                else:
+                    self.stdout.write(f"      {spec['name']} (one of {', '.join(spec['choices'])}): {spec['help']}")
+        for rejected in get_registry().rejected:
+            self.stderr.write(f"left out: {rejected.entry_point}: {rejected.reason}")
