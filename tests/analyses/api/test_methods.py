@@ -1,0 +1,73 @@
+"""Methods and the stateless calculation over REST."""
+import pytest
+from rest_framework.test import APIClient
+
+
+@pytest.fixture
+def api():
+    return APIClient()
+
+
+def test_method_list_carries_metadata(api, db):
+    response = api.get("/api/methods/")
+    assert response.status_code == 200
+    codes = [m["code"] for m in response.json()]
+    assert codes == ["av", "ffa", "iv", "pv", "sv"]
+
+
+def test_method_detail_and_unknown_method(api, db):
+    assert api.get("/api/methods/pv/").json()["standards"] == ["AOCS Cd 8b-90", "ISO 3960"]
+    missing = api.get("/api/methods/nope/")
+    assert missing.status_code == 404
+    assert "unknown method 'nope'" in missing.json()["detail"]
+
+
+def test_calculation_returns_value_reported_and_unit(api, db):
+    # AOCS Cd 1d-92 / ISO 3961: IV = (B - S) * c * 12.69 / m = 14.0 * 0.1 * 12.69 / 0.2 = 88.83
+    response = api.post(
+        "/api/calculations/",
+        {"method": "iv", "inputs": {"sample_mass": "200 mg", "sample_volume": 31.0, "blank_volume": 45.0, "titrant_concentration": 0.1}},
+        format="json",
+    )
+    assert response.status_code == 200, response.json()
+    body = response.json()
+    assert body["value"] == pytest.approx(88.83, abs=1e-9)
+    assert body["reported"] == "88.8"
+    assert body["unit"] == "g I2/100 g"
+
+
+@pytest.mark.parametrize(
+    "payload, field",
+    [
+        ({"method": "sv", "inputs": {"sample_mass": "2 mL", "sample_volume": 1, "blank_volume": 25, "titrant_concentration": 0.5}}, "sample_mass"),
+        ({"method": "sv", "inputs": {"sample_mass": -2, "sample_volume": 1, "blank_volume": 25, "titrant_concentration": 0.5}}, "sample_mass"),
+        ({"method": "sv", "inputs": {"sample_mass": 2, "sample_volume": 30, "blank_volume": 25, "titrant_concentration": 0.5}}, "sample_volume"),
+        ({"method": "pv", "inputs": {"sample_mass": 5, "sample_volume": -0.1, "titrant_concentration": 0.01}}, "sample_volume"),
+        ({"method": "pv", "inputs": {"sample_mass": 5, "sample_volume": 1, "titrant_concentration": "abc"}}, "titrant_concentration"),
+        ({"method": "ffa", "inputs": {"sample_mass": 5, "sample_volume": 1, "titrant_concentration": 0.1, "fatty_acid_basis": "x"}}, "fatty_acid_basis"),
+        ({"method": "av", "inputs": {"sample_mass": 5, "sample_volume": 1}}, "titrant_concentration"),
+        ({"method": "av", "inputs": {"sample_mass": 5, "sample_volume": 1, "titrant_concentration": 0.1, "colour": 3}}, "colour"),
+        ({"method": "av", "inputs": {"sample_mass": [5], "sample_volume": 1, "titrant_concentration": 0.1}}, "sample_mass"),
+        ({"inputs": {}}, "method"),
+        ({"method": "av", "inputs": "text"}, "inputs"),
+    ],
+)
+def test_calculation_bad_input_is_400_naming_the_field(api, db, payload, field):
+    response = api.post("/api/calculations/", payload, format="json")
+    assert response.status_code == 400
+    body = response.json()
+    assert field in body["fields"], body
+    assert body["detail"]
+
+
+def test_calculation_malformed_json_is_400(api, db):
+    response = api.post("/api/calculations/", "{not json", content_type="application/json")
+    assert response.status_code == 400
+    assert "body" in response.json()["fields"]
+
+
+def test_schema_and_docs_are_served(api, db):
+    schema = api.get("/api/schema/", HTTP_ACCEPT="application/vnd.oai.openapi+json")
+    assert schema.status_code == 200
+    assert "/api/calculations/" in schema.json()["paths"]
+    assert api.get("/api/docs/").status_code == 200

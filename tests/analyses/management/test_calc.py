@@ -1,0 +1,70 @@
+"""The calc command: one determination from the command line, bad input named, no traceback."""
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from django.core.management import call_command
+from django.core.management.base import CommandError
+
+ROOT = Path(__file__).resolve().parents[3]
+
+
+def run_manage(*args: str) -> subprocess.CompletedProcess:
+    return subprocess.run(
+        [sys.executable, "manage.py", *args], cwd=ROOT, capture_output=True, text=True, timeout=120
+    )
+
+
+def test_calc_json_gives_value_reported_and_unit(capsys):
+    # AOCS Cd 3-25: SV = (B - S) * c * 56.1 / m = 13.5 * 0.5 * 56.1 / 2.015
+    call_command("calc", "sv", "sample_mass=2015 mg", "sample_volume=11.5", "blank_volume=25", "titrant_concentration=0.5", "--json")
+    out = json.loads(capsys.readouterr().out)
+    assert out["value"] == pytest.approx(13.5 * 0.5 * 56.1 / 2.015, rel=1e-12)
+    assert out["reported"] == "187.9"
+    assert out["unit"] == "mg KOH/g"
+
+
+def test_calc_plain_output_shows_reported_value_and_unit(capsys):
+    # AOCS Cd 8b-90: PV = (S - B) * c * 1000 / m = 5.0 * 0.01 * 1000 / 5.0 = 10.0
+    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "titrant_concentration=0.01")
+    assert capsys.readouterr().out.strip().startswith("10.0 meq O2/kg")
+
+
+@pytest.mark.parametrize(
+    "args, field",
+    [
+        (["sv", "sample_mass=2 mL", "sample_volume=11.5", "blank_volume=25", "titrant_concentration=0.5"], "sample_mass"),
+        (["sv", "sample_mass=0", "sample_volume=11.5", "blank_volume=25", "titrant_concentration=0.5"], "sample_mass"),
+        (["iv", "sample_mass=0.2", "sample_volume=50", "blank_volume=45", "titrant_concentration=0.1"], "sample_volume"),
+        (["av", "sample_mass=10", "sample_volume=-1", "titrant_concentration=0.1"], "sample_volume"),
+        (["av", "sample_mass=10", "sample_volume=1", "titrant_concentration=0"], "titrant_concentration"),
+        (["ffa", "sample_mass=10", "sample_volume=1", "titrant_concentration=0.1", "fatty_acid_basis=stearic"], "fatty_acid_basis"),
+    ],
+)
+def test_calc_bad_input_names_the_field(args, field):
+    with pytest.raises(CommandError) as caught:
+        call_command("calc", *args)
+    assert str(caught.value).startswith(f"{field}:")
+
+
+def test_calc_process_exits_non_zero_with_one_line_and_no_traceback():
+    done = run_manage("calc", "sv", "sample_mass=2 mL", "sample_volume=11.5", "blank_volume=25", "titrant_concentration=0.5")
+    assert done.returncode != 0
+    lines = [line for line in done.stderr.splitlines() if line.strip()]
+    assert len(lines) == 1, done.stderr
+    assert "sample_mass" in lines[0]
+    assert "Traceback" not in done.stderr
+
+
+def test_calc_unknown_method_exits_non_zero():
+    done = run_manage("calc", "xyz", "sample_mass=1")
+    assert done.returncode != 0
+    assert "unknown method 'xyz'" in done.stderr
+    assert "Traceback" not in done.stderr
+
+
+def test_calc_rejects_an_argument_without_equals_sign():
+    with pytest.raises(CommandError, match="expected name=value"):
+        call_command("calc", "sv", "sample_mass")

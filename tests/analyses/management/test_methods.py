@@ -1,0 +1,22 @@
+"""The methods command lists every registered plugin."""
+import json
+
+from django.core.management import call_command
+
+
+def test_methods_json_lists_the_five_titrations(capsys):
+    call_command("methods", "--json")
+    listed = json.loads(capsys.readouterr().out)
+    assert [m["code"] for m in listed] == ["av", "ffa", "iv", "pv", "sv"]
+    sv = next(m for m in listed if m["code"] == "sv")
+    assert sv["standards"] == ["AOCS Cd 3-25", "ISO 3657"]
+    assert sv["result_unit"] == "mg KOH/g"
+    assert {i["name"] for i in sv["inputs"]} == {"sample_mass", "sample_volume", "blank_volume", "titrant_concentration"}
+
+
+def test_methods_text_shows_code_title_unit_standards_and_inputs(capsys):
+    call_command("methods")
+    out = capsys.readouterr().out
+    assert "iv    Iodine value (Wijs)  [g I2/100 g]" in out
+    assert "AOCS Cd 1d-92; ISO 3961" in out
+    assert "titrant_concentration (mol/L)" in out
