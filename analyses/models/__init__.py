@@ -1,0 +1,49 @@
+"""The analyses domain models, one module per topic."""
+from analyses.models.audit import AuditAction, AuditChainHead, AuditEntry
+from analyses.models.certificates import Certificate
+from analyses.models.immutable import AppendOnlyModel, ImmutableRowError
+from analyses.models.investigations import Conclusion, Investigation, InvestigationState
+from analyses.models.lots import Lot, LotOrigin, LotState
+from analyses.models.products import Product
+from analyses.models.results import Result, ResultStatus
+from analyses.models.samples import Sample, SampleKind, SampleState
+from analyses.models.specifications import Comparison, Specification, SpecificationLine, SpecificationStatus
+from analyses.models.testing import (
+    OPEN_TEST_STATES,
+    WORKABLE_TEST_STATES,
+    Priority,
+    Test,
+    TestState,
+    Verdict,
+)
+
+__all__ = [
+    "OPEN_TEST_STATES",
+    "WORKABLE_TEST_STATES",
+    "AppendOnlyModel",
+    "AuditAction",
+    "AuditChainHead",
+    "AuditEntry",
+    "Certificate",
+    "Comparison",
+    "Conclusion",
+    "ImmutableRowError",
+    "Investigation",
+    "InvestigationState",
+    "Lot",
+    "LotOrigin",
+    "LotState",
+    "Priority",
+    "Product",
+    "Result",
+    "ResultStatus",
+    "Sample",
+    "SampleKind",
+    "SampleState",
+    "Specification",
+    "SpecificationLine",
+    "SpecificationStatus",
+    "Test",
+    "TestState",
+    "Verdict",
+]

@@ -1,0 +1,94 @@
+"""Roles as Django groups, and the permissions each holds.
+
+Services check permissions (``user.has_perm``), never group names, except for the
+segregation-of-duties rule that a QA reviewer never enters or corrects raw data.
+``roles_ensure()`` creates or repairs the groups; migration 0002 does the same at
+install time.
+"""
+from __future__ import annotations
+
+from django.contrib.auth.models import Group, Permission
+from django.contrib.contenttypes.models import ContentType
+from django.db import transaction
+
+LAB_MANAGER = "lab_manager"
+ANALYST = "analyst"
+QA_REVIEWER = "qa_reviewer"
+ADMIN = "admin"
+ROLES: tuple[str, ...] = (LAB_MANAGER, ANALYST, QA_REVIEWER, ADMIN)
+
+# permission codename -> model that declares it (all in the "analyses" app)
+PERMISSION_MODELS: dict[str, str] = {
+    "add_product": "product",
+    "draft_specification": "specification",
+    "approve_specification": "specification",
+    "create_lot": "lot",
+    "release_lot": "lot",
+    "register_sample": "sample",
+    "receive_sample": "sample",
+    "hold_sample": "sample",
+    "cancel_sample": "sample",
+    "assign_test": "test",
+    "review_test": "test",
+    "record_result": "test",
+    "record_any_result": "test",
+    "close_investigation": "investigation",
+    "view_audit_trail": "auditentry",
+}
+
+ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
+    LAB_MANAGER: (
+        "add_product",
+        "draft_specification",
+        "create_lot",
+        "register_sample",
+        "receive_sample",
+        "hold_sample",
+        "cancel_sample",
+        "assign_test",
+        "review_test",
+        "view_audit_trail",
+    ),
+    ANALYST: ("record_result", "review_test"),
+    QA_REVIEWER: (
+        "draft_specification",
+        "approve_specification",
+        "release_lot",
+        "hold_sample",
+        "review_test",
+        "close_investigation",
+        "view_audit_trail",
+    ),
+    ADMIN: tuple(PERMISSION_MODELS),
+}
+
+
+def permission_label(codename: str) -> str:
+    """The form ``user.has_perm`` takes: "analyses.<codename>"."""
+    return f"analyses.{codename}"
+
+
+@transaction.atomic
+def roles_ensure() -> dict[str, Group]:
+    """Create the four role groups with exactly their permissions; safe to run again."""
+    groups: dict[str, Group] = {}
+    for role, codenames in ROLE_PERMISSIONS.items():
+        group, _ = Group.objects.get_or_create(name=role)
+        permissions = []
+        for codename in codenames:
+            content_type = ContentType.objects.get_by_natural_key("analyses", PERMISSION_MODELS[codename])
+            permission, _ = Permission.objects.get_or_create(
+                content_type=content_type, codename=codename, defaults={"name": codename.replace("_", " ")}
+            )
+            permissions.append(permission)
+        group.permissions.set(permissions)
+        groups[role] = group
+    return groups
+
+
+def user_roles(user) -> list[str]:
+    """The role names of ``user`` (superusers count as admin)."""
+    names = set(user.groups.filter(name__in=ROLES).values_list("name", flat=True))
+    if user.is_superuser:
+        names.add(ADMIN)
+    return sorted(names)
