@@ -38,12 +38,13 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from decimal import ROUND_HALF_EVEN, Decimal
+from decimal import ROUND_HALF_EVEN, Context, Decimal, localcontext
 from typing import Any, ClassVar
 
 from plugins.units import UnitProblem, to_magnitude
 
 ENTRY_POINT_GROUP = "oleotrace.methods"
+_ROUNDING_DIGITS = 320  # enough for any finite float written out in full
 
 
 class MethodInputError(ValueError):
@@ -200,7 +201,9 @@ class MethodResult:
 def round_half_even(value: float, decimals: int) -> Decimal:
     """ASTM E29 rounding: half to even, on the value as written (so 21.45 -> 21.4 at 1 place)."""
     quantum = Decimal(1).scaleb(-decimals)
-    return Decimal(repr(float(value))).quantize(quantum, rounding=ROUND_HALF_EVEN)
+    # The default 28 digits cannot hold a large float to ``decimals`` places (1e30 at 0.1).
+    with localcontext(Context(prec=_ROUNDING_DIGITS + decimals)):
+        return Decimal(repr(float(value))).quantize(quantum, rounding=ROUND_HALF_EVEN)
 
 
 class MethodPlugin:
@@ -246,7 +249,7 @@ class MethodPlugin:
         values: dict[str, Any] = {}
         for spec in self.inputs:
             given = raw.get(spec.name)
-            if given is None or given == "":
+            if given is None or (isinstance(given, str) and not given.strip()):
                 if spec.default is not None:
                     given = spec.default
                 elif spec.required:

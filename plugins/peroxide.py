@@ -10,8 +10,27 @@ from collections.abc import Mapping
 from typing import Any
 
 from plugins import codex
-from plugins.contract import MethodPlugin, Repeatability, WorkedExample
+from plugins.contract import MethodPlugin, QuantityInput, Repeatability, WorkedExample
 from plugins.titration import blank_volume, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
+
+DICHROMATE_FACTOR = 20.394  # AOCS Cd 8b-90: c = 20.394 x g K2Cr2O7 / mL of thiosulfate
+
+_DICHROMATE_MASS = QuantityInput(
+    "dichromate_mass", "g", "Potassium dichromate weighed for the standardisation", minimum=0.0, minimum_inclusive=False
+)
+_STANDARDISATION_TITRE = QuantityInput(
+    "thiosulfate_volume", "mL", "Sodium thiosulfate titre for that dichromate", minimum=0.0, minimum_inclusive=False
+)
+
+
+def thiosulfate_concentration(dichromate_mass: Any, thiosulfate_volume: Any) -> float:
+    """Sodium thiosulfate concentration (mol/L) standardised on potassium dichromate, AOCS Cd 8b-90.
+
+    Takes numbers (g, mL) or quantity strings; a bad value raises MethodInputError naming it.
+    """
+    mass = _DICHROMATE_MASS.parse(dichromate_mass)
+    volume = _STANDARDISATION_TITRE.parse(thiosulfate_volume)
+    return DICHROMATE_FACTOR * mass / volume
 
 
 class PeroxideValue(MethodPlugin):
@@ -38,9 +57,9 @@ class PeroxideValue(MethodPlugin):
             source="AOCS Cd 8b-90 formula applied by hand: 12.45 mL x 0.002 mol/L x 1000 / 5.0 g = 4.98",
         ),
         WorkedExample(
-            {"sample_mass": 5.0, "sample_volume": 5.0, "blank_volume": 0.0, "titrant_concentration": 0.01},
-            expected=10.0,
-            source="AOCS Cd 8b-90: 5.0 mL of 0.01 mol/L on 5 g is 0.05 meq in 5 g, 10.0 meq O2/kg",
+            {"sample_mass": 5.0, "sample_volume": 10.0, "blank_volume": 0.0, "titrant_concentration": 0.01},
+            expected=20.0,
+            source="AOCS Cd 8b-90, 0.01 mol/L above PV 12: 10.0 mL of 0.01 mol/L on 5 g is 0.1 meq in 5 g, 20.0 meq O2/kg",
         ),
     )
     cautions = (

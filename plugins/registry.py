@@ -17,7 +17,7 @@ import pint
 from plugins.contract import (
     ENTRY_POINT_GROUP,
     ChoiceInput,
-    MethodInputError,
+    MethodInputError,  # noqa: F401  (kept importable from here)
     MethodPlugin,
     QuantityInput,
 )
@@ -57,7 +57,10 @@ class PluginRegistry:
             except Exception as exc:  # any import failure leaves the plugin out, never the service
                 self._reject(label, f"failed to import: {type(exc).__name__}: {exc}")
                 continue
-            problem = plugin_problem(plugin_class)
+            try:
+                problem = plugin_problem(plugin_class)
+            except Exception as exc:  # a plugin that breaks the check itself is as broken as one that fails it
+                problem = f"failed the contract check: {type(exc).__name__}: {exc}"
             if problem is None and plugin_class.code in self._plugins:
                 problem = f"repeats method code {plugin_class.code!r}, already registered"
             if problem:
@@ -98,8 +101,16 @@ def plugin_problem(plugin_class: object) -> str | None:
         return f"code {plugin_class.code!r} must be a short lower-case identifier"
     if not plugin_class.result_unit:
         return "lacks a result unit"
-    if not plugin_class.inputs:
+    decimals = plugin_class.decimals
+    if not isinstance(decimals, int) or isinstance(decimals, bool) or decimals < 0:
+        return f"decimals {decimals!r} must be a whole number of places, 0 or more"
+    if isinstance(plugin_class.standards, str) or not plugin_class.standards:
+        return "names no standards (a tuple such as ('AOCS Cd 3-25',))"
+    if not isinstance(plugin_class.inputs, (tuple, list)) or not plugin_class.inputs:
         return "declares no inputs"
+    for spec in plugin_class.inputs:
+        if not isinstance(spec, (QuantityInput, ChoiceInput)):
+            return f"input {spec!r} is neither a QuantityInput nor a ChoiceInput"
     names = [spec.name for spec in plugin_class.inputs]
     if len(set(names)) != len(names):
         return "declares an input name twice"
@@ -111,18 +122,22 @@ def plugin_problem(plugin_class: object) -> str | None:
                 unit_registry().Unit(spec.unit)
             except (pint.errors.PintError, ValueError, AttributeError, TypeError):
                 return f"input {spec.name!r} has unit {spec.unit!r}, which pint does not know"
-        elif not isinstance(spec, ChoiceInput):
-            return f"input {spec!r} is neither a QuantityInput nor a ChoiceInput"
     if plugin_class.compute is MethodPlugin.compute:
         return "does not implement compute()"
+    for limit in plugin_class.spec_limits:
+        if not getattr(limit, "source", None):
+            return f"spec limit {limit!r} names no source"
     if not plugin_class.examples:
         return "ships no worked examples"
+    for number, example in enumerate(plugin_class.examples, start=1):
+        if not getattr(example, "source", None):
+            return f"worked example {number} names no source"
     plugin = plugin_class()
     for number, example in enumerate(plugin_class.examples, start=1):
         try:
             result = plugin.calculate(example.inputs)
-        except (MethodInputError, ArithmeticError, TypeError, ValueError) as exc:
-            return f"worked example {number} ({example.source}) raised {exc}"
+        except Exception as exc:  # whatever compute() raises, the plugin is left out, not the service
+            return f"worked example {number} ({example.source}) raised {type(exc).__name__}: {exc}"
         if not math.isclose(result.value, example.expected, rel_tol=0, abs_tol=example.tolerance):
             return (
                 f"fails its worked example {number} ({example.source}): "

@@ -1,11 +1,27 @@
-"""Unit handling through pint: a bare number is taken in the default unit."""
+"""Unit handling through pint: a bare number is taken in the default unit.
+
+A quantity string is read as a number followed by a unit ("2015 mg", "0.5 mol/L"). The
+unit is checked against a small grammar before pint sees it, because pint evaluates
+arithmetic in the text: "9**9**9 g" would tie up the process for minutes.
+"""
 from __future__ import annotations
 
+import re
+from decimal import Decimal
 from functools import lru_cache
 from numbers import Real
 from typing import Any
 
 import pint
+
+MAX_TEXT_LENGTH = 64
+
+# A number, optionally signed, with an optional exponent: 2, 2.5, .5, 1e-3.
+_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+# A unit word with at most one small exponent (mL, cm**3, m^2); words joined by / * · or spaces.
+_WORD = r"[^\W\d_]+(?:(?:\*\*|\^)[+-]?\d{1,2})?"
+_UNIT = rf"{_WORD}(?:\s*[/*·]\s*{_WORD}|\s+{_WORD})*"
+_QUANTITY = re.compile(rf"\s*(?P<number>{_NUMBER})\s*(?P<unit>{_UNIT})\s*")
 
 
 class UnitProblem(ValueError):
@@ -23,27 +39,36 @@ def dimensionality(unit: str) -> Any:
 
 def to_magnitude(raw: Any, unit: str) -> float:
     """Convert ``raw`` (a number, or a string such as "2015 mg") to a float in ``unit``."""
-    ureg = registry()
     if isinstance(raw, bool):
         raise UnitProblem(f"must be a number or a quantity in {unit}, got {raw!r}")
-    if isinstance(raw, Real):
-        return float(raw)
+    if isinstance(raw, (Real, Decimal)):
+        try:
+            return float(raw)
+        except (OverflowError, ValueError, TypeError):
+            raise UnitProblem(f"is too large to be a quantity in {unit}") from None
     if not isinstance(raw, str):
         raise UnitProblem(f"must be a number or a quantity string such as '2 {unit}', got {raw!r}")
+    if len(raw) > MAX_TEXT_LENGTH:
+        raise UnitProblem(f"is longer than {MAX_TEXT_LENGTH} characters; give a number and a unit such as '2 {unit}'")
     text = raw.strip()
+    if "," in text:
+        # "1,5 g" is 1.5 g in much of Europe and 15 g to pint: refuse rather than guess.
+        raise UnitProblem(f"contains a comma; write the number with a decimal point, e.g. '1.5 {unit}'")
     try:
         return float(text)
     except ValueError:
         pass
+    match = _QUANTITY.fullmatch(text)
+    if match is None:
+        raise UnitProblem(f"cannot read {raw!r} as a quantity in {unit}; give a number and a unit such as '2 {unit}'")
+    ureg = registry()
     try:
-        quantity = ureg.Quantity(text)
-    except (pint.errors.PintError, ValueError, TypeError, AttributeError, SyntaxError, KeyError, AssertionError):
-        raise UnitProblem(f"cannot read {raw!r} as a quantity in {unit}") from None
-    if not isinstance(quantity, ureg.Quantity):
-        return float(quantity)
-    if quantity.dimensionless and quantity.units == ureg.dimensionless:
-        return float(quantity.magnitude)
+        given_unit = ureg.Unit(match["unit"])
+    except (pint.errors.PintError, ValueError, TypeError, AttributeError, KeyError):
+        raise UnitProblem(f"has unit {match['unit']!r}, which is not a known unit") from None
     try:
-        return float(quantity.to(unit).magnitude)
+        return float(ureg.Quantity(float(match["number"]), given_unit).to(unit).magnitude)
     except pint.errors.DimensionalityError:
-        raise UnitProblem(f"has unit '{quantity.units:~}', which cannot be converted to {unit}") from None
+        raise UnitProblem(f"has unit {match['unit']!r}, which cannot be converted to {unit}") from None
+    except (pint.errors.PintError, OverflowError, ArithmeticError):
+        raise UnitProblem(f"cannot be converted to {unit}") from None
