@@ -15,10 +15,12 @@ from analyses.errors import InvalidInput
 from analyses.trends.episodes import RuleMarks, episode_table
 from analyses.trends.ewma import DEFAULT_SMOOTHING, DEFAULT_WIDTH, check_parameters, ewma_marks
 from analyses.trends.layout import SeriesLayout, layout_from_codes
+from analyses.trends.out_of_trend import DEFAULT_LEVEL, DEFAULT_WINDOW, check_trend_parameters, out_of_trend_marks
 from analyses.trends.run_rules import nelson_marks
 from analyses.trends.westgard import MINIMUM_BASELINE_POINTS, run_codes, westgard_marks
 
 FAMILIES = ("westgard", "nelson", "ewma")
+OPTIONAL_FAMILIES = ("out_of_trend",)
 SCAN_COLUMNS = [
     "series_id", "rule", "side", "first", "last", "first_sequence", "last_sequence", "n_points", "points", "key",
 ]
@@ -32,19 +34,22 @@ def series_scan(
     families: Collection[str] = FAMILIES,
     ewma_smoothing: float = DEFAULT_SMOOTHING,
     ewma_width: float = DEFAULT_WIDTH,
+    trend_window: int = DEFAULT_WINDOW,
+    trend_level: float = DEFAULT_LEVEL,
 ) -> pd.DataFrame:
     """Episodes of every rule in ``families`` on every series of ``results``.
 
     ``results`` has columns series_id, sequence (number or time), value and optionally
     run_id. ``limits`` has series_id (column or index), mean and sd; without it each
-    series' first ``baseline_points`` results set its mean and SD.
+    series' first ``baseline_points`` results set its mean and SD. The optional family
+    "out_of_trend" (see ``out_of_trend``) needs a numeric or datetime sequence (days).
 
     Returns one row per episode (``SCAN_COLUMNS``): ``first``/``last``/``points`` are
     0-based positions in the series, ``first_sequence``/``last_sequence`` the sequence
     values there, and ``key`` = "series_id|rule|first_sequence", stable when results
     are appended, for deduplicating alerts.
     """
-    unknown = set(families) - set(FAMILIES)
+    unknown = set(families) - set(FAMILIES) - set(OPTIONAL_FAMILIES)
     if unknown:
         raise InvalidInput.for_field("families", f"unknown rule families: {sorted(unknown)}")
     smoothing, width = check_parameters(ewma_smoothing, ewma_width)
@@ -65,6 +70,10 @@ def series_scan(
         marks += nelson_marks(values, z, layout)
     if "ewma" in families:
         marks += ewma_marks(z, layout, smoothing, width)
+    if "out_of_trend" in families:
+        window, level = check_trend_parameters(trend_window, trend_level)
+        times = _elapsed(ordered["sequence"], layout)
+        marks += out_of_trend_marks(times, values, layout, window, level)
     return _scan_table(episode_table(marks, layout), ordered["sequence"].to_numpy(), series_ids)
 
 
@@ -86,6 +95,17 @@ def _ordered(results: pd.DataFrame) -> tuple[pd.DataFrame, np.ndarray]:
     if np.any((code[1:] == code[:-1]) & (sequence[1:] == sequence[:-1])):
         raise InvalidInput.for_field("sequence", "repeats within a series")
     return frame, np.asarray(series_ids)
+
+
+def _elapsed(sequence: pd.Series, layout: SeriesLayout) -> np.ndarray:
+    """Time since each series' first result: days for datetimes, the sequence itself otherwise."""
+    if pd.api.types.is_datetime64_any_dtype(sequence):
+        numbers = (sequence - sequence.min()).dt.total_seconds().to_numpy() / 86400.0
+    elif pd.api.types.is_numeric_dtype(sequence):
+        numbers = sequence.to_numpy(dtype=float)
+    else:
+        raise InvalidInput.for_field("sequence", "must be numbers or datetimes for the out-of-trend rule")
+    return numbers - np.repeat(numbers[layout.starts], layout.counts)
 
 
 def _baseline_limits(
