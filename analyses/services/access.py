@@ -1,0 +1,55 @@
+"""Permission checks and object look-ups shared by the services."""
+from __future__ import annotations
+
+from typing import TypeVar
+
+from django.contrib.auth.models import AbstractBaseUser, AnonymousUser
+from django.db import models
+
+from analyses.errors import InvalidInput, NotAllowed, NotFound
+from analyses.roles import QA_REVIEWER, permission_label
+
+Actor = AbstractBaseUser | AnonymousUser | None
+ModelT = TypeVar("ModelT", bound=models.Model)
+
+
+def actor_name(actor: Actor) -> str:
+    return getattr(actor, "username", None) or "anonymous"
+
+
+def require_permission(actor: Actor, codename: str, doing: str) -> None:
+    """Raise NotAllowed unless ``actor`` is an active user holding analyses.<codename>."""
+    if actor is None or not actor.is_authenticated or not actor.has_perm(permission_label(codename)):
+        raise NotAllowed(f"{actor_name(actor)} may not {doing}")
+
+
+def refuse_raw_data_edit_by_qa(actor: Actor) -> None:
+    """Segregation of duties: a QA reviewer (who is not an admin) never enters or corrects
+    raw data, whatever other groups they are in."""
+    if actor is None or getattr(actor, "is_superuser", False):
+        return
+    groups = set(actor.groups.values_list("name", flat=True))
+    if QA_REVIEWER in groups and not actor.has_perm(permission_label("record_any_result")):
+        raise NotAllowed(f"{actor_name(actor)} is a QA reviewer and may not enter or correct results")
+
+
+def fetch(model: type[ModelT], ref: ModelT | int | str, *, lock: bool = False, label: str | None = None) -> ModelT:
+    """The row ``ref`` (an instance or a primary key), fresh from the database; with
+    ``lock`` it is locked (SELECT ... FOR UPDATE) until the transaction ends."""
+    name = label or model._meta.verbose_name
+    pk = ref.pk if isinstance(ref, model) else ref
+    queryset = model.objects.select_for_update() if lock else model.objects.all()
+    try:
+        return queryset.get(pk=pk)
+    except (model.DoesNotExist, ValueError, TypeError):
+        raise NotFound(f"{name} {pk} not found") from None
+
+
+def required_text(value: str | None, field: str) -> str:
+    """``value`` stripped; InvalidInput naming ``field`` when it is empty."""
+    text = (value or "").strip() if isinstance(value, str) or value is None else None
+    if text is None:
+        raise InvalidInput.for_field(field, "must be text")
+    if not text:
+        raise InvalidInput.for_field(field, "is required")
+    return text

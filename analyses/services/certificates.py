@@ -1,0 +1,110 @@
+"""The certificate of analysis issued when a lot is released (stored, never changed)."""
+from __future__ import annotations
+
+import hashlib
+import json
+from typing import Any
+
+from django.utils import timezone
+
+from analyses.audit import audit_append, json_safe
+from analyses.models import AuditAction, Certificate, Lot, ResultStatus, Specification, TestState
+from analyses.services.access import Actor
+from analyses.services.release import release_samples
+from plugins.registry import UnknownMethod, get_registry
+
+DECISION_RULE = (
+    "Each result is the mean of its replicates, reported by ASTM E29 rounding (half to even). "
+    "Conformity is judged against each limit by the ASTM E29 method the specification line names: "
+    "absolute (unrounded value) or rounding (value rounded to the limit's places). Simple acceptance, "
+    "no guard band for measurement uncertainty."
+)
+
+
+def _method_facts(code: str) -> dict[str, Any]:
+    try:
+        plugin = get_registry().get(code)
+    except UnknownMethod:
+        return {"method_title": code, "standards": []}
+    return {"method_title": plugin.title, "standards": list(plugin.standards)}
+
+
+def certificate_content(actor: Actor, lot: Lot, issued_at) -> dict[str, Any]:
+    results = []
+    specification_ids: set[int] = set()
+    for sample in release_samples(lot):
+        for test in sample.live_tests:
+            if test.state != TestState.ACCEPTED:
+                continue
+            line = test.specification_line
+            specification_ids.add(line.specification_id)
+            replicates = test.results.filter(status=ResultStatus.CURRENT).order_by("replicate")
+            results.append(
+                {
+                    "sample": sample.label,
+                    "sample_kind": sample.kind,
+                    "test": test.pk,
+                    "method": test.method_code,
+                    **_method_facts(test.method_code),
+                    "method_versions": sorted({r.method_version for r in replicates}),
+                    "replicates": [r.reported for r in replicates],
+                    "reported": test.reported,
+                    "unit": test.unit,
+                    "minimum": line.minimum or None,
+                    "maximum": line.maximum or None,
+                    "comparison": line.comparison,
+                    "release_critical": line.release_critical,
+                    "verdict": test.verdict,
+                    "duplicate_check": test.duplicate_check,
+                    "accepted_by": test.reviewed_by.username if test.reviewed_by_id else None,
+                    "accepted_at": test.reviewed_at,
+                }
+            )
+    specifications = Specification.objects.filter(pk__in=specification_ids).select_related("approved_by").order_by("version")
+    return json_safe(
+        {
+            "certificate_number": f"COA-{lot.code}",
+            "lot": {
+                "code": lot.code,
+                "origin": lot.origin,
+                "supplier": lot.supplier or None,
+                "container_ref": lot.container_ref or None,
+                "quantity_kg": lot.quantity_kg,
+                "produced_on": lot.produced_on,
+            },
+            "product": {"code": lot.product.code, "name": lot.product.name, "oil_type": lot.product.oil_type},
+            "specifications": [
+                {
+                    "version": s.version,
+                    "effective_from": s.effective_from,
+                    "approved_by": s.approved_by.username if s.approved_by_id else None,
+                    "approved_at": s.approved_at,
+                }
+                for s in specifications
+            ],
+            "results": results,
+            "decision_rule": DECISION_RULE,
+            "released_by": actor.username,
+            "released_at": issued_at,
+        }
+    )
+
+
+def certificate_issue(actor: Actor, lot: Lot) -> Certificate:
+    """Build, store and record the certificate of a lot being released."""
+    issued_at = timezone.now()
+    content = certificate_content(actor, lot, issued_at)
+    digest = hashlib.sha256(json.dumps(content, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
+    certificate = Certificate.objects.create(
+        lot=lot,
+        number=content["certificate_number"],
+        content=content,
+        content_sha256=digest,
+        issued_by=actor,
+        issued_at=issued_at,
+    )
+    audit_append(
+        actor, AuditAction.CREATE, certificate,
+        {"number": [None, certificate.number], "content_sha256": [None, digest]}, lot_ref=lot.pk,
+    )
+    return certificate

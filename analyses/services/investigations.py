@@ -1,0 +1,112 @@
+"""Closing out-of-specification investigations (QA).
+
+confirmed  the result stands: the lot is rejected (its open samples rejected, open tests
+           cancelled).
+lab_error  the accepted test is invalidated with its results (kept, marked invalidated),
+           and a retest is created: a NEW pending test on the same sample and
+           specification line, with ``retest_of`` pointing at the invalidated one, for the
+           manager to assign. The sample returns to in_testing.
+"""
+from __future__ import annotations
+
+import datetime as dt
+
+from django.db import transaction
+from django.utils import timezone
+
+from analyses.audit import audit_append, created
+from analyses.errors import Conflict, InvalidInput
+from analyses.models import (
+    AuditAction,
+    Conclusion,
+    Investigation,
+    InvestigationState,
+    Lot,
+    LotState,
+    ResultStatus,
+    Sample,
+    Test,
+    TestState,
+)
+from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.lots import lot_reject_locked
+from analyses.services.samples import TEST_FIELDS
+from analyses.services.transitions import record_test_move, sample_sync
+
+
+def _retest(actor: Actor, test: Test, findings: str) -> Test:
+    for result in test.results.select_for_update().filter(status=ResultStatus.CURRENT):
+        result.status = ResultStatus.INVALIDATED
+        result.status_reason = f"lab error: {findings}"
+        result.save(update_fields=["status", "status_reason"])
+        audit_append(
+            actor, AuditAction.TRANSITION, result, {"status": [ResultStatus.CURRENT, ResultStatus.INVALIDATED]},
+            reason=findings, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
+        )
+    record_test_move(actor, test, TestState.INVALIDATED, reason=f"lab error: {findings}")
+    test.save(update_fields=["state"])
+    retest = Test.objects.create(
+        sample=test.sample,
+        specification_line=test.specification_line,
+        method_code=test.method_code,
+        replicates=test.replicates,
+        priority=test.priority,
+        due_on=timezone.localdate() + dt.timedelta(days=test.specification_line.turnaround_days),
+        retest_of=test,
+        created_at=timezone.now(),
+    )
+    audit_append(
+        actor, AuditAction.CREATE, retest, created(retest, TEST_FIELDS),
+        reason=f"retest of test {test.pk} after lab error", lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
+    )
+    return retest
+
+
+def investigation_close(
+    actor: Actor, investigation: Investigation | int, *, conclusion: str, findings: str
+) -> Investigation:
+    """QA closes an open investigation with ``conclusion`` ("confirmed" or "lab_error") and
+    mandatory ``findings``. Needs ``close_investigation`` (QA, admin)."""
+    require_permission(actor, "close_investigation", "close OOS investigations")
+    if conclusion not in Conclusion.values:
+        raise InvalidInput.for_field("conclusion", f"must be one of {', '.join(Conclusion.values)}")
+    findings = required_text(findings, "findings")
+    pk = investigation.pk if isinstance(investigation, Investigation) else investigation
+    lot_id = Investigation.objects.filter(pk=pk).values_list("lot_id", flat=True).first()
+    if lot_id is None:
+        fetch(Investigation, pk)  # raises NotFound
+    with transaction.atomic():
+        lot = fetch(Lot, lot_id, lock=True)
+        investigation = fetch(Investigation, pk, lock=True)
+        if investigation.state != InvestigationState.OPEN:
+            raise Conflict(f"investigation {investigation.pk} is already closed ({investigation.conclusion})")
+        test = Test.objects.select_related("sample", "specification_line").get(pk=investigation.test_id)
+        retest = None
+        if conclusion == Conclusion.LAB_ERROR:
+            if lot.state != LotState.OPEN:
+                raise Conflict(f"lot {lot.code} is {lot.state}; a retest is no longer possible")
+            Sample.objects.select_for_update().get(pk=test.sample_id)
+            Test.objects.select_for_update().get(pk=test.pk)
+            retest = _retest(actor, test, findings)
+        investigation.state = InvestigationState.CLOSED
+        investigation.conclusion = conclusion
+        investigation.findings = findings
+        investigation.closed_by = actor
+        investigation.closed_at = timezone.now()
+        investigation.retest = retest
+        investigation.save(update_fields=["state", "conclusion", "findings", "closed_by", "closed_at", "retest"])
+        audit_append(
+            actor, AuditAction.TRANSITION, investigation,
+            {
+                "state": [InvestigationState.OPEN, InvestigationState.CLOSED],
+                "conclusion": ["", conclusion],
+                "retest": [None, retest.pk if retest else None],
+            },
+            reason=findings, lot_ref=lot.pk, sample_ref=test.sample_id,
+        )
+        if conclusion == Conclusion.CONFIRMED and lot.state == LotState.OPEN:
+            lot_reject_locked(actor, lot, f"OOS confirmed by investigation {investigation.pk}: {findings}")
+        elif retest is not None:
+            sample = Sample.objects.get(pk=test.sample_id)
+            sample_sync(actor, sample, reason=f"retest {retest.pk} created")
+    return investigation

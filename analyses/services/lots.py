@@ -1,0 +1,127 @@
+"""Lots: creation, release (with its certificate of analysis) and rejection by QA."""
+from __future__ import annotations
+
+import datetime as dt
+from decimal import Decimal, InvalidOperation
+from django.db import transaction
+from django.utils import timezone
+
+from analyses.audit import audit_append, created
+from analyses.errors import Conflict, InvalidInput
+from analyses.models import (
+    AuditAction,
+    Certificate,
+    Lot,
+    LotOrigin,
+    LotState,
+    Product,
+    SampleState,
+)
+from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.certificates import certificate_issue
+from analyses.services.release import release_blockers
+from analyses.services.transitions import sample_move, cancel_open_tests
+
+LOT_FIELDS = ("code", "product", "origin", "supplier", "container_ref", "quantity_kg", "produced_on", "state")
+
+
+def lot_create(
+    actor: Actor,
+    *,
+    code: str,
+    product: Product | int,
+    origin: str,
+    supplier: str = "",
+    container_ref: str = "",
+    quantity_kg: Decimal | str | None = None,
+    produced_on: dt.date | None = None,
+) -> Lot:
+    """A production lot, or an incoming delivery (``origin="delivery"``, which needs the
+    supplier and the tank or container reference). Needs ``create_lot`` (lab manager, admin)."""
+    require_permission(actor, "create_lot", "create lots")
+    code = required_text(code, "code")
+    if origin not in LotOrigin.values:
+        raise InvalidInput.for_field("origin", f"must be one of {', '.join(LotOrigin.values)}")
+    supplier = (supplier or "").strip()
+    container_ref = (container_ref or "").strip()
+    if origin == LotOrigin.DELIVERY:
+        required_text(supplier, "supplier")
+        required_text(container_ref, "container_ref")
+    quantity: Decimal | None = None
+    if quantity_kg not in (None, ""):
+        try:
+            quantity = Decimal(str(quantity_kg))
+        except InvalidOperation:
+            raise InvalidInput.for_field("quantity_kg", "must be a number") from None
+        if not quantity.is_finite() or quantity <= 0:
+            raise InvalidInput.for_field("quantity_kg", "must be a positive number")
+    if Lot.objects.filter(code=code).exists():
+        raise InvalidInput.for_field("code", f"lot {code!r} already exists")
+    product = fetch(Product, product)
+    with transaction.atomic():
+        lot = Lot.objects.create(
+            code=code,
+            product=product,
+            origin=origin,
+            supplier=supplier,
+            container_ref=container_ref,
+            quantity_kg=quantity,
+            produced_on=produced_on,
+            created_by=actor,
+            created_at=timezone.now(),
+        )
+        audit_append(actor, AuditAction.CREATE, lot, created(lot, LOT_FIELDS), lot_ref=lot.pk)
+    return lot
+
+
+def _decide(actor: Actor, lot: Lot, state: str, reason: str) -> None:
+    old = lot.state
+    lot.state = state
+    lot.decision_reason = reason
+    lot.decided_by = actor
+    lot.decided_at = timezone.now()
+    lot.save(update_fields=["state", "decision_reason", "decided_by", "decided_at"])
+    audit_append(actor, AuditAction.TRANSITION, lot, {"state": [old, state]}, reason=reason, lot_ref=lot.pk)
+
+
+def lot_release(actor: Actor, lot: Lot | int, *, note: str = "") -> Certificate:
+    """QA releases a lot and its certificate of analysis is issued.
+
+    Conflict (with ``missing``) unless every release-critical test of the lot's routine
+    and QC-check samples is accepted and in specification and no investigation is open.
+    Samples whose testing is complete become released. Needs ``release_lot``."""
+    require_permission(actor, "release_lot", "release lots")
+    with transaction.atomic():
+        lot = fetch(Lot, lot, lock=True)
+        if lot.state != LotState.OPEN:
+            raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be released")
+        missing = release_blockers(lot)
+        if missing:
+            raise Conflict(f"lot {lot.code} cannot be released: {len(missing)} item(s) missing", missing=missing)
+        _decide(actor, lot, LotState.RELEASED, (note or "").strip())
+        for sample in lot.samples.select_for_update().filter(state=SampleState.TESTING_COMPLETE):
+            sample_move(actor, sample, SampleState.RELEASED, reason=f"lot {lot.code} released")
+        return certificate_issue(actor, lot)
+
+
+def lot_reject_locked(actor: Actor, lot: Lot, reason: str) -> Lot:
+    """Reject an open, already locked lot: its open samples become rejected and their open
+    tests cancelled. Shared by ``lot_reject`` and a confirmed OOS investigation."""
+    if lot.state != LotState.OPEN:
+        raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be rejected")
+    _decide(actor, lot, LotState.REJECTED, reason)
+    closed = (SampleState.RELEASED, SampleState.REJECTED, SampleState.CANCELLED)
+    for sample in lot.samples.select_for_update().exclude(state__in=closed):
+        cancel_open_tests(actor, sample, reason=f"lot {lot.code} rejected")
+        sample_move(actor, sample, SampleState.REJECTED, reason=f"lot {lot.code} rejected: {reason}")
+    return lot
+
+
+def lot_reject(actor: Actor, lot: Lot | int, *, reason: str) -> Lot:
+    """QA rejects a lot, with a mandatory reason. Needs ``release_lot``."""
+    require_permission(actor, "release_lot", "reject lots")
+    reason = required_text(reason, "reason")
+    with transaction.atomic():
+        lot = fetch(Lot, lot, lock=True)
+        return lot_reject_locked(actor, lot, reason)
+

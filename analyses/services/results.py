@@ -1,0 +1,345 @@
+"""Result entry: one replicate at a time, in bulk, and corrections as new versions.
+
+A result keeps the raw inputs exactly as entered, the plugin's unrounded value, the
+reported value (ASTM E29, ``MethodResult.reported``) and unit, the plugin code and
+version, and its verdict against the specification line. When the last replicate of a
+test arrives, the test gets the mean of its replicates (reported and judged the same way)
+and the plugin's duplicate check, and moves to ``result_entered``.
+
+Idempotency: a result entered with ``idempotency_key`` is returned, not entered again,
+when the same user sends the same key (a unique constraint backs this).
+"""
+from __future__ import annotations
+
+import dataclasses
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+import numpy as np
+from django.db import IntegrityError, transaction
+from django.utils import timezone
+
+from analyses.audit import audit_append, created, json_safe
+from analyses.errors import Conflict, DomainError, InvalidInput, NotAllowed
+from analyses.models import (
+    WORKABLE_TEST_STATES,
+    AuditAction,
+    LotState,
+    Result,
+    ResultStatus,
+    Sample,
+    Test,
+    TestState,
+)
+from analyses.roles import permission_label
+from analyses.services.access import (
+    Actor,
+    actor_name,
+    fetch,
+    refuse_raw_data_edit_by_qa,
+    require_permission,
+    required_text,
+)
+from analyses.services.transitions import record_test_move, sample_require_workable
+from analyses.services.verdicts import line_verdict
+from plugins.contract import MethodInputError, MethodPlugin, MethodResult
+from plugins.registry import UnknownMethod, get_registry
+
+RESULT_FIELDS = (
+    "test", "replicate", "version", "status", "inputs", "value", "reported", "unit",
+    "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
+    "idempotency_key",
+)
+AGGREGATE_FIELDS = ("value", "reported", "unit", "verdict", "duplicate_check")
+BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key"}
+
+
+def _plugin(test: Test) -> MethodPlugin:
+    try:
+        return get_registry().get(test.method_code)
+    except UnknownMethod as exc:
+        raise Conflict(f"test {test.pk}: {exc}") from None
+
+
+def _calculate(plugin: MethodPlugin, test: Test, inputs: Any) -> MethodResult:
+    """The plugin's result for ``inputs``; MethodInputError becomes InvalidInput on
+    ``inputs.<field>``."""
+    if not isinstance(inputs, Mapping):
+        raise InvalidInput.for_field("inputs", "must be an object of name=value pairs")
+    try:
+        outcome = plugin.calculate(inputs)
+    except MethodInputError as exc:
+        field = "inputs" if exc.field == "inputs" else f"inputs.{exc.field}"
+        raise InvalidInput.for_field(field, exc.reason) from None
+    line_unit = test.specification_line.unit
+    if outcome.unit != line_unit:
+        raise InvalidInput.for_field(
+            "inputs", f"these inputs give a result in {outcome.unit}, but the specification limit is in {line_unit}"
+        )
+    return outcome
+
+
+def _clean_key(idempotency_key: str | None) -> str | None:
+    if idempotency_key is None:
+        return None
+    if not isinstance(idempotency_key, str) or not idempotency_key.strip() or len(idempotency_key) > 100:
+        raise InvalidInput.for_field("idempotency_key", "must be 1 to 100 characters")
+    return idempotency_key.strip()
+
+
+def _check_may_enter(actor: Actor, test: Test) -> None:
+    if not actor.has_perm(permission_label("record_any_result")) and test.assignee_id != actor.pk:
+        whom = test.assignee.username if test.assignee_id else "nobody"
+        raise NotAllowed(f"test {test.pk} is assigned to {whom}; {actor_name(actor)} may not enter its results")
+
+
+def lock_test_row(test: Test | int) -> Test:
+    """Lock the sample, then the test (the project's lock order)."""
+    pk = test.pk if isinstance(test, Test) else test
+    sample_id = Test.objects.filter(pk=pk).values_list("sample_id", flat=True).first()
+    if sample_id is not None:
+        Sample.objects.select_for_update().filter(pk=sample_id).first()
+    locked = fetch(Test, pk, lock=True)
+    return Test.objects.select_related("sample__lot", "specification_line", "assignee").get(pk=locked.pk)
+
+
+def _check_workable(test: Test) -> None:
+    if test.state not in WORKABLE_TEST_STATES:
+        raise Conflict(f"test {test.pk} is {test.state}; results can be entered only when it is assigned or sent back")
+    sample_require_workable(test.sample)
+    if test.sample.lot.state != LotState.OPEN:
+        raise Conflict(f"lot {test.sample.lot.code} is {test.sample.lot.state}")
+
+
+def _aggregate(plugin: MethodPlugin, test: Test, values: list[float], unit: str) -> dict[str, Any]:
+    """The test's result from its replicates: their mean, reported and judged like a
+    single result, and the plugin's duplicate check (repeatability)."""
+    mean = float(np.mean(values))
+    check = plugin.duplicate_check(values)
+    return {
+        "value": mean,
+        "reported": str(plugin.report(mean)),
+        "unit": unit,
+        "verdict": line_verdict(mean, test.specification_line),
+        "duplicate_check": json_safe(dataclasses.asdict(check)),
+    }
+
+
+def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | None, *, reason: str) -> None:
+    """Store (or clear, with None) the test's aggregate fields, recording the change."""
+    before = {name: getattr(test, name) for name in AGGREGATE_FIELDS}
+    cleared = {"value": None, "reported": "", "unit": "", "verdict": "", "duplicate_check": None}
+    after = aggregate if aggregate is not None else cleared
+    for name, value in after.items():
+        setattr(test, name, value)
+    changes = {name: [before[name], after[name]] for name in AGGREGATE_FIELDS if before[name] != after[name]}
+    if changes:
+        audit_append(
+            actor, AuditAction.CHANGE, test, changes, reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id
+        )
+
+
+def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Result:
+    """Insert ``result``; a concurrent twin with the same idempotency key wins and is returned."""
+    try:
+        with transaction.atomic():
+            result.save(force_insert=True)
+    except IntegrityError:
+        twin = Result.objects.filter(entered_by=actor, idempotency_key=key).first() if key else None
+        if twin is None:
+            raise Conflict(f"test {test.pk}: replicate {result.replicate} was entered at the same time by someone else") from None
+        if twin.test_id != test.pk:
+            raise Conflict(f"idempotency key {key!r} was already used for test {twin.test_id}") from None
+        return twin
+    return result
+
+
+def result_record(
+    actor: Actor,
+    test: Test | int,
+    *,
+    inputs: Mapping[str, Any],
+    replicate: int | None = None,
+    idempotency_key: str | None = None,
+) -> Result:
+    """Enter one replicate of a test (the next free one, or ``replicate``).
+
+    Only the test's assignee may enter (admins: any test); QA reviewers never. The test
+    must be assigned or sent back, its sample workable and its lot open. Plugin input
+    errors become InvalidInput on ``inputs.<field>``; nothing is written on any error.
+    With ``idempotency_key``, a repeat by the same user returns the first result."""
+    require_permission(actor, "record_result", "enter results")
+    refuse_raw_data_edit_by_qa(actor)
+    key = _clean_key(idempotency_key)
+    if replicate is not None and (isinstance(replicate, bool) or not isinstance(replicate, int)):
+        raise InvalidInput.for_field("replicate", "must be a whole number")
+    with transaction.atomic():
+        test = lock_test_row(test)
+        if key:
+            first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
+            if first is not None:
+                if first.test_id != test.pk:
+                    raise Conflict(f"idempotency key {key!r} was already used for test {first.test_id}")
+                return first
+        _check_may_enter(actor, test)
+        _check_workable(test)
+        current = {r.replicate: r for r in test.results.filter(status=ResultStatus.CURRENT)}
+        if replicate is None:
+            free = [n for n in range(1, test.replicates + 1) if n not in current]
+            if not free:
+                raise Conflict(f"test {test.pk} has all {test.replicates} replicate(s); correct one instead")
+            replicate = free[0]
+        elif not 1 <= replicate <= test.replicates:
+            raise InvalidInput.for_field("replicate", f"must be between 1 and {test.replicates}")
+        elif replicate in current:
+            raise Conflict(f"test {test.pk} already has replicate {replicate} (result {current[replicate].pk}); correct it instead")
+        plugin = _plugin(test)
+        outcome = _calculate(plugin, test, inputs)
+        values = [r.value for r in current.values()] + [outcome.value]
+        complete = len(values) == test.replicates
+        aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
+        result = Result(
+            test=test,
+            replicate=replicate,
+            inputs=json_safe(dict(inputs)),
+            value=outcome.value,
+            reported=str(outcome.reported),
+            unit=outcome.unit,
+            method_code=outcome.code,
+            method_version=outcome.version,
+            verdict=line_verdict(outcome.value, test.specification_line),
+            duplicate_check=aggregate["duplicate_check"] if aggregate else None,
+            entered_by=actor,
+            entered_at=timezone.now(),
+            idempotency_key=key,
+        )
+        inserted = _insert(result, actor=actor, key=key, test=test)
+        if inserted is not result:
+            return inserted
+        audit_append(
+            actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS),
+            lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
+        )
+        if complete:
+            set_test_aggregate(actor, test, aggregate, reason="all replicates entered")
+            record_test_move(actor, test, TestState.RESULT_ENTERED)
+            test.save(update_fields=["state", *AGGREGATE_FIELDS])
+    return result
+
+
+def _prefixed(exc: DomainError, index: int) -> DomainError:
+    """The same error, naming the bulk item: fields become ``results.<i>.<field>``."""
+    prefix = f"results.{index}"
+    if isinstance(exc, InvalidInput):
+        fields = {f"{prefix}.{name}": reasons for name, reasons in exc.fields.items()} or {prefix: [exc.detail]}
+        return InvalidInput(f"{prefix}: {exc.detail}", fields)
+    if isinstance(exc, Conflict):
+        return Conflict(f"{prefix}: {exc.detail}", missing=exc.missing or [prefix])
+    return type(exc)(f"{prefix}: {exc.detail}")
+
+
+def result_record_bulk(actor: Actor, results: Sequence[Mapping[str, Any]]) -> list[Result]:
+    """Enter many results in one transaction, each item ``{"test", "inputs", "replicate"?,
+    "idempotency_key"?}``. All or nothing: the first error rolls everything back and names
+    the item, e.g. InvalidInput with fields ``{"results.2.inputs.sample_mass": [...]}``."""
+    if isinstance(results, (str, bytes, Mapping)) or not isinstance(results, Sequence) or not results:
+        raise InvalidInput.for_field("results", "give a list of at least one result")
+    recorded: list[Result] = []
+    with transaction.atomic():
+        for index, item in enumerate(results):
+            try:
+                if not isinstance(item, Mapping):
+                    raise InvalidInput("must be an object", {})
+                unknown = sorted(set(item) - BULK_ITEM_KEYS)
+                if unknown:
+                    raise InvalidInput.for_field(unknown[0], f"is not a result field (expected: {', '.join(sorted(BULK_ITEM_KEYS))})")
+                if item.get("test") is None:
+                    raise InvalidInput.for_field("test", "is required")
+                recorded.append(
+                    result_record(
+                        actor,
+                        item["test"],
+                        inputs=item.get("inputs"),
+                        replicate=item.get("replicate"),
+                        idempotency_key=item.get("idempotency_key"),
+                    )
+                )
+            except DomainError as exc:
+                raise _prefixed(exc, index) from None
+    return recorded
+
+
+def result_correct(
+    actor: Actor,
+    result: Result | int,
+    *,
+    inputs: Mapping[str, Any],
+    reason: str,
+    idempotency_key: str | None = None,
+) -> Result:
+    """Correct a current result: a new version with the new inputs and the mandatory
+    ``reason`` is inserted and the old one marked superseded (it stays visible). Only
+    before acceptance, by the test's assignee (admins: any). A complete test's mean,
+    verdict and duplicate check are recomputed."""
+    require_permission(actor, "record_result", "correct results")
+    refuse_raw_data_edit_by_qa(actor)
+    reason = required_text(reason, "reason")
+    key = _clean_key(idempotency_key)
+    pk = result.pk if isinstance(result, Result) else result
+    test_id = Result.objects.filter(pk=pk).values_list("test_id", flat=True).first()
+    if test_id is None:
+        fetch(Result, pk)  # raises NotFound
+    with transaction.atomic():
+        test = lock_test_row(test_id)
+        if key:
+            first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
+            if first is not None:
+                if first.supersedes_id != pk:
+                    raise Conflict(f"idempotency key {key!r} was already used for result {first.pk}")
+                return first
+        old = fetch(Result, pk, lock=True)
+        if old.status != ResultStatus.CURRENT:
+            raise Conflict(f"result {old.pk} is {old.status}; only a current result can be corrected")
+        _check_may_enter(actor, test)
+        if test.state not in (*WORKABLE_TEST_STATES, TestState.RESULT_ENTERED):
+            raise Conflict(f"test {test.pk} is {test.state}; its results can no longer be corrected")
+        sample_require_workable(test.sample)
+        plugin = _plugin(test)
+        outcome = _calculate(plugin, test, inputs)
+        old.status = ResultStatus.SUPERSEDED
+        old.status_reason = reason
+        old.save(update_fields=["status", "status_reason"])
+        audit_append(
+            actor, AuditAction.TRANSITION, old, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]},
+            reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
+        )
+        others = [r.value for r in test.results.filter(status=ResultStatus.CURRENT)]
+        values = others + [outcome.value]
+        complete = len(values) == test.replicates
+        aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
+        correction = Result.objects.create(
+            test=test,
+            replicate=old.replicate,
+            version=old.version + 1,
+            inputs=json_safe(dict(inputs)),
+            value=outcome.value,
+            reported=str(outcome.reported),
+            unit=outcome.unit,
+            method_code=outcome.code,
+            method_version=outcome.version,
+            verdict=line_verdict(outcome.value, test.specification_line),
+            duplicate_check=aggregate["duplicate_check"] if aggregate else None,
+            supersedes=old,
+            correction_reason=reason,
+            entered_by=actor,
+            entered_at=timezone.now(),
+            idempotency_key=key,
+        )
+        audit_append(
+            actor, AuditAction.CREATE, correction, created(correction, RESULT_FIELDS),
+            reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
+        )
+        if complete:
+            set_test_aggregate(actor, test, aggregate, reason=f"result {old.pk} corrected: {reason}")
+            test.save(update_fields=list(AGGREGATE_FIELDS))
+    return correction

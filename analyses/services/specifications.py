@@ -1,0 +1,243 @@
+"""Specifications: drafted, approved by QA, effective from a date, versioned.
+
+A line is given as a mapping::
+
+    {"method": "av",                 # plugin code
+     "minimum": "0.1", "maximum": "0.6",   # Decimal strings (or numbers) in the plugin's unit
+     "codex_oil_type": "refined",    # instead of limits: the plugin's Codex default
+     "release_critical": True,       # default True
+     "comparison": "absolute",       # or "rounding" (ASTM E29); default absolute
+     "turnaround_days": 3}           # default due date offset from receipt
+
+Errors name the line and field: ``lines.2.maximum``. An approved specification is never
+edited; ``specification_revise`` starts a new draft version from it.
+"""
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Mapping, Sequence
+from decimal import Decimal, InvalidOperation
+from typing import Any
+
+from django.db import transaction
+from django.db.models import Max
+from django.utils import timezone
+
+from analyses.audit import audit_append, created, snapshot
+from analyses.errors import Conflict, InvalidInput
+from analyses.models import AuditAction, Comparison, Product, Specification, SpecificationLine, SpecificationStatus
+from analyses.services.access import Actor, fetch, require_permission
+from plugins.registry import UnknownMethod, get_registry
+
+SPECIFICATION_FIELDS = ("product", "version", "status", "effective_from", "note", "revised_from")
+LINE_FIELDS = (
+    "position", "method_code", "unit", "minimum", "maximum", "comparison",
+    "release_critical", "turnaround_days", "limits_source",
+)
+LINE_KEYS = {"method", "minimum", "maximum", "codex_oil_type", "release_critical", "comparison", "turnaround_days"}
+
+
+def _limit(raw: Any, field: str) -> str:
+    """A limit as a Decimal string, keeping the places it was written with."""
+    if raw is None or raw == "":
+        return ""
+    if isinstance(raw, bool):
+        raise InvalidInput.for_field(field, "must be a number")
+    text = repr(raw) if isinstance(raw, float) else str(raw).strip()
+    try:
+        value = Decimal(text)
+    except InvalidOperation:
+        raise InvalidInput.for_field(field, f"must be a number, got {raw!r}") from None
+    if not value.is_finite():
+        raise InvalidInput.for_field(field, "must be a finite number")
+    return str(value)
+
+
+def _clean_line(raw: Any, index: int) -> dict[str, Any]:
+    prefix = f"lines.{index}"
+    if not isinstance(raw, Mapping):
+        raise InvalidInput.for_field(prefix, "must be an object")
+    unknown = sorted(set(raw) - LINE_KEYS)
+    if unknown:
+        raise InvalidInput.for_field(f"{prefix}.{unknown[0]}", f"is not a line field (expected: {', '.join(sorted(LINE_KEYS))})")
+    code = str(raw.get("method") or "").strip()
+    if not code:
+        raise InvalidInput.for_field(f"{prefix}.method", "is required")
+    try:
+        plugin = get_registry().get(code)
+    except UnknownMethod as exc:
+        raise InvalidInput.for_field(f"{prefix}.method", str(exc)) from None
+    minimum = _limit(raw.get("minimum"), f"{prefix}.minimum")
+    maximum = _limit(raw.get("maximum"), f"{prefix}.maximum")
+    oil_type = str(raw.get("codex_oil_type") or "").strip()
+    source = ""
+    if oil_type:
+        if minimum or maximum:
+            raise InvalidInput.for_field(f"{prefix}.codex_oil_type", "give either limits or a Codex oil type, not both")
+        default = plugin.limits_for(oil_type)
+        if default is None:
+            known = ", ".join(sorted(limit.oil_type for limit in plugin.spec_limits)) or "none"
+            raise InvalidInput.for_field(
+                f"{prefix}.codex_oil_type", f"method {code} has no default limits for {oil_type!r} (known: {known})"
+            )
+        minimum = _limit(default.minimum, f"{prefix}.minimum")
+        maximum = _limit(default.maximum, f"{prefix}.maximum")
+        source = f"{default.source}; {oil_type}; {default.evidence}"
+    if not minimum and not maximum:
+        raise InvalidInput.for_field(f"{prefix}.minimum", "give a minimum, a maximum, or a Codex oil type")
+    if minimum and maximum and Decimal(minimum) > Decimal(maximum):
+        raise InvalidInput.for_field(f"{prefix}.maximum", f"must not be below the minimum {minimum}")
+    comparison = str(raw.get("comparison") or Comparison.ABSOLUTE)
+    if comparison not in Comparison.values:
+        raise InvalidInput.for_field(f"{prefix}.comparison", f"must be one of {', '.join(Comparison.values)}")
+    release_critical = raw.get("release_critical", True)
+    if not isinstance(release_critical, bool):
+        raise InvalidInput.for_field(f"{prefix}.release_critical", "must be true or false")
+    turnaround = raw.get("turnaround_days", 3)
+    if isinstance(turnaround, bool) or not isinstance(turnaround, int) or not 0 <= turnaround <= 365:
+        raise InvalidInput.for_field(f"{prefix}.turnaround_days", "must be a whole number of days, 0 to 365")
+    return {
+        "position": index,
+        "method_code": code,
+        "unit": plugin.result_unit,
+        "minimum": minimum,
+        "maximum": maximum,
+        "comparison": comparison,
+        "release_critical": release_critical,
+        "turnaround_days": turnaround,
+        "limits_source": source,
+    }
+
+
+def _clean_lines(lines: Sequence[Any]) -> list[dict[str, Any]]:
+    if not isinstance(lines, Sequence) or isinstance(lines, (str, bytes)) or not lines:
+        raise InvalidInput.for_field("lines", "give at least one line")
+    cleaned = [_clean_line(raw, index) for index, raw in enumerate(lines)]
+    seen: dict[str, int] = {}
+    for index, line in enumerate(cleaned):
+        if line["method_code"] in seen:
+            raise InvalidInput.for_field(
+                f"lines.{index}.method", f"method {line['method_code']} already on line {seen[line['method_code']]}"
+            )
+        seen[line["method_code"]] = index
+    return cleaned
+
+
+def _write_lines(actor: Actor, specification: Specification, cleaned: list[dict[str, Any]]) -> None:
+    for values in cleaned:
+        line = SpecificationLine.objects.create(specification=specification, **values)
+        audit_append(actor, AuditAction.CREATE, line, created(line, LINE_FIELDS))
+
+
+def _effective_date(value: Any) -> dt.date:
+    if isinstance(value, dt.datetime) or not isinstance(value, dt.date):
+        try:
+            return dt.date.fromisoformat(str(value))
+        except ValueError:
+            raise InvalidInput.for_field("effective_from", "must be a date, YYYY-MM-DD") from None
+    return value
+
+
+def specification_create(
+    actor: Actor,
+    product: Product | int,
+    *,
+    effective_from: dt.date | str,
+    lines: Sequence[Mapping[str, Any]],
+    note: str = "",
+) -> Specification:
+    """A new draft specification (the product's next version) with its lines.
+    Needs ``draft_specification`` (lab manager, QA, admin)."""
+    require_permission(actor, "draft_specification", "draft specifications")
+    effective = _effective_date(effective_from)
+    cleaned = _clean_lines(lines)
+    with transaction.atomic():
+        product = fetch(Product, product, lock=True)  # serialises version numbering per product
+        version = (product.specifications.aggregate(top=Max("version"))["top"] or 0) + 1
+        specification = Specification.objects.create(
+            product=product,
+            version=version,
+            effective_from=effective,
+            note=(note or "").strip(),
+            created_by=actor,
+            created_at=timezone.now(),
+        )
+        audit_append(actor, AuditAction.CREATE, specification, created(specification, SPECIFICATION_FIELDS))
+        _write_lines(actor, specification, cleaned)
+    return specification
+
+
+def specification_lines_replace(
+    actor: Actor, specification: Specification | int, *, lines: Sequence[Mapping[str, Any]]
+) -> Specification:
+    """Replace all lines of a draft. Conflict when the specification is approved."""
+    require_permission(actor, "draft_specification", "edit specifications")
+    cleaned = _clean_lines(lines)
+    with transaction.atomic():
+        specification = fetch(Specification, specification, lock=True)
+        if specification.is_approved:
+            raise Conflict(f"specification {specification.pk} is approved and cannot be changed; revise it instead")
+        for line in specification.lines.all():
+            audit_append(
+                actor, AuditAction.CHANGE, line,
+                {name: [value, None] for name, value in snapshot(line, LINE_FIELDS).items()},
+                reason="line removed from draft",
+            )
+            line.delete()
+        _write_lines(actor, specification, cleaned)
+    return specification
+
+
+def specification_approve(actor: Actor, specification: Specification | int) -> Specification:
+    """QA approves a draft; from now on it is never edited. Needs ``approve_specification``."""
+    require_permission(actor, "approve_specification", "approve specifications")
+    with transaction.atomic():
+        specification = fetch(Specification, specification, lock=True)
+        if specification.is_approved:
+            raise Conflict(f"specification {specification.pk} is already approved")
+        if not specification.lines.exists():
+            raise Conflict(f"specification {specification.pk} has no lines")
+        specification.status = SpecificationStatus.APPROVED
+        specification.approved_by = actor
+        specification.approved_at = timezone.now()
+        specification.save(update_fields=["status", "approved_by", "approved_at"])
+        audit_append(
+            actor, AuditAction.TRANSITION, specification,
+            {"status": [SpecificationStatus.DRAFT, SpecificationStatus.APPROVED]},
+        )
+    return specification
+
+
+def specification_revise(
+    actor: Actor,
+    specification: Specification | int,
+    *,
+    effective_from: dt.date | str,
+    lines: Sequence[Mapping[str, Any]] | None = None,
+    note: str = "",
+) -> Specification:
+    """A new draft version of an approved specification, with its lines copied (or
+    ``lines`` instead). The approved one stays as it is."""
+    require_permission(actor, "draft_specification", "revise specifications")
+    effective = _effective_date(effective_from)
+    cleaned = _clean_lines(lines) if lines is not None else None
+    with transaction.atomic():
+        source = fetch(Specification, specification, lock=True)
+        if not source.is_approved:
+            raise Conflict(f"specification {source.pk} is a draft; edit it instead of revising it")
+        product = Product.objects.select_for_update().get(pk=source.product_id)
+        version = (product.specifications.aggregate(top=Max("version"))["top"] or 0) + 1
+        revision = Specification.objects.create(
+            product=product,
+            version=version,
+            effective_from=effective,
+            note=(note or "").strip(),
+            revised_from=source,
+            created_by=actor,
+            created_at=timezone.now(),
+        )
+        audit_append(actor, AuditAction.CREATE, revision, created(revision, SPECIFICATION_FIELDS))
+        if cleaned is None:
+            cleaned = [snapshot(line, LINE_FIELDS) for line in source.lines.all()]
+        _write_lines(actor, revision, cleaned)
+    return revision

@@ -1,0 +1,97 @@
+"""Shared fixtures for the domain tests: one user per role, an invented product with an
+approved specification built from the plugins' Codex defaults, a lot and samples.
+
+Import into a conftest with ``from tests.analyses.lab_setup import *``.
+"""
+from __future__ import annotations
+
+import pytest
+
+from analyses.models import Test
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.lots import lot_create
+from analyses.services.results import result_record
+from analyses.services.samples import sample_receive, sample_register
+from analyses.services.specifications import specification_approve, specification_create
+from tests.factories import ProductFactory, UserFactory
+
+# Acid value inputs (ISO 660 / AOCS Cd 3d-63: AV = (S - B) * c * 56.1 / m).
+# (1.30 - 0.05) * 0.1 * 56.1 / 20.0 = 0.350625 mg KOH/g: the plugin's own worked example.
+AV_LOW = {"sample_mass": "20.0", "sample_volume": "1.30", "blank_volume": "0.05", "titrant_concentration": "0.1"}
+# (1.33 - 0.05) * 0.1 * 56.1 / 20.0 = 0.35904; within 5 % of the mean of the pair (from memory, ISO 660)
+AV_LOW_TWIN = {"sample_mass": "20.0", "sample_volume": "1.33", "blank_volume": "0.05", "titrant_concentration": "0.1"}
+# (2.50 - 0.05) * 0.1 * 56.1 / 20.0 = 0.687225, above the Codex 0.6 limit for refined oils (CXS 210, found)
+AV_HIGH = {"sample_mass": "20.0", "sample_volume": "2.50", "blank_volume": "0.05", "titrant_concentration": "0.1"}
+AV_HIGH_TWIN = {"sample_mass": "20.0", "sample_volume": "2.52", "blank_volume": "0.05", "titrant_concentration": "0.1"}
+# Peroxide value, AOCS Cd 8b-90: 12.45 mL * 0.002 mol/L * 1000 / 5.0 g = 4.98 meq O2/kg (plugin's worked example)
+PV_LOW = {"sample_mass": "5.0", "sample_volume": "12.5", "blank_volume": "0.05", "titrant_concentration": "0.002"}
+PV_LOW_TWIN = {"sample_mass": "5.0", "sample_volume": "12.7", "blank_volume": "0.05", "titrant_concentration": "0.002"}
+
+INPUTS = {"av": (AV_LOW, AV_LOW_TWIN), "pv": (PV_LOW, PV_LOW_TWIN)}
+
+
+@pytest.fixture
+def users(db):
+    """One user per role, plus "nobody" in no group."""
+    return {
+        "manager": UserFactory(username="manager", roles=["lab_manager"]),
+        "analyst": UserFactory(username="analyst", roles=["analyst"]),
+        "analyst2": UserFactory(username="analyst2", roles=["analyst"]),
+        "qa": UserFactory(username="qa", roles=["qa_reviewer"]),
+        "admin": UserFactory(username="admin", roles=["admin"]),
+        "nobody": UserFactory(username="nobody"),
+    }
+
+
+@pytest.fixture
+def product(users):
+    return ProductFactory(code="RSO", name="Refined soybean oil", oil_type="soybean", created_by=users["manager"])
+
+
+@pytest.fixture
+def specification(users, product):
+    """Approved: AV and PV from the Codex refined-oil defaults (CXS 210 appendix / CXS 19,
+    found: AV <= 0.6 mg KOH/g, PV <= 10 meq/kg), both release-critical."""
+    draft = specification_create(
+        users["manager"],
+        product,
+        effective_from="2020-01-01",
+        lines=[
+            {"method": "av", "codex_oil_type": "refined"},
+            {"method": "pv", "codex_oil_type": "refined", "comparison": "rounding"},
+        ],
+    )
+    return specification_approve(users["qa"], draft)
+
+
+@pytest.fixture
+def lot(users, product, specification):
+    return lot_create(users["manager"], code="L-100", product=product, origin="production")
+
+
+@pytest.fixture
+def sample(users, lot):
+    """A registered routine sample."""
+    return sample_register(users["manager"], lot, label="L-100-A")
+
+
+@pytest.fixture
+def received_sample(users, sample):
+    return sample_receive(users["manager"], sample, condition="sealed, clear", storage_place="fridge 2")
+
+
+@pytest.fixture
+def assigned_tests(users, received_sample):
+    """The sample's tests, all assigned to "analyst"."""
+    tests = list(Test.objects.filter(sample=received_sample).order_by("method_code"))
+    return test_assign_bulk(users["manager"], tests, assignee=users["analyst"])
+
+
+def enter_duplicates(analyst, test: Test, first: dict, second: dict) -> Test:
+    result_record(analyst, test, inputs=first)
+    result_record(analyst, test, inputs=second)
+    return Test.objects.get(pk=test.pk)
+
+
+def enter_passing(analyst, tests) -> list[Test]:
+    return [enter_duplicates(analyst, t, *INPUTS[t.method_code]) for t in tests]
