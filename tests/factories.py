@@ -9,7 +9,7 @@ import datetime as dt
 
 import factory
 from django.contrib.auth import get_user_model
-from django.contrib.auth.models import Group
+from django.contrib.auth.hashers import make_password
 from django.utils import timezone
 
 from analyses.models import (
@@ -27,8 +27,6 @@ from analyses.models import (
 )
 from analyses.roles import roles_ensure
 
-TEST_PASSWORD = "not-a-real-password"
-
 
 class UserFactory(factory.django.DjangoModelFactory):
     """A user; ``roles=["analyst"]`` puts them in those role groups."""
@@ -40,7 +38,8 @@ class UserFactory(factory.django.DjangoModelFactory):
 
     username = factory.Sequence(lambda n: f"user{n}")
     email = factory.LazyAttribute(lambda u: f"{u.username}@example.invalid")
-    password = factory.django.Password(TEST_PASSWORD)
+    # unusable: tests never log in, and hashing a real password costs a noticeable fraction of a second
+    password = factory.LazyFunction(lambda: make_password(None))
 
     @factory.post_generation
     def roles(self, create, extracted, **kwargs):

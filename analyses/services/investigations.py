@@ -85,7 +85,7 @@ def investigation_close(
         if conclusion == Conclusion.LAB_ERROR:
             if lot.state != LotState.OPEN:
                 raise Conflict(f"lot {lot.code} is {lot.state}; a retest is no longer possible")
-            Sample.objects.select_for_update().get(pk=test.sample_id)
+            test.sample = Sample.objects.select_for_update().get(pk=test.sample_id)
             Test.objects.select_for_update().get(pk=test.pk)
             retest = _retest(actor, test, findings)
         investigation.state = InvestigationState.CLOSED
@@ -107,6 +107,5 @@ def investigation_close(
         if conclusion == Conclusion.CONFIRMED and lot.state == LotState.OPEN:
             lot_reject_locked(actor, lot, f"OOS confirmed by investigation {investigation.pk}: {findings}")
         elif retest is not None:
-            sample = Sample.objects.get(pk=test.sample_id)
-            sample_sync(actor, sample, reason=f"retest {retest.pk} created")
+            sample_sync(actor, test.sample, reason=f"retest {retest.pk} created")
     return investigation

@@ -20,7 +20,7 @@ from django.db import IntegrityError, transaction
 from django.utils import timezone
 
 from analyses.audit import audit_append, created, json_safe
-from analyses.errors import Conflict, DomainError, InvalidInput, NotAllowed
+from analyses.errors import Conflict, DomainError, InvalidInput, NotAllowed, NotFound
 from analyses.models import (
     WORKABLE_TEST_STATES,
     AuditAction,
@@ -230,6 +230,8 @@ def result_record(
 def _prefixed(exc: DomainError, index: int) -> DomainError:
     """The same error, naming the bulk item: fields become ``results.<i>.<field>``."""
     prefix = f"results.{index}"
+    if isinstance(exc, NotFound):  # in a batch, a missing test is bad input, not a missing page
+        return InvalidInput.for_field(f"{prefix}.test", exc.detail)
     if isinstance(exc, InvalidInput):
         fields = {f"{prefix}.{name}": reasons for name, reasons in exc.fields.items()} or {prefix: [exc.detail]}
         return InvalidInput(f"{prefix}: {exc.detail}", fields)
@@ -241,7 +243,9 @@ def _prefixed(exc: DomainError, index: int) -> DomainError:
 def result_record_bulk(actor: Actor, results: Sequence[Mapping[str, Any]]) -> list[Result]:
     """Enter many results in one transaction, each item ``{"test", "inputs", "replicate"?,
     "idempotency_key"?}``. All or nothing: the first error rolls everything back and names
-    the item, e.g. InvalidInput with fields ``{"results.2.inputs.sample_mass": [...]}``."""
+    the item, e.g. InvalidInput with fields ``{"results.2.inputs.sample_mass": [...]}``; an
+    unknown test is InvalidInput on ``results.<i>.test``; refusals and conflicts keep their
+    type, with the detail starting "results.<i>: "."""
     if isinstance(results, (str, bytes, Mapping)) or not isinstance(results, Sequence) or not results:
         raise InvalidInput.for_field("results", "give a list of at least one result")
     recorded: list[Result] = []

@@ -1,0 +1,92 @@
+"""Out of specification: the investigation blocks release; both conclusions; the retest."""
+from __future__ import annotations
+
+import pytest
+
+from analyses.errors import Conflict, InvalidInput, NotAllowed
+from analyses.models import (
+    Conclusion,
+    Investigation,
+    InvestigationState,
+    LotState,
+    ResultStatus,
+    SampleState,
+    Test,
+    TestState,
+    Verdict,
+)
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.investigations import investigation_close
+from analyses.services.lots import lot_release
+from analyses.services.review import test_accept
+from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
+
+pytestmark = pytest.mark.django_db
+
+
+@pytest.fixture
+def oos(users, assigned_tests):
+    """AV out of specification (0.69 > 0.6, Codex CXS 210 appendix, refined oils, found), PV passing;
+    both accepted by a second analyst."""
+    analyst, reviewer = users["analyst"], users["analyst2"]
+    av = next(t for t in assigned_tests if t.method_code == "av")
+    pv = next(t for t in assigned_tests if t.method_code == "pv")
+    av = enter_duplicates(analyst, av, AV_HIGH, AV_HIGH_TWIN)
+    assert av.verdict == Verdict.OUT_OF_SPECIFICATION
+    test_accept(reviewer, enter_duplicates(analyst, pv, PV_LOW, PV_LOW_TWIN))
+    test_accept(reviewer, av)
+    return Investigation.objects.get(test=av)
+
+
+def test_an_accepted_oos_result_opens_an_investigation_that_blocks_release(users, oos):
+    assert oos.state == InvestigationState.OPEN
+    with pytest.raises(Conflict) as caught:
+        lot_release(users["qa"], oos.lot)
+    assert any(f"OOS investigation {oos.pk} is open" in line for line in caught.value.missing)
+    assert any("av test" in line and "out of specification" in line for line in caught.value.missing)
+    oos.lot.refresh_from_db()
+    assert oos.lot.state == LotState.OPEN
+
+
+def test_only_qa_closes_an_investigation(users, oos):
+    for role in ("manager", "analyst", "analyst2"):
+        with pytest.raises(NotAllowed):
+            investigation_close(users[role], oos, conclusion="confirmed", findings="x")
+    with pytest.raises(InvalidInput) as caught:
+        investigation_close(users["qa"], oos, conclusion="maybe", findings="x")
+    assert "conclusion" in caught.value.fields
+    assert Investigation.objects.get(pk=oos.pk).state == InvestigationState.OPEN
+
+
+def test_confirmed_oos_rejects_the_lot(users, oos):
+    closed = investigation_close(users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="re-titration agrees")
+    assert closed.state == InvestigationState.CLOSED and closed.conclusion == "confirmed"
+    lot = closed.lot
+    lot.refresh_from_db()
+    assert lot.state == LotState.REJECTED
+    assert "re-titration agrees" in lot.decision_reason
+    assert set(lot.samples.values_list("state", flat=True)) == {SampleState.REJECTED}
+    with pytest.raises(Conflict):
+        investigation_close(users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="again")
+
+
+def test_lab_error_invalidates_the_result_and_a_retest_leads_to_release(users, oos):
+    closed = investigation_close(users["qa"], oos, conclusion=Conclusion.LAB_ERROR, findings="wrong KOH normality")
+    original = Test.objects.get(pk=oos.test_id)
+    assert original.state == TestState.INVALIDATED
+    assert set(original.results.values_list("status", flat=True)) == {ResultStatus.INVALIDATED}
+    retest = closed.retest
+    assert retest.retest_of == original
+    assert retest.state == TestState.PENDING
+    assert retest.specification_line == original.specification_line
+    sample = retest.sample
+    assert sample.state == SampleState.IN_TESTING
+
+    test_assign_bulk(users["manager"], [retest], assignee=users["analyst2"])
+    retest = enter_duplicates(users["analyst2"], retest, AV_LOW, AV_LOW_TWIN)
+    test_accept(users["analyst"], retest)
+    sample.refresh_from_db()
+    assert sample.state == SampleState.TESTING_COMPLETE
+    certificate = lot_release(users["qa"], closed.lot)
+    # the certificate lists the retest, not the invalidated test
+    assert sorted(row["test"] for row in certificate.content["results"] if row["method"] == "av") == [retest.pk]

@@ -1,0 +1,171 @@
+"""Result entry: field-named input errors, idempotent retries, bulk all-or-nothing, correction versions."""
+from __future__ import annotations
+
+import pytest
+
+from analyses.errors import Conflict, InvalidInput, NotAllowed
+from analyses.models import AuditEntry, Result, ResultStatus, Test, TestState
+from analyses.services.results import result_correct, result_record, result_record_bulk
+from analyses.services.review import test_accept
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
+
+pytestmark = pytest.mark.django_db
+
+
+@pytest.fixture
+def av(assigned_tests) -> Test:
+    return next(t for t in assigned_tests if t.method_code == "av")
+
+
+@pytest.fixture
+def pv(assigned_tests) -> Test:
+    return next(t for t in assigned_tests if t.method_code == "pv")
+
+
+def _written() -> tuple[int, int]:
+    return Result.objects.count(), AuditEntry.objects.count()
+
+
+def test_a_plugin_input_error_names_the_input_and_writes_nothing(users, av):
+    before = _written()
+    with pytest.raises(InvalidInput) as caught:
+        result_record(users["analyst"], av, inputs={**AV_LOW, "sample_mass": "0"})
+    # the plugin's bound: sample mass must be greater than 0 g
+    assert list(caught.value.fields) == ["inputs.sample_mass"]
+    with pytest.raises(InvalidInput) as caught:
+        result_record(users["analyst"], av, inputs={"sample_mass": "20"})
+    assert "inputs.sample_volume" in caught.value.fields
+    with pytest.raises(InvalidInput) as caught:
+        result_record(users["analyst"], av, inputs=["not", "a", "mapping"])
+    assert list(caught.value.fields) == ["inputs"]
+    assert _written() == before
+    assert Test.objects.get(pk=av.pk).state == TestState.ASSIGNED
+
+
+def test_only_the_assignee_enters_and_not_before_assignment(users, received_sample, av):
+    with pytest.raises(NotAllowed, match="assigned to analyst"):
+        result_record(users["analyst2"], av, inputs=AV_LOW)
+    pending = Test.objects.create(
+        sample=received_sample, specification_line=av.specification_line, method_code="av",
+        replicates=2, due_on=av.due_on, created_at=av.created_at,
+    )
+    with pytest.raises(Conflict, match="pending"):
+        result_record(users["admin"], pending, inputs=AV_LOW)
+
+
+def test_replicates_fill_in_order_and_a_full_test_refuses_more(users, av):
+    assert result_record(users["analyst"], av, inputs=AV_LOW).replicate == 1
+    with pytest.raises(Conflict, match="already has replicate 1"):
+        result_record(users["analyst"], av, inputs=AV_LOW, replicate=1)
+    with pytest.raises(InvalidInput) as caught:
+        result_record(users["analyst"], av, inputs=AV_LOW, replicate=3)
+    assert "replicate" in caught.value.fields
+    assert result_record(users["analyst"], av, inputs=AV_LOW_TWIN).replicate == 2
+    with pytest.raises(Conflict):  # the test has moved on to result_entered
+        result_record(users["analyst"], av, inputs=AV_LOW)
+
+
+def test_the_same_idempotency_key_twice_records_one_result(users, av):
+    first = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="tablet-7:0001")
+    before = _written()
+    again = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="tablet-7:0001")
+    assert again.pk == first.pk
+    assert _written() == before
+    # a new key is a new result
+    second = result_record(users["analyst"], av, inputs=AV_LOW_TWIN, idempotency_key="tablet-7:0002")
+    assert second.pk != first.pk and second.replicate == 2
+
+
+def test_a_key_reused_for_another_test_is_a_conflict(users, av, pv):
+    result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="k1")
+    with pytest.raises(Conflict, match="already used"):
+        result_record(users["analyst"], pv, inputs=PV_LOW, idempotency_key="k1")
+
+
+def test_bulk_entry_is_all_or_nothing_and_names_the_item_and_field(users, av, pv):
+    before = _written()
+    items = [
+        {"test": av.pk, "inputs": AV_LOW},
+        {"test": av.pk, "inputs": AV_LOW_TWIN},
+        {"test": pv.pk, "inputs": {**PV_LOW, "sample_mass": "-5"}},
+    ]
+    with pytest.raises(InvalidInput) as caught:
+        result_record_bulk(users["analyst"], items)
+    assert list(caught.value.fields) == ["results.2.inputs.sample_mass"]
+    assert _written() == before
+    assert Test.objects.get(pk=av.pk).state == TestState.ASSIGNED
+
+    with pytest.raises(InvalidInput) as caught:
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW}, {"inputs": AV_LOW}])
+    assert list(caught.value.fields) == ["results.1.test"]
+    with pytest.raises(InvalidInput) as caught:
+        result_record_bulk(users["analyst"], [])
+    assert list(caught.value.fields) == ["results"]
+    assert _written() == before
+
+
+def test_bulk_entry_stops_on_a_refusal_too(users, av, pv):
+    before = _written()
+    with pytest.raises(InvalidInput) as caught:  # test 0 does not exist
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW}, {"test": 0, "inputs": AV_LOW}])
+    assert list(caught.value.fields) == ["results.1.test"]
+    Test.objects.filter(pk=pv.pk).update(assignee=users["analyst2"])
+    with pytest.raises(NotAllowed) as caught:
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW}, {"test": pv.pk, "inputs": PV_LOW}])
+    assert caught.value.detail.startswith("results.1:")
+    assert _written() == before
+
+
+def test_bulk_entry_and_its_idempotent_retry(users, av, pv):
+    items = [
+        {"test": av.pk, "inputs": AV_LOW, "idempotency_key": "batch-1"},
+        {"test": av.pk, "inputs": AV_LOW_TWIN, "idempotency_key": "batch-2"},
+        {"test": pv.pk, "inputs": PV_LOW, "idempotency_key": "batch-3"},
+        {"test": pv.pk, "inputs": PV_LOW_TWIN, "idempotency_key": "batch-4"},
+    ]
+    recorded = result_record_bulk(users["analyst"], items)
+    assert [r.replicate for r in recorded] == [1, 2, 1, 2]
+    before = _written()
+    retried = result_record_bulk(users["analyst"], items)  # e.g. the response was lost
+    assert [r.pk for r in retried] == [r.pk for r in recorded]
+    assert _written() == before
+    assert set(Test.objects.filter(pk__in=[av.pk, pv.pk]).values_list("state", flat=True)) == {TestState.RESULT_ENTERED}
+
+
+def test_a_correction_is_a_new_version_and_the_old_one_stays(users, av):
+    analyst = users["analyst"]
+    first = result_record(analyst, av, inputs=AV_LOW)
+    result_record(analyst, av, inputs=AV_LOW_TWIN)
+    with pytest.raises(InvalidInput) as caught:
+        result_correct(analyst, first, inputs=AV_LOW_TWIN, reason="")
+    assert caught.value.fields == {"reason": ["is required"]}
+
+    corrected = result_correct(analyst, first, inputs=AV_LOW_TWIN, reason="titre misread: 1.33 not 1.30")
+    first.refresh_from_db()
+    assert first.status == ResultStatus.SUPERSEDED
+    assert first.inputs == AV_LOW and first.reported == "0.35"  # the old values are untouched
+    assert corrected.version == 2 and corrected.replicate == 1
+    assert corrected.supersedes == first
+    assert corrected.correction_reason == "titre misread: 1.33 not 1.30"
+    assert corrected.status == ResultStatus.CURRENT
+    av.refresh_from_db()
+    # the test's mean now uses the corrected value: both replicates 0.35904
+    assert av.value == pytest.approx(0.35904)
+    with pytest.raises(Conflict, match="superseded"):
+        result_correct(analyst, first, inputs=AV_LOW, reason="again")
+    assert list(av.results.order_by("replicate", "version").values_list("replicate", "version", "status")) == [
+        (1, 1, "superseded"),
+        (1, 2, "current"),
+        (2, 1, "current"),
+    ]
+
+
+def test_no_correction_after_acceptance_and_never_by_qa(users, av):
+    first = result_record(users["analyst"], av, inputs=AV_LOW)
+    with pytest.raises(NotAllowed):
+        result_correct(users["qa"], first, inputs=AV_LOW_TWIN, reason="QA thinks so")
+    result_record(users["analyst"], av, inputs=AV_LOW_TWIN)
+    test_accept(users["analyst2"], av)
+    with pytest.raises(Conflict, match="accepted"):
+        result_correct(users["analyst"], first, inputs=AV_LOW_TWIN, reason="late")
+    assert Result.objects.filter(test=av).count() == 2
