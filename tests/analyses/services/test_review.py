@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import pytest
 
-from analyses.errors import Conflict, NotAllowed
+from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import AuditEntry, ResultStatus, Test, TestState
 from analyses.services import review
 from analyses.services.assignments import test_assign_bulk
@@ -75,8 +75,6 @@ def test_send_back_needs_a_reason_and_an_entered_test(users, assigned_tests):
     with pytest.raises(Conflict):
         review.test_send_back(users["analyst2"], av, reason="too early")
     av = enter_duplicates(users["analyst"], av, AV_LOW, AV_LOW_TWIN)
-    from analyses.errors import InvalidInput
-
     with pytest.raises(InvalidInput) as caught:
         review.test_send_back(users["analyst2"], av, reason="  ")
     assert caught.value.fields == {"reason": ["is required"]}

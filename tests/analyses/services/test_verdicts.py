@@ -1,0 +1,109 @@
+"""Verdicts against limits by ASTM E29: the absolute method and the rounding method.
+
+ASTM E29 (shared/references.md, found): results are compared with limits either by the
+absolute method or by the rounding method, and the specification names which. It rounds
+half to even (21.45 -> 21.4); that this rule is E29's own is memory.
+"""
+from __future__ import annotations
+
+from decimal import Decimal
+
+import pytest
+
+from analyses.models import Test, Verdict
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.lots import lot_create
+from analyses.services.products import product_create
+from analyses.services.results import result_record
+from analyses.services.samples import sample_receive, sample_register
+from analyses.services.specifications import specification_approve, specification_create
+from analyses.services.verdicts import limit_places, verdict_for
+
+PASS, OOS = Verdict.PASS, Verdict.OUT_OF_SPECIFICATION
+
+
+@pytest.mark.parametrize(
+    ("limit", "places"), [("0.6", 1), ("0.60", 2), ("189", 0), ("10.0", 1), ("1E+1", 0)]
+)
+def test_limit_places_are_the_places_the_limit_is_written_to(limit, places):
+    assert limit_places(Decimal(limit)) == places
+
+
+@pytest.mark.parametrize(
+    ("value", "maximum", "absolute", "rounding"),
+    [
+        (0.6, "0.6", PASS, PASS),  # at the limit: conforms either way
+        (0.64, "0.6", OOS, PASS),  # rounding: 0.64 -> 0.6 at the limit's one place
+        (0.65, "0.6", OOS, PASS),  # half to even: 0.65 -> 0.6 (ASTM E29, found)
+        (0.75, "0.6", OOS, OOS),  # half to even: 0.75 -> 0.8
+        (0.6500001, "0.6", OOS, OOS),  # above the half: 0.7
+        (21.45, "21.4", OOS, PASS),  # E29's own example, 21.45 -> 21.4 (found; "E29's own": memory)
+        (0.604, "0.60", OOS, PASS),  # two places written: 0.604 -> 0.60
+        (0.605, "0.60", OOS, PASS),  # 0.605 -> 0.60 (half to even)
+        (0.606, "0.60", OOS, OOS),
+    ],
+)
+def test_maximum_absolute_versus_rounding_method(value, maximum, absolute, rounding):
+    limit = Decimal(maximum)
+    assert verdict_for(value, minimum=None, maximum=limit, comparison="absolute") == absolute
+    assert verdict_for(value, minimum=None, maximum=limit, comparison="rounding") == rounding
+
+
+@pytest.mark.parametrize(
+    ("value", "absolute", "rounding"),
+    [
+        (189.0, PASS, PASS),
+        (188.6, OOS, PASS),  # rounding to units: 189
+        (188.5, OOS, OOS),  # half to even: 188
+    ],
+)
+def test_minimum_absolute_versus_rounding_method(value, absolute, rounding):
+    # Codex CXS 210 saponification value of soybean oil, 189-195 mg KOH/g (found)
+    low, high = Decimal("189"), Decimal("195")
+    assert verdict_for(value, minimum=low, maximum=high, comparison="absolute") == absolute
+    assert verdict_for(value, minimum=low, maximum=high, comparison="rounding") == rounding
+
+
+def test_half_to_even_at_an_upper_limit_written_in_units():
+    high = Decimal("195")
+    # 195.5 -> 196 (6 is even): out; 194.5 -> 194: in (ASTM E29 half to even, found)
+    assert verdict_for(195.5, minimum=None, maximum=high, comparison="rounding") == OOS
+    assert verdict_for(195.4, minimum=None, maximum=high, comparison="rounding") == PASS
+    assert verdict_for(195.4, minimum=None, maximum=high, comparison="absolute") == OOS
+
+
+@pytest.mark.django_db
+def test_results_take_the_comparison_their_specification_line_names(users):
+    """AV by the absolute method, PV by the rounding method, through result entry."""
+    manager, qa, analyst = users["manager"], users["qa"], users["analyst"]
+    product = product_create(manager, code="RPO", name="Refined palm olein", oil_type="palm_olein")
+    draft = specification_create(
+        manager, product, effective_from="2020-01-01",
+        lines=[
+            {"method": "av", "maximum": "0.6", "comparison": "absolute"},
+            {"method": "pv", "maximum": "10.0", "comparison": "rounding"},
+        ],
+    )
+    specification_approve(qa, draft)
+    lot = lot_create(manager, code="RPO-1", product=product, origin="production")
+    sample = sample_receive(manager, sample_register(manager, lot), condition="ok", storage_place="shelf")
+    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
+    test_assign_bulk(manager, list(tests.values()), assignee=analyst)
+
+    # AV = 2.14 mL * 0.1 mol/L * 56.1 / 20.0 g = 0.600270 (ISO 660 formula by hand): reported 0.60,
+    # but the absolute method compares the unrounded value, which exceeds 0.6.
+    av_inputs = {"sample_mass": "20.0", "sample_volume": "2.14", "titrant_concentration": "0.1"}
+    first = result_record(analyst, tests["av"], inputs=av_inputs)
+    assert first.reported == "0.60"
+    assert first.verdict == OOS
+    result_record(analyst, tests["av"], inputs=av_inputs)
+    assert Test.objects.get(pk=tests["av"].pk).verdict == OOS
+
+    # PV = 5.02 mL * 0.01 mol/L * 1000 / 5.0 g = 10.04 meq/kg (AOCS Cd 8b-90 formula by hand): by the
+    # rounding method it is rounded to the limit's one place, 10.0, which conforms.
+    pv_inputs = {"sample_mass": "5.0", "sample_volume": "5.02", "titrant_concentration": "0.01"}
+    first = result_record(analyst, tests["pv"], inputs=pv_inputs)
+    assert first.reported == "10.0"
+    assert first.verdict == PASS
+    result_record(analyst, tests["pv"], inputs=pv_inputs)
+    assert Test.objects.get(pk=tests["pv"].pk).verdict == PASS
