@@ -83,8 +83,10 @@ def _episodes_of(mark: RuleMarks, layout: SeriesLayout) -> pd.DataFrame:
     cut = np.flatnonzero(episode[1:] != episode[:-1]) + 1
     first_index = flat[np.concatenate(([0], cut))] if len(flat) else flat
     last_index = flat[np.concatenate((cut - 1, [len(flat) - 1]))] if len(flat) else flat
-    positions = layout.position[flat]
-    points = [tuple(part.tolist()) for part in np.split(positions, cut)] if len(flat) else []
+    # Slicing one Python list is several times faster than np.split for many small episodes.
+    positions = layout.position[flat].tolist()
+    bounds = np.concatenate(([0], cut, [len(flat)])).tolist()
+    points = [tuple(positions[a:b]) for a, b in zip(bounds[:-1], bounds[1:])] if len(flat) else []
     return pd.DataFrame(
         {
             "group": layout.group[first_index],
