@@ -1,0 +1,75 @@
+"""Work queues: one per method, and each analyst's own; tests ordered by priority, then
+due date, each annotated ``is_overdue`` (open and due before today)."""
+from __future__ import annotations
+
+import datetime as dt
+
+from django.db.models import BooleanField, ExpressionWrapper, Q, QuerySet
+from django.utils import timezone
+
+from analyses.models import OPEN_TEST_STATES, WORKABLE_TEST_STATES, Test
+
+# everything a queue row shows, in one query
+TEST_RELATIONS = ("sample__lot__product", "assignee", "specification_line", "retest_of")
+
+
+def tests_with_overdue(today: dt.date | None = None) -> QuerySet[Test]:
+    today = today or timezone.localdate()
+    overdue = Q(due_on__lt=today) & Q(state__in=OPEN_TEST_STATES)
+    return Test.objects.select_related(*TEST_RELATIONS).annotate(
+        is_overdue=ExpressionWrapper(overdue, output_field=BooleanField())
+    )
+
+
+def work_queue(method_code: str, *, today: dt.date | None = None) -> QuerySet[Test]:
+    """Open tests of one method (pending, assigned, sent back, entered and awaiting review),
+    by priority (1 = urgent first), then due date, then age."""
+    return tests_with_overdue(today).filter(method_code=method_code, state__in=OPEN_TEST_STATES).order_by(
+        "priority", "due_on", "id"
+    )
+
+
+def my_queue(user, *, today: dt.date | None = None) -> QuerySet[Test]:
+    """The tests on which ``user`` has results to enter (assigned or sent back to them)."""
+    return tests_with_overdue(today).filter(assignee=user, state__in=WORKABLE_TEST_STATES).order_by(
+        "priority", "due_on", "id"
+    )
+
+
+def review_queue(*, exclude_entered_by=None, today: dt.date | None = None) -> QuerySet[Test]:
+    """Tests with all results entered, awaiting review; with ``exclude_entered_by`` the ones
+    that user may review under the four-eyes rule."""
+    queryset = tests_with_overdue(today).filter(state="result_entered")
+    if exclude_entered_by is not None:
+        queryset = queryset.exclude(results__status="current", results__entered_by=exclude_entered_by)
+    return queryset.order_by("priority", "due_on", "id")
+
+
+def test_list(
+    *,
+    sample=None,
+    lot=None,
+    state: str | None = None,
+    method_code: str | None = None,
+    assignee=None,
+    overdue: bool | None = None,
+    today: dt.date | None = None,
+) -> QuerySet[Test]:
+    """Tests filtered by any of sample, lot, state, method, assignee and overdue."""
+    queryset = tests_with_overdue(today)
+    if sample is not None:
+        queryset = queryset.filter(sample=sample)
+    if lot is not None:
+        queryset = queryset.filter(sample__lot=lot)
+    if state:
+        queryset = queryset.filter(state=state)
+    if method_code:
+        queryset = queryset.filter(method_code=method_code)
+    if assignee is not None:
+        queryset = queryset.filter(assignee=assignee)
+    if overdue is not None:
+        queryset = queryset.filter(is_overdue=overdue)
+    return queryset.order_by("priority", "due_on", "id")
+
+
+test_list.__test__ = False  # a selector, not a pytest test

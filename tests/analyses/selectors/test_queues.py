@@ -1,0 +1,66 @@
+"""Work queues: order, overdue flag, my queue, review queue, and a fixed number of queries."""
+from __future__ import annotations
+
+import datetime as dt
+
+import pytest
+
+from analyses.models import Priority, TestState
+from analyses.selectors.queues import my_queue, review_queue, work_queue
+from analyses.selectors import queues
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, enter_duplicates
+from tests.factories import SampleFactory, SpecificationLineFactory, TestFactory
+
+pytestmark = pytest.mark.django_db
+TODAY = dt.date(2030, 6, 15)
+
+
+def test_a_method_queue_is_ordered_by_priority_then_due_date_and_flags_overdue(users):
+    line = SpecificationLineFactory(method_code="pv", unit="meq O2/kg", maximum="10.0")
+    normal_late = TestFactory(specification_line=line, priority=Priority.NORMAL, due_on=TODAY - dt.timedelta(days=1))
+    urgent_later = TestFactory(specification_line=line, priority=Priority.URGENT, due_on=TODAY + dt.timedelta(days=5))
+    urgent_sooner = TestFactory(specification_line=line, priority=Priority.URGENT, due_on=TODAY)
+    low = TestFactory(specification_line=line, priority=Priority.LOW, due_on=TODAY - dt.timedelta(days=9))
+    TestFactory(specification_line=line, state=TestState.ACCEPTED)  # done: not in the queue
+    TestFactory()  # another method (av)
+
+    queue = list(work_queue("pv", today=TODAY))
+    assert [t.pk for t in queue] == [urgent_sooner.pk, urgent_later.pk, normal_late.pk, low.pk]
+    assert {t.pk: t.is_overdue for t in queue} == {
+        urgent_sooner.pk: False,  # due today is not overdue
+        urgent_later.pk: False,
+        normal_late.pk: True,
+        low.pk: True,
+    }
+
+
+def test_my_queue_holds_only_my_workable_tests(users, assigned_tests):
+    analyst, analyst2 = users["analyst"], users["analyst2"]
+    assert {t.pk for t in my_queue(analyst)} == {t.pk for t in assigned_tests}
+    assert list(my_queue(analyst2)) == []
+    av = next(t for t in assigned_tests if t.method_code == "av")
+    enter_duplicates(analyst, av, AV_LOW, AV_LOW_TWIN)  # now awaiting review: off my queue
+    assert [t.method_code for t in my_queue(analyst)] == ["pv"]
+    # four-eyes: the analyst does not see their own test for review; analyst2 does
+    assert list(review_queue(exclude_entered_by=analyst)) == []
+    assert [t.pk for t in review_queue(exclude_entered_by=analyst2)] == [av.pk]
+
+
+def test_queues_take_a_fixed_number_of_queries(users, django_assert_num_queries):
+    line = SpecificationLineFactory(method_code="iv", unit="g I2/100 g", maximum="139")
+    sample = SampleFactory()
+    TestFactory.create_batch(3, specification_line=line, sample=sample, assignee=users["analyst"], state="assigned")
+
+    def touch(rows):
+        for t in rows:
+            (t.sample.lot.product.code, t.assignee.username if t.assignee else None, t.specification_line.maximum, t.is_overdue)
+
+    with django_assert_num_queries(1):
+        touch(list(work_queue("iv")))
+    TestFactory.create_batch(12, specification_line=line, assignee=users["analyst"], state="assigned")
+    with django_assert_num_queries(1):
+        touch(list(work_queue("iv")))
+    with django_assert_num_queries(1):
+        touch(list(my_queue(users["analyst"])))
+    with django_assert_num_queries(1):
+        touch(list(queues.test_list(method_code="iv", overdue=False)))
