@@ -47,7 +47,8 @@ def series_scan(
     Returns one row per episode (``SCAN_COLUMNS``): ``first``/``last``/``points`` are
     0-based positions in the series, ``first_sequence``/``last_sequence`` the sequence
     values there, and ``key`` = "series_id|rule|first_sequence", stable when results
-    are appended, for deduplicating alerts.
+    are appended, for deduplicating alerts (keep the sequence's type the same between
+    scans: 5 and 5.0 print differently).
     """
     unknown = set(families) - set(FAMILIES) - set(OPTIONAL_FAMILIES)
     if unknown:
@@ -86,7 +87,10 @@ def _ordered(results: pd.DataFrame) -> tuple[pd.DataFrame, np.ndarray]:
         raise InvalidInput.for_field("value", "must contain finite numbers only")
     if results["sequence"].isna().any() or results["series_id"].isna().any():
         raise InvalidInput.for_field("sequence", "series_id and sequence must be given for every result")
-    codes, series_ids = pd.factorize(results["series_id"], sort=True)
+    try:
+        codes, series_ids = pd.factorize(results["series_id"], sort=True)
+    except TypeError:  # ids of mixed types cannot be sorted; keep first-seen order
+        codes, series_ids = pd.factorize(results["series_id"], sort=False)
     frame = pd.DataFrame({"code": codes, "sequence": results["sequence"].to_numpy(), "value": values})
     if "run_id" in results.columns:
         frame["run_id"] = results["run_id"].to_numpy()
@@ -155,7 +159,13 @@ def _scan_table(table: pd.DataFrame, sequence: np.ndarray, series_ids: np.ndarra
         },
         columns=SCAN_COLUMNS[:-1],
     )
-    out["key"] = (
-        out["series_id"].astype(str) + "|" + out["rule"].astype(str) + "|" + pd.Series(out["first_sequence"]).astype(str)
-    )
+    out["key"] = out["series_id"].astype(str) + "|" + out["rule"].astype(str) + "|" + _sequence_text(out["first_sequence"])
     return out
+
+
+def _sequence_text(sequence: pd.Series) -> pd.Series:
+    """Sequence values as key text in one fixed format, whatever else is in the batch
+    (pandas would print midnight-only datetimes without their time)."""
+    if pd.api.types.is_datetime64_any_dtype(sequence):
+        return sequence.dt.strftime("%Y-%m-%dT%H:%M:%S.%f%z")
+    return sequence.astype(str)

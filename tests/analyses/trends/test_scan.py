@@ -131,3 +131,17 @@ def test_limits_must_cover_every_series():
     with pytest.raises(InvalidInput) as caught:
         series_scan(results, limits)
     assert "limits" in caught.value.fields and "QC-2" in caught.value.detail
+
+
+def test_datetime_keys_do_not_depend_on_the_rest_of_the_batch():
+    values = [0.0] * 20 + [2.5]
+    midnight = pd.DataFrame(
+        {"series_id": "A", "sequence": pd.date_range("2024-03-01", periods=21, freq="D"), "value": values}
+    )
+    later = pd.concat(
+        [midnight, pd.DataFrame({"series_id": ["A"], "sequence": [pd.Timestamp("2024-03-22 14:30")], "value": [0.0]})]
+    )
+    limits = pd.DataFrame({"series_id": ["A"], "mean": [0.0], "sd": [1.0]})
+    key = "A|westgard_1_2s|2024-03-21T00:00:00.000000"
+    assert key in set(series_scan(midnight, limits, families=["westgard"])["key"])
+    assert key in set(series_scan(later, limits, families=["westgard"])["key"])
