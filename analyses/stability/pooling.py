@@ -8,6 +8,7 @@ from typing import Literal
 
 import pandas as pd
 import statsmodels.formula.api as smf
+from statsmodels.regression.linear_model import RegressionResultsWrapper
 from statsmodels.stats.anova import anova_lm
 
 POOLING_ALPHA = 0.25
@@ -44,5 +45,5 @@ def pooling_decide(data: pd.DataFrame, alpha: float = POOLING_ALPHA) -> PoolingD
     return PoolingDecision(model, slopes_p, intercepts_p, alpha)
 
 
-def _f_test_p(reduced, full) -> float:
+def _f_test_p(reduced: RegressionResultsWrapper, full: RegressionResultsWrapper) -> float:
     return float(anova_lm(reduced, full)["Pr(>F)"].iloc[1])

@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 import statsmodels.formula.api as smf
 from scipy.optimize import brentq
+from statsmodels.regression.linear_model import RegressionResultsWrapper
 
 from analyses.errors import InvalidInput
 from analyses.stability.pooling import COMMON_SLOPE, POOLED, POOLING_ALPHA, PoolingDecision, pooling_decide
@@ -115,7 +116,9 @@ def shelf_life_estimate(
     )
 
 
-def _study_frame(times, values, lots) -> pd.DataFrame:
+def _study_frame(
+    times: Sequence[float], values: Sequence[float], lots: Sequence[Hashable] | None
+) -> pd.DataFrame:
     t = finite_vector(times, "times", MINIMUM_POINTS_PER_LOT)
     y = finite_vector(values, "values", MINIMUM_POINTS_PER_LOT)
     same_length("values", y, len(t))
@@ -135,7 +138,7 @@ def _study_frame(times, values, lots) -> pd.DataFrame:
     return data
 
 
-def _lot_models(data: pd.DataFrame, decision: PoolingDecision) -> list[tuple[str, object]]:
+def _lot_models(data: pd.DataFrame, decision: PoolingDecision) -> list[tuple[str, RegressionResultsWrapper]]:
     """(lot, fitted model) pairs whose predictions at (time, lot) give that lot's line."""
     names = sorted(data["lot"].unique())
     if decision.model in ("single lot", "pooled"):
@@ -148,7 +151,7 @@ def _lot_models(data: pd.DataFrame, decision: PoolingDecision) -> list[tuple[str
 
 
 def _lot_shelf_life(
-    lot: str, fit, limit: float, side: LimitSide, alpha: float, horizon: float, cap: float
+    lot: str, fit: RegressionResultsWrapper, limit: float, side: LimitSide, alpha: float, horizon: float, cap: float
 ) -> LotShelfLife:
     def prediction(t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         frame = pd.DataFrame({"time": np.atleast_1d(t).astype(float), "lot": lot})

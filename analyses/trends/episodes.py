@@ -73,6 +73,14 @@ def episodes_of_table(table: pd.DataFrame) -> list[Episode]:
     ]
 
 
+def episodes_by_rule(episodes: Iterable[Episode], rule_codes: Iterable[str]) -> dict[str, list[Episode]]:
+    """The episodes of each rule in ``rule_codes`` (an empty list for a rule not broken)."""
+    grouped: dict[str, list[Episode]] = {code: [] for code in rule_codes}
+    for episode in episodes:
+        grouped.setdefault(episode.rule, []).append(episode)
+    return grouped
+
+
 def _episodes_of(mark: RuleMarks, layout: SeriesLayout) -> pd.DataFrame:
     cover = mark.covered
     previous = np.concatenate(([False], cover[:-1]))

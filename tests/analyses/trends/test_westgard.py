@@ -13,7 +13,8 @@ import statistics
 import pytest
 
 from analyses.errors import InvalidInput
-from analyses.trends.rules import RULES
+from analyses.trends.episodes import episodes_by_rule
+from analyses.trends.rules import RULES, WESTGARD_RULES
 from analyses.trends.westgard import baseline_establish, westgard_evaluate, z_scores
 
 
@@ -157,3 +158,10 @@ def test_bad_input_names_the_field():
     with pytest.raises(InvalidInput) as caught:
         westgard_evaluate([1.0, 2.0], 0.0, 1.0, run_ids=["a"])
     assert "run_ids" in caught.value.fields
+
+
+def test_episodes_grouped_per_rule():
+    grouped = episodes_by_rule(westgard_evaluate([0.0, 2.5, 2.5], 0.0, 1.0), [r.code for r in WESTGARD_RULES])
+    assert list(grouped) == [r.code for r in WESTGARD_RULES]
+    assert [e.points for e in grouped["westgard_2_2s"]] == [(1, 2)]
+    assert grouped["westgard_10_x"] == []  # rules not broken still have a (empty) entry
