@@ -1,0 +1,67 @@
+"""Django admin: a window onto the records, never a way round the services. Every model is
+view-only here; changes go through the services, which check roles and write the audit trail."""
+from __future__ import annotations
+
+from django.contrib import admin
+
+from analyses.models import (
+    AuditEntry,
+    Certificate,
+    Investigation,
+    Lot,
+    Product,
+    Result,
+    Sample,
+    Specification,
+    SpecificationLine,
+    Test,
+)
+
+
+class ViewOnlyAdmin(admin.ModelAdmin):
+    def has_add_permission(self, request, obj=None):
+        return False
+
+    def has_change_permission(self, request, obj=None):
+        return False
+
+    def has_delete_permission(self, request, obj=None):
+        return False
+
+
+@admin.register(AuditEntry)
+class AuditEntryAdmin(ViewOnlyAdmin):
+    list_display = ("sequence", "at", "actor_username", "action", "object_type", "object_id", "reason")
+    list_filter = ("action", "object_type")
+    search_fields = ("object_id", "actor_username", "reason")
+    ordering = ("-sequence",)
+
+
+@admin.register(Sample)
+class SampleAdmin(ViewOnlyAdmin):
+    list_display = ("label", "lot", "kind", "state", "received_at", "storage_place")
+    list_filter = ("state", "kind")
+    search_fields = ("label", "lot__code")
+
+
+@admin.register(Test)
+class TestAdmin(ViewOnlyAdmin):
+    list_display = ("id", "sample", "method_code", "state", "priority", "due_on", "assignee", "reported", "verdict")
+    list_filter = ("state", "method_code")
+
+
+@admin.register(Result)
+class ResultAdmin(ViewOnlyAdmin):
+    list_display = ("id", "test", "replicate", "version", "status", "reported", "unit", "verdict", "entered_by")
+    list_filter = ("status", "method_code")
+
+
+@admin.register(Lot)
+class LotAdmin(ViewOnlyAdmin):
+    list_display = ("code", "product", "origin", "state", "supplier", "container_ref")
+    list_filter = ("state", "origin")
+    search_fields = ("code", "supplier")
+
+
+for model in (Product, Specification, SpecificationLine, Investigation, Certificate):
+    admin.site.register(model, ViewOnlyAdmin)

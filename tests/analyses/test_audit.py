@@ -1,0 +1,143 @@
+"""The audit trail: who/when/what/why on every change, append-only, SHA-256 chained, and
+checked by ``manage.py audit_verify``; appends stay linear under concurrency on PostgreSQL."""
+from __future__ import annotations
+
+import threading
+
+import pytest
+from django.contrib import admin
+from django.core.management import CommandError, call_command
+from django.db import connection, transaction
+from django.test import RequestFactory
+
+from analyses.audit import GENESIS_HASH, audit_append, audit_chain_verify
+from analyses.models import AuditEntry, ImmutableRowError, Product
+from analyses.services.samples import sample_hold
+from tests.analyses.lab_setup import lot, product, received_sample, sample, specification, users  # noqa: F401
+from tests.conftest import service_missing
+from tests.factories import ProductFactory, UserFactory
+
+
+def _verify() -> str:
+    from io import StringIO
+
+    out = StringIO()
+    call_command("audit_verify", stdout=out)
+    return out.getvalue()
+
+
+@pytest.mark.django_db
+def test_a_transition_records_who_when_what_and_why(users, received_sample):
+    sample_hold(users["qa"], received_sample, reason="seal broken on arrival")
+    entry = AuditEntry.objects.order_by("sequence").last()
+    assert entry.actor == users["qa"] and entry.actor_username == "qa"
+    assert entry.action == "transition"
+    assert (entry.object_type, entry.object_id) == ("analyses.sample", str(received_sample.pk))
+    assert entry.changes == {"state": ["received", "on_hold"], "resume_state": ["", "received"]}
+    assert entry.reason == "seal broken on arrival"
+    assert entry.at is not None
+    assert entry.lot_ref == received_sample.lot_id and entry.sample_ref == received_sample.pk
+
+
+@pytest.mark.django_db
+def test_the_chain_links_each_entry_to_the_one_before(received_sample):
+    entries = list(AuditEntry.objects.order_by("sequence"))
+    assert entries[0].sequence == 1 and entries[0].previous_hash == GENESIS_HASH
+    for before, after in zip(entries, entries[1:], strict=False):
+        assert after.sequence == before.sequence + 1
+        assert after.previous_hash == before.entry_hash
+    assert audit_chain_verify().ok
+    assert f"{len(entries)} entries verified" in _verify()
+
+
+@pytest.mark.django_db
+def test_entries_cannot_be_changed_or_deleted_through_the_app(received_sample):
+    entry = AuditEntry.objects.first()
+    entry.reason = "rewritten"
+    with pytest.raises(ImmutableRowError):
+        entry.save()
+    with pytest.raises(ImmutableRowError):
+        entry.delete()
+    with pytest.raises(ImmutableRowError):
+        AuditEntry.objects.filter(pk=entry.pk).update(reason="rewritten")
+    with pytest.raises(ImmutableRowError):
+        AuditEntry.objects.all().delete()
+    assert AuditEntry.objects.get(pk=entry.pk).reason == ""
+
+
+@pytest.mark.django_db
+def test_the_admin_shows_entries_read_only(users):
+    request = RequestFactory().get("/admin/")
+    request.user = UserFactory(username="root", is_staff=True, is_superuser=True)
+    model_admin = admin.site._registry[AuditEntry]
+    assert model_admin.has_view_permission(request)
+    assert not model_admin.has_add_permission(request)
+    assert not model_admin.has_change_permission(request)
+    assert not model_admin.has_delete_permission(request)
+
+
+@pytest.mark.django_db
+def test_a_row_changed_behind_the_apps_back_is_found(received_sample):
+    target = AuditEntry.objects.order_by("sequence")[3]
+    with connection.cursor() as cursor:  # tampering, as someone with database access might
+        cursor.execute(
+            f"UPDATE {AuditEntry._meta.db_table} SET reason = %s WHERE id = %s", ["nothing to see", target.pk]
+        )
+    with pytest.raises(CommandError) as caught:
+        _verify()
+    assert f"broken at entry {target.sequence} (id {target.pk})" in str(caught.value)
+    assert "changed after it was written" in str(caught.value)
+    assert caught.value.returncode == 1
+
+
+@pytest.mark.django_db
+def test_a_deleted_or_relinked_row_is_found(received_sample):
+    entries = list(AuditEntry.objects.order_by("sequence"))
+    with connection.cursor() as cursor:
+        cursor.execute(f"DELETE FROM {AuditEntry._meta.db_table} WHERE id = %s", [entries[2].pk])
+    report = audit_chain_verify()
+    assert (report.ok, report.broken_sequence, report.checked) == (False, entries[3].sequence, 2)
+    assert "missing" in report.problem
+
+
+@pytest.mark.django_db
+def test_a_rehashed_row_breaks_the_link_to_the_next(received_sample):
+    """Recomputing the hash of a tampered row does not help: the next entry still points at the old hash."""
+    entries = list(AuditEntry.objects.order_by("sequence"))
+    with connection.cursor() as cursor:
+        cursor.execute(
+            f"UPDATE {AuditEntry._meta.db_table} SET entry_hash = %s WHERE id = %s", ["f" * 64, entries[1].pk]
+        )
+    report = audit_chain_verify()
+    assert not report.ok and report.broken_sequence == entries[1].sequence
+
+
+@pytest.mark.django_db(transaction=True)
+def test_concurrent_appends_keep_one_linear_chain_on_postgresql():
+    if connection.vendor != "postgresql":
+        service_missing("needs PostgreSQL: set DATABASE_URL=postgres://...")
+    user = UserFactory(username="writer")
+    product = ProductFactory(created_by=user)
+    threads, per_thread, errors = 6, 15, []
+    start = threading.Barrier(threads)
+
+    def append_many(number: int) -> None:
+        try:
+            start.wait()
+            for i in range(per_thread):
+                with transaction.atomic():
+                    audit_append(user, "change", Product.objects.get(pk=product.pk), {"note": [number, i]})
+        except Exception as exc:  # reported below, never swallowed
+            errors.append(exc)
+        finally:
+            connection.close()
+
+    workers = [threading.Thread(target=append_many, args=(n,)) for n in range(threads)]
+    for worker in workers:
+        worker.start()
+    for worker in workers:
+        worker.join()
+    assert errors == []
+    sequences = list(AuditEntry.objects.order_by("sequence").values_list("sequence", flat=True))
+    assert sequences == list(range(1, threads * per_thread + 1))
+    assert audit_chain_verify().ok
