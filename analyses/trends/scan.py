@@ -91,10 +91,13 @@ def _ordered(results: pd.DataFrame) -> tuple[pd.DataFrame, np.ndarray]:
         codes, series_ids = pd.factorize(results["series_id"], sort=True)
     except TypeError:  # ids of mixed types cannot be sorted; keep first-seen order
         codes, series_ids = pd.factorize(results["series_id"], sort=False)
-    frame = pd.DataFrame({"code": codes, "sequence": results["sequence"].to_numpy(), "value": values})
+    frame = pd.DataFrame({"code": codes, "sequence": results["sequence"].reset_index(drop=True), "value": values})
     if "run_id" in results.columns:
         frame["run_id"] = results["run_id"].to_numpy()
-    frame = frame.sort_values(["code", "sequence"], kind="stable").reset_index(drop=True)
+    try:
+        frame = frame.sort_values(["code", "sequence"], kind="stable").reset_index(drop=True)
+    except TypeError:
+        raise InvalidInput.for_field("sequence", "must be values of one kind (all numbers or all times)") from None
     code, sequence = frame["code"].to_numpy(), frame["sequence"].to_numpy()
     if np.any((code[1:] == code[:-1]) & (sequence[1:] == sequence[:-1])):
         raise InvalidInput.for_field("sequence", "repeats within a series")

@@ -145,3 +145,17 @@ def test_datetime_keys_do_not_depend_on_the_rest_of_the_batch():
     key = "A|westgard_1_2s|2024-03-21T00:00:00.000000"
     assert key in set(series_scan(midnight, limits, families=["westgard"])["key"])
     assert key in set(series_scan(later, limits, families=["westgard"])["key"])
+
+
+def test_sequence_of_mixed_kinds_is_refused():
+    results = pd.DataFrame({"series_id": "A", "sequence": [1, "b"] * 10, "value": [1.0, 2.0] * 10})
+    with pytest.raises(InvalidInput) as caught:
+        series_scan(results)
+    assert "sequence" in caught.value.fields
+
+
+def test_timezone_aware_times_work_for_out_of_trend():
+    times = pd.date_range("2024-01-01", periods=30, freq="12h", tz="Europe/Paris")
+    values = np.r_[np.linspace(1.0, 2.0, 29) + np.tile([0.01, -0.01], 15)[:29], [5.0]]  # invented
+    scan = series_scan(pd.DataFrame({"series_id": "A", "sequence": times, "value": values}), families=["out_of_trend"])
+    assert 29 in {p for points in scan["points"] for p in points}
