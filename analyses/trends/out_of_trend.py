@@ -52,7 +52,8 @@ def out_of_trend_check(
     spec_lower: float | None = None,
     spec_upper: float | None = None,
 ) -> OutOfTrendCheck:
-    """Judge ``new_value`` against the trend of the last ``window`` earlier results."""
+    """Judge ``new_value`` against the trend of the last ``window`` earlier results
+    (all of them when there are fewer, but at least 3)."""
     window, level = check_trend_parameters(window, level)
     history_times = finite_vector(times, "times", MINIMUM_WINDOW)
     history_values = finite_vector(values, "values", MINIMUM_WINDOW)
