@@ -34,6 +34,9 @@ PERMISSION_MODELS: dict[str, str] = {
     "record_any_result": "test",
     "close_investigation": "investigation",
     "view_audit_trail": "auditentry",
+    "manage_stability_study": "stabilitystudy",
+    "set_control_baseline": "controlbaseline",
+    "acknowledge_alert": "alert",
 }
 
 ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
@@ -48,6 +51,7 @@ ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
         "assign_test",
         "review_test",
         "view_audit_trail",
+        "manage_stability_study",
     ),
     ANALYST: ("record_result", "review_test"),
     QA_REVIEWER: (
@@ -58,6 +62,9 @@ ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
         "review_test",
         "close_investigation",
         "view_audit_trail",
+        "manage_stability_study",
+        "set_control_baseline",
+        "acknowledge_alert",
     ),
     ADMIN: tuple(PERMISSION_MODELS),
 }

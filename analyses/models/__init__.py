@@ -7,7 +7,25 @@ from analyses.models.lots import Lot, LotOrigin, LotState
 from analyses.models.products import Product
 from analyses.models.results import Result, ResultStatus
 from analyses.models.samples import Sample, SampleKind, SampleState
+from analyses.models.stability import (
+    Light,
+    OffsetUnit,
+    PullPoint,
+    StabilityStudy,
+    StorageCondition,
+    StudyAttribute,
+    StudyState,
+)
 from analyses.models.specifications import Comparison, Specification, SpecificationLine, SpecificationStatus
+from analyses.models.trends import (
+    Alert,
+    AlertSeverity,
+    AlertSource,
+    AlertState,
+    BaselineSource,
+    ControlBaseline,
+    SeriesKind,
+)
 from analyses.models.testing import (
     OPEN_TEST_STATES,
     WORKABLE_TEST_STATES,
@@ -18,6 +36,20 @@ from analyses.models.testing import (
 )
 
 __all__ = [
+    "Light",
+    "OffsetUnit",
+    "PullPoint",
+    "StabilityStudy",
+    "StorageCondition",
+    "StudyAttribute",
+    "StudyState",
+    "Alert",
+    "AlertSeverity",
+    "AlertSource",
+    "AlertState",
+    "BaselineSource",
+    "ControlBaseline",
+    "SeriesKind",
     "OPEN_TEST_STATES",
     "WORKABLE_TEST_STATES",
     "AppendOnlyModel",
