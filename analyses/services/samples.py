@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import datetime as dt
+from collections.abc import Sequence
 
 from django.db import transaction
 from django.utils import timezone
@@ -21,13 +22,21 @@ from analyses.models import (
 from analyses.selectors.specifications import specification_effective
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.transitions import cancel_open_tests, sample_move, sample_move_check
-from plugins.registry import UnknownMethod, get_registry
+from plugins.registry import get_registry
 
 SAMPLE_FIELDS = ("lot", "label", "kind", "state", "taken_at")
 RECEIPT_FIELDS = ("received_by", "received_at", "condition_on_receipt", "storage_place", "specification")
 TEST_FIELDS = ("sample", "specification_line", "method_code", "replicates", "priority", "due_on", "state", "retest_of")
 # Retain samples are stored, not tested; the other kinds get the specification's tests.
 TESTED_KINDS = (SampleKind.ROUTINE, SampleKind.QC_CHECK, SampleKind.STABILITY_PULL)
+# A stability study follows a lot after it is released; its pulls and retains are still sampled.
+AFTER_RELEASE_KINDS = (SampleKind.STABILITY_PULL, SampleKind.RETAIN)
+
+
+def _check_lot_takes(lot: Lot, kind: str) -> None:
+    if lot.state == LotState.OPEN or (lot.state == LotState.RELEASED and kind in AFTER_RELEASE_KINDS):
+        return
+    raise Conflict(f"lot {lot.code} is {lot.state}; a {kind} sample cannot be taken from it")
 
 
 def _next_label(lot: Lot) -> str:
@@ -52,8 +61,7 @@ def sample_register(
         raise InvalidInput.for_field("kind", f"must be one of {', '.join(SampleKind.values)}")
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
-        if lot.state != LotState.OPEN:
-            raise Conflict(f"lot {lot.code} is {lot.state}; samples can be registered only on an open lot")
+        _check_lot_takes(lot, kind)
         label = required_text(label, "label") if label is not None else _next_label(lot)
         if Sample.objects.filter(label=label).exists():
             raise InvalidInput.for_field("label", f"sample label {label!r} is already used")
@@ -73,9 +81,10 @@ def sample_receive(
     received_at: dt.datetime | None = None,
     priority: int = Priority.NORMAL,
     due_on: dt.date | None = None,
+    methods: Sequence[str] | None = None,
 ) -> Sample:
     """Receive a registered sample: record who, when, its condition and storage place, and
-    create one test per line of the product's approved specification in effect on the day
+    create one test per line (or per line of ``methods`` only) of the product's approved specification in effect on the day
     of receipt (retain samples get none). Each test takes the plugin's replicate count,
     ``priority``, and ``due_on`` (default: receipt date + the line's turnaround days).
     Conflict when no approved specification is in effect or a method is not installed.
@@ -89,8 +98,7 @@ def sample_receive(
     with transaction.atomic():
         sample = fetch(Sample, sample, lock=True)
         lot = Lot.objects.select_related("product").get(pk=sample.lot_id)
-        if lot.state != LotState.OPEN:
-            raise Conflict(f"lot {lot.code} is {lot.state}")
+        _check_lot_takes(lot, sample.kind)
         sample_move_check(sample, SampleState.RECEIVED)
         specification = None
         lines = []
@@ -103,6 +111,14 @@ def sample_receive(
                     missing=[f"approved specification for {lot.product.code}"],
                 )
             lines = list(specification.lines.all())
+            if methods is not None:  # e.g. a stability pull tests only the study's methods
+                absent = sorted(set(methods) - {line.method_code for line in lines})
+                if absent:
+                    raise Conflict(
+                        f"specification {lot.product.code} v{specification.version} has no line for {', '.join(absent)}",
+                        missing=absent,
+                    )
+                lines = [line for line in lines if line.method_code in methods]
             registry = get_registry()
             absent = [line.method_code for line in lines if line.method_code not in registry]
             if absent:
