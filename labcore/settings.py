@@ -142,6 +142,13 @@ CELERY_TASK_SERIALIZER = "json"
 CELERY_ACCEPT_CONTENT = ["json"]
 CELERY_TIMEZONE = TIME_ZONE
 CELERY_BEAT_SCHEDULE_FILENAME = str(VAR_DIR / "celerybeat-schedule")
+# Periodic work; each task is idempotent, so a missed or doubled beat does no harm.
+CELERY_BEAT_SCHEDULE = {
+    "trend-scan": {"task": "analyses.tasks.trend_scan_task", "schedule": float(os.environ.get("TREND_SCAN_SECONDS", 300))},
+    "stability-pulls": {"task": "analyses.tasks.stability_pulls_schedule_task", "schedule": float(os.environ.get("PULL_SCHEDULE_SECONDS", 600))},
+    "stability-evaluate": {"task": "analyses.tasks.stability_studies_evaluate_task", "schedule": 3600.0},
+    "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 900.0},
+}
 
 EMAIL_BACKEND = os.environ.get("EMAIL_BACKEND", "django.core.mail.backends.console.EmailBackend")
 DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")

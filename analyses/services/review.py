@@ -13,6 +13,7 @@ from analyses.audit import audit_append, created
 from analyses.errors import Conflict, NotAllowed
 from analyses.models import AuditAction, Investigation, ResultStatus, Test, TestState, Verdict
 from analyses.services.access import Actor, actor_name, require_permission, required_text
+from analyses.services.follow_up import test_accepted_follow_up
 from analyses.services.results import lock_test_row, set_test_aggregate
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
 
@@ -63,6 +64,7 @@ def test_accept(actor: Actor, test: Test | int, *, note: str = "") -> Test:
                 lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
             )
         sample_sync(actor, test.sample, reason=f"test {test.pk} accepted")
+        test_accepted_follow_up(test)
     return test
 
 

@@ -1,0 +1,182 @@
+"""The numbers of a stability evaluation: kinetics, ICH Q1E shelf life and Arrhenius.
+
+Reads the accepted pull results of a study and returns the evaluation as a JSON-ready
+dict, plus alert drafts; ``stability.stability_study_evaluate`` stores both.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import asdict
+from typing import Any
+
+import pandas as pd
+
+from analyses.errors import InvalidInput
+from analyses.models import AlertSource, StabilityStudy, Test, TestState
+from analyses.services.alerts import AlertDraft
+from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
+from analyses.stability.kinetics import kinetics_fit
+from analyses.stability.shelf_life import shelf_life_estimate
+
+RESULT_COLUMNS = ["test_id", "method_code", "value", "condition_id", "temperature_c", "light", "lot", "months", "pull_id"]
+
+
+def study_results(study: StabilityStudy) -> pd.DataFrame:
+    """Accepted results of the study's pulls, one row per test."""
+    rows = Test.objects.filter(sample__pull_point__study=study, state=TestState.ACCEPTED, value__isnull=False).values_list(
+        "id", "method_code", "value", "sample__pull_point__condition_id", "sample__pull_point__condition__temperature_c",
+        "sample__pull_point__condition__light", "sample__pull_point__lot__code", "sample__pull_point__elapsed_months",
+        "sample__pull_point_id",
+    )
+    return pd.DataFrame.from_records(list(rows), columns=RESULT_COLUMNS)
+
+
+def _limit(attribute) -> tuple[float, str]:
+    return (attribute.maximum, "upper") if attribute.maximum is not None else (attribute.minimum, "lower")
+
+
+def _beyond(value: float, attribute) -> bool:
+    return (attribute.maximum is not None and value > attribute.maximum) or (
+        attribute.minimum is not None and value < attribute.minimum
+    )
+
+
+def condition_evaluation(rows: pd.DataFrame, limit: float, side: str) -> dict[str, Any]:
+    """Kinetics and ICH Q1E shelf life of one attribute under one condition."""
+    out: dict[str, Any] = {"n": len(rows)}
+    try:
+        kinetics = kinetics_fit(rows["months"], rows["value"])
+        out["kinetics"] = {
+            "zero_order": asdict(kinetics.zero_order),
+            "first_order": asdict(kinetics.first_order) if kinetics.first_order else None,
+            "better": kinetics.better,
+            "criterion": kinetics.criterion,
+        }
+    except InvalidInput as exc:
+        out["kinetics"] = None
+        out["kinetics_note"] = exc.detail
+    try:
+        result = shelf_life_estimate(rows["months"], rows["value"], limit, limit_side=side, lots=rows["lot"].tolist())
+        out["shelf_life"] = {
+            "months": result.shelf_life,
+            "estimate_months": result.estimate,
+            "governing_lot": result.governing_lot,
+            "pooling": result.pooling.model,
+            "slopes_p": result.pooling.slopes_p,
+            "intercepts_p": result.pooling.intercepts_p,
+            "last_time_months": result.last_time,
+            "extrapolation_cap_months": result.extrapolation_cap,
+            "extrapolated": result.extrapolated,
+            "capped": result.capped,
+        }
+    except InvalidInput as exc:
+        out["shelf_life"] = None
+        out["shelf_life_note"] = exc.detail
+    return out
+
+
+def arrhenius_evaluation(per_condition: list[dict[str, Any]], storage_c: float, limit: float, side: str) -> dict[str, Any] | None:
+    """Arrhenius from the zero-order rates of the dark conditions (light adds another
+    pathway); None with fewer than two temperatures whose rate moves toward the limit."""
+    sign = 1.0 if side == "upper" else -1.0
+    points = [
+        (c["temperature_c"], sign * c["kinetics"]["zero_order"]["slope"], c["kinetics"]["zero_order"]["initial_value"])
+        for c in per_condition
+        if c["light"] == "dark" and c.get("kinetics") and sign * c["kinetics"]["zero_order"]["slope"] > 0
+    ]
+    if len({t for t, _, _ in points}) < 2:
+        return None
+    fit = arrhenius_fit([t for t, _, _ in points], [k for _, k, _ in points], storage_c)
+    out: dict[str, Any] = {
+        "activation_energy_kj_per_mol": fit.activation_energy / 1000,
+        "activation_energy_se_kj_per_mol": None if fit.activation_energy_se is None else fit.activation_energy_se / 1000,
+        "q10": fit.q10,
+        "rate_per_month": sign * fit.rate,
+        "rate_interval": None if fit.rate_lower is None else [sign * fit.rate_lower, sign * fit.rate_upper],
+        "temperatures_c": [t for t, _, _ in points],
+        "extrapolated": fit.extrapolated,
+    }
+    # Same oil at time 0 under every condition: start from the mean fitted initial value.
+    initial = sum(c0 for _, _, c0 in points) / len(points)
+    if side == "upper" and initial < limit:
+        predicted = arrhenius_shelf_life(fit, initial, limit)
+        out["shelf_life_months"] = predicted.time
+        out["shelf_life_interval_months"] = None if predicted.lower is None else [predicted.lower, predicted.upper]
+    return out
+
+
+def json_ready(value: Any) -> Any:
+    """NaN and infinities become None: JSON (and PostgreSQL's jsonb) has no such numbers."""
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, dict):
+        return {k: json_ready(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [json_ready(v) for v in value]
+    return value
+
+
+def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertDraft]]:
+    results = study_results(study)
+    conditions = list(study.conditions.all())
+    drafts: list[AlertDraft] = []
+    attributes_out = []
+    predictions = []
+    for attribute in study.attributes.all():
+        limit, side = _limit(attribute)
+        rows = results[results["method_code"] == attribute.method_code]
+        per_condition = []
+        for condition in conditions:
+            subset = rows[rows["condition_id"] == condition.pk]
+            entry = {"condition_id": condition.pk, "temperature_c": condition.temperature_c, "light": condition.light}
+            entry |= condition_evaluation(subset, limit, side) if len(subset) else {"n": 0}
+            per_condition.append(entry)
+        arrhenius = arrhenius_evaluation(per_condition, study.storage_temperature_c, limit, side)
+        predicted, basis = _predicted_shelf_life(per_condition, arrhenius, study.storage_temperature_c)
+        attributes_out.append({
+            "method_code": attribute.method_code, "limit": limit, "limit_side": side, "conditions": per_condition,
+            "arrhenius": arrhenius, "predicted_shelf_life_months": predicted, "basis": basis,
+        })
+        if predicted is not None:
+            predictions.append(predicted)
+        if predicted is not None and predicted < study.claimed_shelf_life_months:
+            drafts.append(AlertDraft(
+                source=AlertSource.STABILITY, rule="shelf_life_short", series_key=f"stability:{study.code}",
+                episode_key=f"stability:{study.code}|shelf_life_short|{attribute.method_code}",
+                message=f"Study {study.code}: predicted shelf life for {attribute.method_code} is {predicted:.1f} months "
+                f"({basis}), short of the claimed {study.claimed_shelf_life_months:g} months",
+                points=[{"predicted_months": predicted, "claimed_months": study.claimed_shelf_life_months}],
+                method_code=attribute.method_code, product_id=study.product_id, study_id=study.pk,
+            ))
+        for row in rows.itertuples(index=False):
+            if _beyond(row.value, attribute):
+                drafts.append(AlertDraft(
+                    source=AlertSource.STABILITY, rule="pull_out_of_limit", series_key=f"stability:{study.code}",
+                    episode_key=f"stability:{study.code}|pull_out_of_limit|test{row.test_id}",
+                    message=f"Study {study.code}: {attribute.method_code} = {row.value:.4g} on lot {row.lot} at "
+                    f"{row.temperature_c:g} °C ({row.light}), {row.months:.2f} months, is beyond its limit {limit:g}",
+                    points=[{"test_id": int(row.test_id), "value": float(row.value), "months": float(row.months)}],
+                    method_code=attribute.method_code, product_id=study.product_id, study_id=study.pk,
+                ))
+    evaluation = {
+        "study": study.code,
+        "claimed_shelf_life_months": study.claimed_shelf_life_months,
+        "storage_temperature_c": study.storage_temperature_c,
+        "predicted_shelf_life_months": min(predictions) if predictions else None,
+        "attributes": attributes_out,
+    }
+    return json_ready(evaluation), drafts
+
+
+def _predicted_shelf_life(per_condition: list[dict[str, Any]], arrhenius: dict[str, Any] | None, storage_c: float) -> tuple[float | None, str]:
+    """ICH Q1E at the storage condition when it has data; otherwise the Arrhenius prediction."""
+    at_storage = [
+        c["shelf_life"]["months"] for c in per_condition
+        if c["temperature_c"] == storage_c and c["light"] == "dark" and c.get("shelf_life")
+    ]
+    if at_storage:
+        return min(at_storage), "ICH Q1E regression at the storage condition"
+    if arrhenius and arrhenius.get("shelf_life_months") is not None:
+        note = ", extrapolated beyond the studied temperatures" if arrhenius["extrapolated"] else ""
+        return arrhenius["shelf_life_months"], f"Arrhenius prediction at {storage_c:g} °C{note}"
+    return None, "not enough data"

@@ -1,0 +1,149 @@
+"""The periodic trend scan: every series against its rules, one alert per episode.
+
+QC check series get the Westgard multirules; production series the Nelson rules, an
+EWMA chart and the out-of-trend rule. Each series' mean and SD come from a baseline
+entered by QA or, failing that, are established once from its first
+``MINIMUM_BASELINE_POINTS`` results and stored.
+"""
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+
+import pandas as pd
+from django.db import transaction
+from django.utils import timezone
+
+from analyses.audit import audit_append, created
+from analyses.errors import InvalidInput
+from analyses.models import AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind
+from analyses.selectors.trend_series import trend_series_frame
+from analyses.services.access import Actor, require_permission
+from analyses.services.alerts import AlertDraft, alerts_raise
+from analyses.services.system import scheduler_actor
+from analyses.trends.rules import RULES
+from analyses.trends.scan import series_scan
+from analyses.trends.westgard import MINIMUM_BASELINE_POINTS
+
+FAMILIES_BY_KIND: dict[str, tuple[str, ...]] = {
+    SeriesKind.QC_CHECK: ("westgard",),
+    SeriesKind.PRODUCTION: ("nelson", "ewma", "out_of_trend"),
+}
+BASELINE_FIELDS = ("series_key", "kind", "method_code", "mean", "sd", "n_points", "source")
+
+
+@dataclass
+class ScanSummary:
+    series_scanned: int = 0
+    results_scanned: int = 0
+    episodes: int = 0
+    alerts_raised: int = 0
+    series_without_baseline: list[str] = field(default_factory=list)
+
+
+def control_baseline_set(actor: Actor, *, series_key: str, mean: float, sd: float, reason: str = "") -> ControlBaseline:
+    """QA enters (or replaces) the mean and SD of a series."""
+    require_permission(actor, "set_control_baseline", "enter control baselines")
+    kind, method_code = _parse_key(series_key)
+    if not (isinstance(sd, (int, float)) and sd > 0):
+        raise InvalidInput.for_field("sd", "must be a number above 0")
+    with transaction.atomic():
+        baseline = ControlBaseline.objects.select_for_update().filter(series_key=series_key).first()
+        before = None if baseline is None else {"mean": baseline.mean, "sd": baseline.sd, "source": baseline.source}
+        baseline = baseline or ControlBaseline(series_key=series_key, kind=kind, method_code=method_code)
+        baseline.mean, baseline.sd, baseline.n_points = float(mean), float(sd), 0
+        baseline.source, baseline.set_by, baseline.set_at = BaselineSource.ENTERED, actor, timezone.now()
+        baseline.save()
+        changes = (
+            created(baseline, BASELINE_FIELDS)
+            if before is None
+            else {k: [before[k], getattr(baseline, k)] for k in before if before[k] != getattr(baseline, k)}
+        )
+        audit_append(actor, AuditAction.CREATE if before is None else AuditAction.CHANGE, baseline, changes, reason=reason)
+    return baseline
+
+
+def trend_scan(series_keys: Iterable[str] | None = None) -> ScanSummary:
+    """Scan the given series (default: all) and raise one alert per new episode."""
+    frame = trend_series_frame(series_keys)
+    summary = ScanSummary(results_scanned=len(frame), series_scanned=int(frame["series_id"].nunique()))
+    if frame.empty:
+        return summary
+    limits = _baselines(frame, summary)
+    drafts: list[AlertDraft] = []
+    for kind, families in FAMILIES_BY_KIND.items():
+        part = frame[(frame["kind"] == kind) & frame["series_id"].isin(limits.index)]
+        if part.empty:
+            continue
+        episodes = series_scan(part[["series_id", "sequence", "value"]], limits.reset_index(), families=families)
+        summary.episodes += len(episodes)
+        drafts += _drafts(part, episodes)
+    summary.alerts_raised = len(alerts_raise(drafts))
+    return summary
+
+
+def _parse_key(series_key: str) -> tuple[str, str]:
+    parts = str(series_key).split(":")
+    if len(parts) != 3 or parts[0] not in SeriesKind.values or not parts[1].isdigit() or not parts[2]:
+        raise InvalidInput.for_field("series_key", "must look like qc:<lot id>:<method> or production:<product id>:<method>")
+    return parts[0], parts[2]
+
+
+def _baselines(frame: pd.DataFrame, summary: ScanSummary) -> pd.DataFrame:
+    """Mean and SD per series; establishes and stores missing ones that have enough results."""
+    keys = frame["series_id"].unique().tolist()
+    stored = {b.series_key: b for b in ControlBaseline.objects.filter(series_key__in=keys)}
+    counts = frame.groupby("series_id")["value"].size()
+    ready = [k for k in keys if k not in stored and counts[k] >= MINIMUM_BASELINE_POINTS]
+    summary.series_without_baseline = sorted(k for k in keys if k not in stored and k not in ready)
+    if ready:
+        head = frame[frame["series_id"].isin(ready)].groupby("series_id").head(MINIMUM_BASELINE_POINTS)
+        stats = head.groupby("series_id")["value"].agg(["mean", "std"])
+        usable = stats[stats["std"] > 0]
+        actor = scheduler_actor()
+        with transaction.atomic():
+            for key, row in usable.iterrows():
+                kind, method_code = _parse_key(key)
+                baseline = ControlBaseline.objects.create(
+                    series_key=key, kind=kind, method_code=method_code, mean=float(row["mean"]), sd=float(row["std"]),
+                    n_points=MINIMUM_BASELINE_POINTS, source=BaselineSource.ESTABLISHED, set_at=timezone.now(),
+                )
+                audit_append(actor, AuditAction.CREATE, baseline, created(baseline, BASELINE_FIELDS),
+                             reason=f"established from the first {MINIMUM_BASELINE_POINTS} results")
+                stored[key] = baseline
+    return pd.DataFrame(
+        [{"series_id": k, "mean": b.mean, "sd": b.sd} for k, b in stored.items() if k in counts.index],
+        columns=["series_id", "mean", "sd"],
+    ).set_index("series_id")
+
+
+def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:
+    if episodes.empty:
+        return []
+    by_series = {key: group.reset_index(drop=True) for key, group in part.groupby("series_id", sort=False)}
+    drafts = []
+    for episode in episodes.itertuples(index=False):
+        series = by_series[episode.series_id]
+        involved = series.iloc[list(episode.points)]
+        rule = RULES[episode.rule]
+        first_test = int(involved["test_id"].iloc[0])
+        kind, method_code = _parse_key(episode.series_id)
+        first_row = involved.iloc[0]
+        drafts.append(
+            AlertDraft(
+                source=AlertSource.TREND,
+                rule=episode.rule,
+                severity=AlertSeverity.WARNING if rule.warning_only else AlertSeverity.ALARM,
+                series_key=episode.series_id,
+                episode_key=f"{episode.series_id}|{episode.rule}|{episode.side}|test{first_test}",
+                message=f"{rule.title} on series {episode.series_id}: {len(involved)} point(s) from test {first_test}",
+                points=[
+                    {"test_id": int(row.test_id), "value": float(row.value), "received_at": row.received_at.isoformat()}
+                    for row in involved.itertuples(index=False)
+                ],
+                method_code=method_code,
+                product_id=int(first_row["product_id"]),
+                lot_id=int(first_row["lot_id"]) if kind == SeriesKind.QC_CHECK else None,
+            )
+        )
+    return drafts

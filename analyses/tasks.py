@@ -1,0 +1,57 @@
+"""Celery tasks: thin wrappers that take ids, call one service, and own their retries.
+
+Every task is safe to run twice: the services they call change nothing twice (alerts
+are keyed by episode, pulls are created once, notifications remember what was sent).
+"""
+from __future__ import annotations
+
+from celery import shared_task
+
+from analyses.services.alerts import WebhookFailed, alert_notify, alerts_pending_notification
+from analyses.services.stability import stability_pulls_schedule, stability_studies_evaluate, stability_study_evaluate
+from analyses.services.trend_scan import trend_scan
+
+RETRY = {"acks_late": True, "autoretry_for": (Exception,), "retry_backoff": 5, "retry_backoff_max": 600, "max_retries": 8}
+
+
+@shared_task(name="analyses.tasks.trend_scan_task", **RETRY)
+def trend_scan_task(series_keys: list[str] | None = None) -> dict:
+    return trend_scan(series_keys).__dict__
+
+
+@shared_task(name="analyses.tasks.stability_pulls_schedule_task", **RETRY)
+def stability_pulls_schedule_task() -> dict:
+    return stability_pulls_schedule().__dict__
+
+
+@shared_task(name="analyses.tasks.stability_study_evaluate_task", **RETRY)
+def stability_study_evaluate_task(study_id: int) -> dict:
+    return {"study": study_id, "alerts_raised": stability_study_evaluate(study_id).alerts_raised}
+
+
+@shared_task(name="analyses.tasks.stability_studies_evaluate_task", **RETRY)
+def stability_studies_evaluate_task() -> int:
+    return stability_studies_evaluate()
+
+
+@shared_task(
+    name="analyses.tasks.alert_notify_task",
+    acks_late=True,
+    autoretry_for=(WebhookFailed,),
+    retry_backoff=10,
+    retry_backoff_max=3600,
+    max_retries=12,
+)
+def alert_notify_task(alert_id: int) -> int:
+    return alert_notify(alert_id).webhook_attempts
+
+
+@shared_task(name="analyses.tasks.alerts_notify_pending_task", acks_late=True)
+def alerts_notify_pending_task() -> int:
+    """Re-queue alerts whose e-mail or webhook is still owed (after retries ran out, or a lost message)."""
+    pending = alerts_pending_notification()
+    for alert_id in pending:
+        alert_notify_task.delay(alert_id)
+    return len(pending)
+
+
