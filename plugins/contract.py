@@ -245,7 +245,10 @@ class MethodPlugin:
         known = {spec.name for spec in self.inputs}
         for name in raw:
             if name not in known:
-                raise MethodInputError(str(name), f"is not an input of method {self.code} (expected: {', '.join(sorted(known))})")
+                expected = f"expected: {', '.join(sorted(known))}"
+                if not str(name).strip():
+                    raise MethodInputError("inputs", f"has an input with a blank name ({expected})")
+                raise MethodInputError(str(name), f"is not an input of method {self.code} ({expected})")
         values: dict[str, Any] = {}
         for spec in self.inputs:
             given = raw.get(spec.name)
