@@ -169,3 +169,35 @@ def test_no_correction_after_acceptance_and_never_by_qa(users, av):
     with pytest.raises(Conflict, match="accepted"):
         result_correct(users["analyst"], first, inputs=AV_LOW_TWIN, reason="late")
     assert Result.objects.filter(test=av).count() == 2
+
+
+@pytest.mark.django_db(transaction=True)
+def test_a_retry_racing_the_first_request_still_records_one_result_on_postgresql(users, av):
+    """Two requests with one key arrive together (a client retrying on a timeout)."""
+    import threading
+
+    from django.db import connection
+
+    from tests.conftest import service_missing
+
+    if connection.vendor != "postgresql":
+        service_missing("needs PostgreSQL: set DATABASE_URL=postgres://...")
+    start, returned, errors = threading.Barrier(2), [], []
+
+    def send() -> None:
+        try:
+            start.wait()
+            returned.append(result_record(users["analyst"], av.pk, inputs=AV_LOW, idempotency_key="retry-1").pk)
+        except Exception as exc:  # reported below, never swallowed
+            errors.append(exc)
+        finally:
+            connection.close()
+
+    workers = [threading.Thread(target=send) for _ in range(2)]
+    for worker in workers:
+        worker.start()
+    for worker in workers:
+        worker.join()
+    assert errors == []
+    assert len(set(returned)) == 1
+    assert Result.objects.filter(test=av).count() == 1
