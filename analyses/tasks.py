@@ -6,12 +6,15 @@ are keyed by episode, pulls are created once, notifications remember what was se
 from __future__ import annotations
 
 from celery import shared_task
+from django.db import InterfaceError, OperationalError
 
 from analyses.services.alerts import WebhookFailed, alert_notify, alerts_pending_notification
 from analyses.services.stability import stability_pulls_schedule, stability_studies_evaluate, stability_study_evaluate
 from analyses.services.trend_scan import trend_scan
 
-RETRY = {"acks_late": True, "autoretry_for": (Exception,), "retry_backoff": 5, "retry_backoff_max": 600, "max_retries": 8}
+# Retry what may pass (a database that is restarting); a domain error would only repeat.
+TRANSIENT = (OperationalError, InterfaceError)
+RETRY = {"acks_late": True, "autoretry_for": TRANSIENT, "retry_backoff": 5, "retry_backoff_max": 600, "max_retries": 8}
 
 
 @shared_task(name="analyses.tasks.trend_scan_task", **RETRY)
@@ -37,7 +40,7 @@ def stability_studies_evaluate_task() -> int:
 @shared_task(
     name="analyses.tasks.alert_notify_task",
     acks_late=True,
-    autoretry_for=(WebhookFailed,),
+    autoretry_for=(WebhookFailed, *TRANSIENT),
     retry_backoff=10,
     retry_backoff_max=3600,
     max_retries=12,

@@ -26,7 +26,7 @@ def study_results(study: StabilityStudy) -> pd.DataFrame:
     rows = Test.objects.filter(sample__pull_point__study=study, state=TestState.ACCEPTED, value__isnull=False).values_list(
         "id", "method_code", "value", "sample__pull_point__condition_id", "sample__pull_point__condition__temperature_c",
         "sample__pull_point__condition__light", "sample__pull_point__lot__code", "sample__pull_point__elapsed_months",
-        "sample__pull_point_id",
+        "sample__pull_point__id",
     )
     return pd.DataFrame.from_records(list(rows), columns=RESULT_COLUMNS)
 

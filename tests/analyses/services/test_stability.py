@@ -1,0 +1,209 @@
+"""Stability studies: the protocol, pulls taken once when due, overdue flags, evaluation."""
+import datetime as dt
+
+import numpy as np
+import pytest
+from scipy import optimize, stats
+
+from analyses.errors import InvalidInput, NotAllowed
+from analyses.models import Alert, PullPoint, Sample, SampleKind, StabilityStudy, Test, TestState
+from analyses.services.stability import (
+    DAYS_PER_MONTH,
+    pull_timing,
+    stability_pulls_schedule,
+    stability_study_close,
+    stability_study_create,
+    stability_study_evaluate,
+)
+from tests.factories import SampleFactory, SpecificationLineFactory, TestFactory
+
+R = 8.314462618  # J/(mol K), CODATA 2018 (exact by definition of k_B and N_A)
+TODAY = dt.date(2026, 6, 15)
+
+
+def protocol(lot, **overrides):
+    fields = dict(
+        code="STAB-RSO-1", title="Refined soybean oil, 12 months", product=lot.product_id, lots=[lot.pk],
+        started_on=TODAY - dt.timedelta(days=40), storage_temperature_c=25, claimed_shelf_life_months=12,
+        conditions=[{"temperature_c": 25, "light": "dark"}, {"temperature_c": 40, "light": "dark"}],
+        pull_points=[{"offset": 0, "unit": "months"}, {"offset": 1, "unit": "months"}, {"offset": 2, "unit": "months"}],
+        attributes=[{"method_code": "pv", "maximum": 10}, {"method_code": "av", "maximum": 0.6}],
+    )
+    return fields | overrides
+
+
+def test_create_makes_one_pull_per_condition_lot_and_time(users, lot):
+    study = stability_study_create(users["manager"], **protocol(lot))
+    pulls = PullPoint.objects.filter(study=study)
+    assert pulls.count() == 2 * 1 * 3
+    one_month = pulls.get(condition__temperature_c=25, offset=1)
+    assert one_month.due_on == dt.date(2026, 6, 6)  # 2026-05-06 + 1 calendar month
+    assert one_month.elapsed_months == 1.0
+
+
+def test_pull_timing_in_days_uses_the_mean_gregorian_month():
+    due, months = pull_timing(dt.date(2026, 1, 1), 90, "days")
+    assert due == dt.date(2026, 4, 1)
+    assert months == pytest.approx(90 / (365.25 / 12))  # 365.25 / 12 = 30.4375 days per month
+    assert DAYS_PER_MONTH == 30.4375
+
+
+@pytest.mark.parametrize(
+    "override, field",
+    [
+        ({"conditions": []}, "conditions"),
+        ({"conditions": [{"temperature_c": "warm"}]}, "conditions.0.temperature_c"),
+        ({"conditions": [{"temperature_c": 25, "light": "dim"}]}, "conditions.0.light"),
+        ({"pull_points": [{"offset": -1}]}, "pull_points.0.offset"),
+        ({"pull_points": [{"offset": 1, "unit": "weeks"}]}, "pull_points.0.unit"),
+        ({"attributes": [{"method_code": "xx", "maximum": 1}]}, "attributes.0.method_code"),
+        ({"attributes": [{"method_code": "pv"}]}, "attributes.0"),
+        ({"lots": [999999]}, "lots.0"),
+        ({"claimed_shelf_life_months": 0}, "claimed_shelf_life_months"),
+        ({"code": ""}, "code"),
+    ],
+)
+def test_bad_protocols_name_the_field_and_write_nothing(users, lot, override, field):
+    with pytest.raises(InvalidInput) as caught:
+        stability_study_create(users["manager"], **protocol(lot, **override))
+    assert field in caught.value.fields
+    assert not StabilityStudy.objects.exists()
+
+
+def test_analysts_may_not_create_studies(users, lot):
+    with pytest.raises(NotAllowed):
+        stability_study_create(users["analyst"], **protocol(lot))
+
+
+def test_due_pulls_are_taken_exactly_once_with_the_studys_methods(users, lot):
+    study = stability_study_create(users["manager"], **protocol(lot))
+    first = stability_pulls_schedule(TODAY)
+    second = stability_pulls_schedule(TODAY)
+    assert (first.pulls_taken, second.pulls_taken) == (4, 0)  # 0 and 1 month, two conditions
+    samples = Sample.objects.filter(kind=SampleKind.STABILITY_PULL)
+    assert samples.count() == 4
+    assert set(Test.objects.filter(sample__in=samples).values_list("method_code", flat=True)) == {"av", "pv"}
+    assert PullPoint.objects.filter(study=study, sample__isnull=True).count() == 2
+
+
+def test_pulls_are_taken_from_a_released_lot(users, lot):
+    stability_study_create(users["manager"], **protocol(lot))
+    lot.state = "released"
+    lot.save(update_fields=["state"])
+    assert stability_pulls_schedule(TODAY).pulls_taken == 4
+
+
+def test_overdue_pulls_are_flagged_once_with_one_alert_each(users, lot):
+    stability_study_create(users["manager"], **protocol(lot))  # started 2026-05-06
+    # On 2026-06-15 the 0- and 1-month pulls (due 05-06 and 06-06) are more than 7 days
+    # past due and untested: overdue (grace of 7 days: common practice, no source).
+    first = stability_pulls_schedule(TODAY)
+    assert (first.pulls_taken, first.pulls_overdue, first.alerts_raised) == (4, 4, 4)
+    later = TODAY + dt.timedelta(days=30)  # the 2-month pulls, due 07-06, are taken and then overdue too
+    second = stability_pulls_schedule(later)
+    assert (second.pulls_taken, second.pulls_overdue) == (2, 2)
+    assert PullPoint.objects.filter(overdue_since__isnull=True).count() == 0
+    assert Alert.objects.filter(rule="pull_overdue").count() == 6
+    assert stability_pulls_schedule(later).pulls_overdue == 0
+
+
+def test_a_pull_tested_in_time_is_not_overdue(users, lot):
+    stability_study_create(users["manager"], **protocol(lot, started_on=TODAY))
+    stability_pulls_schedule(TODAY)
+    Test.objects.filter(sample__kind=SampleKind.STABILITY_PULL).update(state=TestState.ACCEPTED)
+    assert stability_pulls_schedule(TODAY + dt.timedelta(days=10)).pulls_overdue == 0
+
+
+def test_a_closed_study_takes_no_pulls(users, lot):
+    study = stability_study_create(users["manager"], **protocol(lot))
+    stability_study_close(users["qa"], study, reason="product discontinued")
+    assert stability_pulls_schedule(TODAY).pulls_taken == 0
+
+
+# --- evaluation -------------------------------------------------------------------
+EA = 90_000.0  # J/mol, inside the 79-104 kJ/mol of vegetable oils (references.md, found)
+K25 = 0.5  # meq O2/kg per month at 25 °C (invented for the test)
+PV0 = 1.0
+
+
+def rate_at(celsius: float) -> float:
+    """Arrhenius: k(T) = k(25 °C) exp(-Ea/R (1/T - 1/298.15))."""
+    return K25 * np.exp(-EA / R * (1 / (celsius + 273.15) - 1 / 298.15))
+
+
+@pytest.fixture
+def evaluated_study(users, lot):
+    months = [0, 1, 2, 3, 6]
+    study = stability_study_create(users["manager"], **protocol(
+        lot, code="STAB-ARR", claimed_shelf_life_months=18,
+        conditions=[{"temperature_c": t} for t in (25, 35, 45)],
+        pull_points=[{"offset": m} for m in months], attributes=[{"method_code": "pv", "maximum": 10}],
+    ))
+    line = SpecificationLineFactory(method_code="pv", maximum="1000")
+    noise = [0.05, -0.05, 0.0, 0.05, -0.05]  # small, so the regression has a residual
+    for pull in PullPoint.objects.filter(study=study).select_related("condition"):
+        value = PV0 + rate_at(pull.condition.temperature_c) * pull.elapsed_months + noise[months.index(pull.offset)]
+        pull.sample = SampleFactory(lot=lot, kind=SampleKind.STABILITY_PULL, label=f"pull-{pull.pk}")
+        pull.save(update_fields=["sample"])
+        TestFactory(sample=pull.sample, specification_line=line, method_code="pv", state=TestState.ACCEPTED,
+                    value=value, reported=f"{value:.1f}", unit="meq O2/kg", verdict="pass")
+    outcome = stability_study_evaluate(study)
+    return study, outcome
+
+
+def test_arrhenius_recovers_the_activation_energy(evaluated_study):
+    _, outcome = evaluated_study
+    arrhenius = outcome.evaluation["attributes"][0]["arrhenius"]
+    assert arrhenius["activation_energy_kj_per_mol"] == pytest.approx(EA / 1000, rel=0.03)
+    # Q10 = exp(10 Ea / (R T (T + 10))) at 298.15 K
+    assert arrhenius["q10"] == pytest.approx(np.exp(10 * EA / (R * 298.15 * 308.15)), rel=0.05)
+    assert arrhenius["rate_per_month"] == pytest.approx(K25, rel=0.05)
+
+
+def test_q1e_shelf_life_at_storage_matches_scipy(evaluated_study):
+    study, outcome = evaluated_study
+    at_25 = next(c for c in outcome.evaluation["attributes"][0]["conditions"] if c["temperature_c"] == 25)
+    rows = Test.objects.filter(sample__pull_point__condition_id=at_25["condition_id"]).values_list(
+        "sample__pull_point__elapsed_months", "value")
+    t, y = map(np.array, zip(*rows))
+    fit = stats.linregress(t, y)
+    n, resid = len(t), y - (fit.intercept + fit.slope * t)
+    s = np.sqrt(resid @ resid / (n - 2))
+    sxx = ((t - t.mean()) ** 2).sum()
+
+    def upper_bound(x):  # one-sided 95 % bound of the regression mean (ICH Q1E, found)
+        return fit.intercept + fit.slope * x + stats.t.ppf(0.95, n - 2) * s * np.sqrt(1 / n + (x - t.mean()) ** 2 / sxx)
+
+    crossing = optimize.brentq(lambda x: upper_bound(x) - 10, 0, 100)
+    shelf = at_25["shelf_life"]
+    assert shelf["estimate_months"] == pytest.approx(crossing, rel=1e-6)
+    # ICH Q1E extrapolation cap: min(2 x 6, 6 + 12) months (references.md: memory)
+    assert shelf["extrapolation_cap_months"] == 12
+    assert shelf["capped"] and shelf["months"] == 12
+    assert outcome.evaluation["predicted_shelf_life_months"] == 12
+
+
+def test_short_shelf_life_and_out_of_limit_pulls_raise_alerts_once(evaluated_study):
+    study, outcome = evaluated_study
+    assert Alert.objects.filter(rule="shelf_life_short", study=study).count() == 1  # 12 < claimed 18
+    # 45 °C: k = 0.5 exp(...) ≈ 5.5 per month, so PV > 10 from 2 months on
+    beyond = Alert.objects.filter(rule="pull_out_of_limit", study=study).count()
+    assert beyond >= 3
+    again = stability_study_evaluate(study)
+    assert again.alerts_raised == 0
+    study.refresh_from_db()
+    assert study.evaluation["predicted_shelf_life_months"] == 12
+
+
+def test_evaluation_with_too_little_data_says_so(users, lot):
+    study = stability_study_create(users["manager"], **protocol(lot, code="STAB-EMPTY"))
+    outcome = stability_study_evaluate(study)
+    assert outcome.evaluation["predicted_shelf_life_months"] is None
+    assert outcome.evaluation["attributes"][0]["basis"] == "not enough data"
+
+
+def test_a_missing_specification_line_fails_that_pull_only(users, lot):
+    stability_study_create(users["manager"], **protocol(lot, attributes=[{"method_code": "iv", "maximum": 200}]))
+    summary = stability_pulls_schedule(TODAY)
+    assert (summary.pulls_taken, summary.pulls_failed) == (0, 4)
+    assert not Sample.objects.filter(kind=SampleKind.STABILITY_PULL).exists()
