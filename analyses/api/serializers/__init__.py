@@ -1,0 +1,1 @@
+"""Request and response serializers of the REST API, one module per topic."""

@@ -1,0 +1,65 @@
+"""Serializer pieces shared by the topics."""
+from __future__ import annotations
+
+from collections.abc import Mapping
+
+from drf_spectacular.utils import extend_schema_field
+from rest_framework import serializers
+from rest_framework.exceptions import ValidationError
+
+from analyses.api.schema import IDEMPOTENCY_KEY_HEADER, IDEMPOTENCY_KEY_MAX
+
+
+class StrictSerializer(serializers.Serializer):
+    """An input serializer that refuses fields it does not know, so a misspelt field
+    ("maximun") is named in a 400 instead of being silently ignored."""
+
+    def to_internal_value(self, data):
+        if isinstance(data, Mapping):
+            unknown = sorted(set(data) - set(self.fields))
+            if unknown:
+                expected = ", ".join(sorted(self.fields))
+                raise ValidationError({name: [f"is not a field here (expected: {expected})"] for name in unknown})
+        return super().to_internal_value(data)
+
+
+class ReasonSerializer(StrictSerializer):
+    reason = serializers.CharField(help_text="Why; kept in the audit trail")
+
+
+class NoteSerializer(StrictSerializer):
+    note = serializers.CharField(required=False, allow_blank=True, default="", help_text="Optional remark")
+
+
+class IdempotencyKeySerializer(serializers.Serializer):
+    key = serializers.CharField(max_length=IDEMPOTENCY_KEY_MAX, required=False, allow_null=True)
+
+
+def idempotency_key(request) -> str | None:
+    """The request's Idempotency-Key header, checked; a bad one is a 400 naming the header."""
+    raw = request.headers.get(IDEMPOTENCY_KEY_HEADER)
+    if raw is None:
+        return None
+    serializer = IdempotencyKeySerializer(data={"key": raw})
+    if not serializer.is_valid():
+        raise ValidationError({IDEMPOTENCY_KEY_HEADER: serializer.errors["key"]})
+    return serializer.validated_data["key"]
+
+
+def username_field(source: str, **kwargs) -> serializers.CharField:
+    """A user shown by username (null when there is none)."""
+    return serializers.CharField(source=f"{source}.username", read_only=True, allow_null=True, **kwargs)
+
+
+def enum_field_class(component_name: str, choices, *, blank: bool = False) -> type[serializers.ChoiceField]:
+    """A ChoiceField whose choice set is one named component of the OpenAPI schema, so
+    fields named alike ("state" of lots, samples, tests) do not collide in generated
+    clients. ``blank`` adds "" (a value not set)."""
+    values = [value for value, _ in choices] + ([""] if blank else [])
+    schema = {
+        "type": "string",
+        "enum": values,
+        "description": "\n".join(f"* `{value}` - {label}" for value, label in choices),
+    }
+    field_class = type(f"{component_name}Field", (serializers.ChoiceField,), {"__module__": __name__})
+    return extend_schema_field(schema, component_name=component_name)(field_class)

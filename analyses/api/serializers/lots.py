@@ -1,0 +1,122 @@
+"""Lots, their readiness for release, and certificates of analysis."""
+from __future__ import annotations
+
+from drf_spectacular.utils import extend_schema_field
+from rest_framework import serializers
+
+from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.states import LotStateField
+from analyses.models import Certificate, Lot, LotOrigin, LotState, Product
+
+
+class LotSerializer(serializers.ModelSerializer):
+    product_code = serializers.CharField(source="product.code", read_only=True)
+    state = LotStateField(choices=LotState.choices, read_only=True)
+    created_by = username_field("created_by")
+    decided_by = username_field("decided_by")
+    sample_count = serializers.IntegerField(
+        read_only=True, allow_null=True, default=None, help_text="In lists; null in write responses"
+    )
+    open_investigations = serializers.IntegerField(
+        read_only=True, allow_null=True, default=None, help_text="In lists; null in write responses"
+    )
+
+    class Meta:
+        model = Lot
+        fields = [
+            "id", "code", "product", "product_code", "origin", "supplier", "container_ref", "quantity_kg",
+            "produced_on", "state", "decision_reason", "decided_by", "decided_at", "created_by", "created_at",
+            "sample_count", "open_investigations",
+        ]
+        read_only_fields = fields
+
+
+class LotCreateSerializer(StrictSerializer):
+    code = serializers.CharField(max_length=60)
+    product = serializers.PrimaryKeyRelatedField(queryset=Product.objects.all())
+    origin = serializers.ChoiceField(choices=LotOrigin.choices)
+    supplier = serializers.CharField(max_length=200, required=False, allow_blank=True, default="", help_text="Required for deliveries")
+    container_ref = serializers.CharField(
+        max_length=100, required=False, allow_blank=True, default="", help_text="Tank or container; required for deliveries"
+    )
+    quantity_kg = serializers.DecimalField(max_digits=14, decimal_places=3, required=False, allow_null=True)
+    produced_on = serializers.DateField(required=False, allow_null=True, help_text="Production or delivery date")
+
+
+class ReadinessSerializer(serializers.Serializer):
+    lot = serializers.CharField(help_text="Lot code")
+    state = serializers.CharField()
+    releasable = serializers.BooleanField()
+    missing = serializers.ListField(child=serializers.CharField(), help_text="What stands between the lot and its release")
+
+
+# The certificate's content, described for clients; it is returned exactly as stored.
+class CertificateLotSerializer(serializers.Serializer):
+    code = serializers.CharField()
+    origin = serializers.CharField()
+    supplier = serializers.CharField(allow_null=True)
+    container_ref = serializers.CharField(allow_null=True)
+    quantity_kg = serializers.CharField(allow_null=True)
+    produced_on = serializers.DateField(allow_null=True)
+
+
+class CertificateProductSerializer(serializers.Serializer):
+    code = serializers.CharField()
+    name = serializers.CharField()
+    oil_type = serializers.CharField()
+
+
+class CertificateSpecificationSerializer(serializers.Serializer):
+    version = serializers.IntegerField()
+    effective_from = serializers.DateField()
+    approved_by = serializers.CharField(allow_null=True)
+    approved_at = serializers.DateTimeField(allow_null=True)
+
+
+class CertificateResultSerializer(serializers.Serializer):
+    sample = serializers.CharField(help_text="Sample label")
+    sample_kind = serializers.CharField()
+    test = serializers.IntegerField()
+    method = serializers.CharField()
+    method_title = serializers.CharField()
+    standards = serializers.ListField(child=serializers.CharField())
+    method_versions = serializers.ListField(child=serializers.CharField())
+    replicates = serializers.ListField(child=serializers.CharField(), help_text="Each replicate as reported")
+    reported = serializers.CharField(help_text="Mean of the replicates, ASTM E29 rounded")
+    unit = serializers.CharField()
+    minimum = serializers.CharField(allow_null=True)
+    maximum = serializers.CharField(allow_null=True)
+    comparison = serializers.CharField()
+    release_critical = serializers.BooleanField()
+    verdict = serializers.CharField()
+    duplicate_check = serializers.DictField(allow_null=True)
+    accepted_by = serializers.CharField(allow_null=True)
+    accepted_at = serializers.DateTimeField(allow_null=True)
+
+
+class CertificateContentSerializer(serializers.Serializer):
+    certificate_number = serializers.CharField()
+    lot = CertificateLotSerializer()
+    product = CertificateProductSerializer()
+    specifications = CertificateSpecificationSerializer(many=True)
+    results = CertificateResultSerializer(many=True)
+    decision_rule = serializers.CharField()
+    released_by = serializers.CharField()
+    released_at = serializers.DateTimeField()
+
+
+@extend_schema_field(CertificateContentSerializer)
+class CertificateContentField(serializers.JSONField):
+    """The stored content, passed through untouched."""
+
+
+class CertificateSerializer(serializers.ModelSerializer):
+    lot = serializers.CharField(source="lot.code", read_only=True, help_text="Lot code")
+    lot_id = serializers.IntegerField(read_only=True)
+    issued_by = username_field("issued_by")
+    content = CertificateContentField(read_only=True)
+
+    class Meta:
+        model = Certificate
+        fields = ["number", "lot", "lot_id", "issued_by", "issued_at", "content_sha256", "content"]
+        read_only_fields = fields

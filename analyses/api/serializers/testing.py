@@ -1,0 +1,76 @@
+"""Tests (one method on one sample): rows of lists and queues, assignment and review."""
+from __future__ import annotations
+
+from django.utils import timezone
+from rest_framework import serializers
+
+from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.states import TestStateField
+from analyses.models import OPEN_TEST_STATES, Priority, Test, TestState
+
+
+class TestSerializer(serializers.ModelSerializer):
+    __test__ = False  # not a pytest test class
+
+    sample_label = serializers.CharField(source="sample.label", read_only=True)
+    lot = serializers.IntegerField(source="sample.lot_id", read_only=True)
+    lot_code = serializers.CharField(source="sample.lot.code", read_only=True)
+    product_code = serializers.CharField(source="sample.lot.product.code", read_only=True)
+    minimum = serializers.CharField(source="specification_line.minimum", read_only=True)
+    maximum = serializers.CharField(source="specification_line.maximum", read_only=True)
+    comparison = serializers.CharField(source="specification_line.comparison", read_only=True)
+    release_critical = serializers.BooleanField(source="specification_line.release_critical", read_only=True)
+    state = TestStateField(choices=TestState.choices, read_only=True)
+    assignee = username_field("assignee")
+    reviewed_by = username_field("reviewed_by")
+    is_overdue = serializers.SerializerMethodField(help_text="Open and due before today")
+
+    class Meta:
+        model = Test
+        fields = [
+            "id", "sample", "sample_label", "lot", "lot_code", "product_code", "method_code", "replicates",
+            "priority", "due_on", "is_overdue", "state", "assignee", "assigned_at", "retest_of",
+            "value", "reported", "unit", "verdict", "duplicate_check", "minimum", "maximum", "comparison",
+            "release_critical", "reviewed_by", "reviewed_at", "review_note", "created_at",
+        ]
+        read_only_fields = fields
+
+    def get_is_overdue(self, test: Test) -> bool:
+        annotated = getattr(test, "is_overdue", None)
+        if annotated is not None:
+            return bool(annotated)
+        return test.state in OPEN_TEST_STATES and test.due_on < timezone.localdate()
+
+
+class TestAssignmentSerializer(serializers.ModelSerializer):
+    """A test as the assignment left it."""
+
+    __test__ = False
+
+    state = TestStateField(choices=TestState.choices, read_only=True)
+    assignee = username_field("assignee")
+
+    class Meta:
+        model = Test
+        fields = ["id", "sample", "method_code", "state", "assignee", "assigned_at", "priority", "due_on"]
+        read_only_fields = fields
+
+
+class TestAssignSerializer(StrictSerializer):
+    __test__ = False
+
+    tests = serializers.ListField(
+        child=serializers.IntegerField(min_value=1), allow_empty=False, max_length=500,
+        help_text="Test ids; all are assigned or none",
+    )
+    assignee = serializers.IntegerField(help_text="User id of the analyst")
+    priority = serializers.ChoiceField(choices=Priority.choices, required=False, allow_null=True)
+    due_on = serializers.DateField(required=False, allow_null=True)
+
+    def validate_tests(self, ids: list[int]) -> list[int]:
+        """Unknown ids are named by position (``tests.3``), found in one query."""
+        known = set(Test.objects.filter(pk__in=ids).values_list("pk", flat=True))
+        unknown = {str(index): [f"test {pk} not found"] for index, pk in enumerate(ids) if pk not in known}
+        if unknown:
+            raise serializers.ValidationError(unknown)
+        return ids

@@ -1,0 +1,113 @@
+"""Result entry (one, or many all-or-nothing), corrections, and one result."""
+from __future__ import annotations
+
+from collections.abc import Iterable
+
+from django.utils import timezone
+from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
+from rest_framework import status
+from rest_framework.generics import RetrieveAPIView
+from rest_framework.permissions import IsAuthenticated
+from rest_framework.request import Request
+from rest_framework.response import Response
+from rest_framework.views import APIView
+
+from analyses.api.permissions import requires
+from analyses.api.schema import IDEMPOTENCY_KEY, errors
+from analyses.api.serializers.common import idempotency_key
+from analyses.api.serializers.results import (
+    ResultCorrectSerializer,
+    ResultRecordBulkSerializer,
+    ResultRecordSerializer,
+    ResultSerializer,
+)
+from analyses.api.views.common import validated
+from analyses.models import Result
+from analyses.selectors.api_results import result_rows
+from analyses.services.results import result_correct, result_record, result_record_bulk
+
+RECORD = requires("record_result", "enter results")
+REPLAYED_HEADER = "Idempotent-Replayed"
+REPLAY_NOTE = (
+    f"A repeat with the same Idempotency-Key returns the first result with the same status; the response then "
+    f"carries the header `{REPLAYED_HEADER}: true`."
+)
+
+
+def _created(results: Iterable[Result], body, started) -> Response:
+    """201 with ``body``; flagged as a replay when every result existed before the request."""
+    replayed = all(result.entered_at < started for result in results)
+    return Response(body, status=status.HTTP_201_CREATED, headers={REPLAYED_HEADER: "true"} if replayed else None)
+
+
+class ResultRecordView(APIView):
+    permission_classes = [IsAuthenticated, RECORD]
+
+    @extend_schema(
+        request=ResultRecordSerializer,
+        parameters=[IDEMPOTENCY_KEY],
+        responses={201: OpenApiResponse(ResultSerializer, description=REPLAY_NOTE), **errors(400, 403, 409)},
+        summary="Enter one replicate of a test assigned to me",
+        description="Plugin input errors name the input: `inputs.sample_mass`. " + REPLAY_NOTE,
+    )
+    def post(self, request: Request) -> Response:
+        data = validated(ResultRecordSerializer, request)
+        key = idempotency_key(request)
+        started = timezone.now()
+        result = result_record(
+            request.user, data["test"], inputs=data["inputs"], replicate=data.get("replicate"), idempotency_key=key
+        )
+        return _created([result], ResultSerializer(result).data, started)
+
+
+class ResultRecordBulkView(APIView):
+    permission_classes = [IsAuthenticated, RECORD]
+
+    @extend_schema(
+        request=ResultRecordBulkSerializer,
+        parameters=[IDEMPOTENCY_KEY],
+        responses={
+            201: OpenApiResponse(ResultSerializer(many=True), description=REPLAY_NOTE),
+            **errors(400, 403, 409),
+        },
+        summary="Enter many results, all or nothing",
+        description=(
+            "The first bad item rolls everything back and is named: `results.2.inputs.sample_mass`. "
+            "With the Idempotency-Key header, item i without its own key uses \"<key>#i\". " + REPLAY_NOTE
+        ),
+    )
+    def post(self, request: Request) -> Response:
+        data = validated(ResultRecordBulkSerializer, request)
+        key = idempotency_key(request)
+        items = [dict(item) for item in data["results"]]
+        if key:
+            for index, item in enumerate(items):
+                item.setdefault("idempotency_key", f"{key}#{index}")
+        started = timezone.now()
+        results = result_record_bulk(request.user, items)
+        return _created(results, ResultSerializer(results, many=True).data, started)
+
+
+@extend_schema_view(get=extend_schema(summary="One result", responses={200: ResultSerializer, **errors(404)}))
+class ResultDetailView(RetrieveAPIView):
+    serializer_class = ResultSerializer
+
+    def get_queryset(self):
+        return result_rows()
+
+
+class ResultCorrectView(APIView):
+    permission_classes = [IsAuthenticated, requires("record_result", "correct results")]
+
+    @extend_schema(
+        request=ResultCorrectSerializer,
+        parameters=[IDEMPOTENCY_KEY],
+        responses={201: OpenApiResponse(ResultSerializer, description=REPLAY_NOTE), **errors(400, 403, 404, 409)},
+        summary="Correct a result before acceptance: a new version with the reason; the old one is kept, superseded",
+    )
+    def post(self, request: Request, pk: int) -> Response:
+        data = validated(ResultCorrectSerializer, request)
+        key = idempotency_key(request)
+        started = timezone.now()
+        correction = result_correct(request.user, pk, inputs=data["inputs"], reason=data["reason"], idempotency_key=key)
+        return _created([correction], ResultSerializer(correction).data, started)

@@ -1,0 +1,29 @@
+"""API test set-up: the domain fixtures, and clients signed in with each role's token."""
+from __future__ import annotations
+
+import pytest
+from rest_framework.authtoken.models import Token
+from rest_framework.test import APIClient
+
+from tests.analyses.lab_setup import *  # noqa: F403  (shared fixtures)
+
+
+@pytest.fixture
+def client_for(db):
+    """An APIClient sending ``user``'s token (None: anonymous)."""
+
+    def make(user) -> APIClient:
+        client = APIClient()
+        if user is not None:
+            token, _ = Token.objects.get_or_create(user=user)
+            client.credentials(HTTP_AUTHORIZATION=f"Token {token.key}")
+        return client
+
+    return make
+
+
+@pytest.fixture
+def clients(users, client_for) -> dict[str, APIClient]:
+    """role name ("manager", "analyst", "analyst2", "qa", "admin", "nobody", "anonymous") -> client"""
+    signed_in = {name: client_for(user) for name, user in users.items()}
+    return {**signed_in, "anonymous": client_for(None)}
