@@ -9,27 +9,13 @@ import math
 from dataclasses import asdict
 from typing import Any
 
-import pandas as pd
-
 from analyses.errors import InvalidInput
-from analyses.models import AlertSource, StabilityStudy, Test, TestState
+from analyses.models import AlertSource, StabilityStudy
+from analyses.selectors.stability import study_results
 from analyses.services.alerts import AlertDraft
 from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
 from analyses.stability.kinetics import kinetics_fit
 from analyses.stability.shelf_life import shelf_life_estimate
-
-RESULT_COLUMNS = ["test_id", "method_code", "value", "condition_id", "temperature_c", "light", "lot", "months", "pull_id"]
-
-
-def study_results(study: StabilityStudy) -> pd.DataFrame:
-    """Accepted results of the study's pulls, one row per test."""
-    rows = Test.objects.filter(sample__pull_point__study=study, state=TestState.ACCEPTED, value__isnull=False).values_list(
-        "id", "method_code", "value", "sample__pull_point__condition_id", "sample__pull_point__condition__temperature_c",
-        "sample__pull_point__condition__light", "sample__pull_point__lot__code", "sample__pull_point__elapsed_months",
-        "sample__pull_point__id",
-    )
-    return pd.DataFrame.from_records(list(rows), columns=RESULT_COLUMNS)
-
 
 def _limit(attribute) -> tuple[float, str]:
     return (attribute.maximum, "upper") if attribute.maximum is not None else (attribute.minimum, "lower")
