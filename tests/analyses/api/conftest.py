@@ -5,6 +5,7 @@ import pytest
 from rest_framework.authtoken.models import Token
 from rest_framework.test import APIClient
 
+from tests.analyses.api.support import Lab
 from tests.analyses.lab_setup import *  # noqa: F403  (shared fixtures)
 
 
@@ -27,3 +28,8 @@ def clients(users, client_for) -> dict[str, APIClient]:
     """role name ("manager", "analyst", "analyst2", "qa", "admin", "nobody", "anonymous") -> client"""
     signed_in = {name: client_for(user) for name, user in users.items()}
     return {**signed_in, "anonymous": client_for(None)}
+
+
+@pytest.fixture
+def lab(users) -> Lab:
+    return Lab(users)

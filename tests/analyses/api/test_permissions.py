@@ -1,0 +1,202 @@
+"""Who may do what: every role against every endpoint that changes something (and the
+restricted reads). The role rules are the project's own (analyses/roles.py and the
+four-eyes and segregation-of-duties rules of the services); no outside source."""
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+import pytest
+
+from analyses.api.urls import urlpatterns
+from analyses.models import Result, SampleState
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.results import result_record
+from analyses.services.samples import sample_hold
+from tests.analyses.api.support import Lab, row_counts
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN
+from tests.factories import UserFactory
+
+pytestmark = pytest.mark.django_db
+
+ROLES = ("manager", "analyst", "qa", "admin", "nobody", "anonymous")
+
+
+@dataclass(frozen=True)
+class Call:
+    method: str
+    path: str
+    body: dict[str, Any] | None = None
+
+
+@dataclass(frozen=True)
+class Case:
+    name: str
+    arrange: Callable[[Lab], Call]
+    allowed: dict[str, int]  # role -> status when allowed; other signed-in roles get 403
+
+
+def _resume(lab: Lab) -> Call:
+    sample = sample_hold(lab.manager, lab.received(), reason="seal broken")
+    assert sample.state == SampleState.ON_HOLD
+    return Call("post", f"/api/samples/{sample.pk}/resume/", {"reason": "new seal checked"})
+
+
+def _correct(lab: Lab) -> Call:
+    av_test, _ = lab.assigned("analyst")
+    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+    return Call("post", f"/api/results/{result.pk}/correct/", {"inputs": AV_LOW_TWIN, "reason": "burette misread"})
+
+
+MANAGER_ADMIN = {"manager": 201, "admin": 201}
+DRAFTERS = {"manager": 201, "qa": 201, "admin": 201}
+QA_ADMIN_200 = {"qa": 200, "admin": 200}
+ENTERERS = {"analyst": 201, "admin": 201}
+REVIEWERS = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200}
+
+CASES = [
+    Case("product create", lambda lab: Call("post", "/api/products/", {"code": "HOO", "name": "High-oleic oil"}), MANAGER_ADMIN),
+    Case(
+        "specification create",
+        lambda lab: Call("post", "/api/specifications/", {
+            "product": lab.product.pk, "effective_from": "2025-01-01", "lines": [{"method": "av", "maximum": "0.6"}],
+        }),
+        DRAFTERS,
+    ),
+    Case(
+        "specification lines replace",
+        lambda lab: Call("put", f"/api/specifications/{lab.draft.pk}/lines/", {"lines": [{"method": "pv", "maximum": "5"}]}),
+        {"manager": 200, "qa": 200, "admin": 200},
+    ),
+    Case("specification approve", lambda lab: Call("post", f"/api/specifications/{lab.draft.pk}/approve/"), QA_ADMIN_200),
+    Case(
+        "specification revise",
+        lambda lab: Call("post", f"/api/specifications/{lab.specification.pk}/revise/", {"effective_from": "2031-01-01"}),
+        DRAFTERS,
+    ),
+    Case("lot create", lambda lab: Call("post", "/api/lots/", {"code": "L-9", "product": lab.product.pk, "origin": "production"}), MANAGER_ADMIN),
+    Case("lot release", lambda lab: (lab.accepted(), Call("post", f"/api/lots/{lab.lot.pk}/release/"))[1], {"qa": 201, "admin": 201}),
+    Case("lot reject", lambda lab: Call("post", f"/api/lots/{lab.lot.pk}/reject/", {"reason": "tank contaminated"}), QA_ADMIN_200),
+    Case("sample register", lambda lab: Call("post", "/api/samples/", {"lot": lab.lot.pk}), MANAGER_ADMIN),
+    Case(
+        "sample receive",
+        lambda lab: Call("post", f"/api/samples/{lab.sample().pk}/receive/", {"condition": "sealed", "storage_place": "shelf 3"}),
+        {"manager": 200, "admin": 200},
+    ),
+    Case(
+        "sample hold",
+        lambda lab: Call("post", f"/api/samples/{lab.received().pk}/hold/", {"reason": "seal broken"}),
+        {"manager": 200, "qa": 200, "admin": 200},
+    ),
+    Case("sample resume", _resume, {"manager": 200, "qa": 200, "admin": 200}),
+    Case(
+        "sample cancel",
+        lambda lab: Call("post", f"/api/samples/{lab.sample().pk}/cancel/", {"reason": "duplicate registration"}),
+        {"manager": 200, "admin": 200},
+    ),
+    Case(
+        "tests assign",
+        lambda lab: Call("post", "/api/tests/assign/", {
+            "tests": list(lab.received().tests.values_list("pk", flat=True)), "assignee": lab.users["analyst"].pk,
+        }),
+        {"manager": 200, "admin": 200},
+    ),
+    Case("test accept", lambda lab: Call("post", f"/api/tests/{lab.entered('analyst2')[0].pk}/accept/"), REVIEWERS),
+    Case(
+        "test send back",
+        lambda lab: Call("post", f"/api/tests/{lab.entered('analyst2')[0].pk}/send-back/", {"reason": "blank too high"}),
+        REVIEWERS,
+    ),
+    Case("result record", lambda lab: Call("post", "/api/results/", {"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW}), ENTERERS),
+    Case(
+        "result record bulk",
+        lambda lab: Call("post", "/api/results/bulk/", {"results": [{"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW}]}),
+        ENTERERS,
+    ),
+    Case("result correct", _correct, ENTERERS),
+    Case(
+        "investigation close",
+        lambda lab: Call("post", f"/api/investigations/{lab.investigation().pk}/close/", {
+            "conclusion": "confirmed", "findings": "re-titration agrees",
+        }),
+        QA_ADMIN_200,
+    ),
+    # restricted reads
+    Case("lot audit trail", lambda lab: Call("get", f"/api/lots/{lab.lot.pk}/audit-trail/"), {"manager": 200, "qa": 200, "admin": 200}),
+    Case(
+        "sample audit trail",
+        lambda lab: Call("get", f"/api/samples/{lab.sample().pk}/audit-trail/"),
+        {"manager": 200, "qa": 200, "admin": 200},
+    ),
+    Case("turnaround", lambda lab: Call("get", "/api/turnaround/"), {"manager": 200, "admin": 200}),
+]
+
+
+def expected_status(case: Case, role: str) -> int:
+    if role == "anonymous":
+        return 401
+    return case.allowed.get(role, 403)
+
+
+@pytest.mark.parametrize("role", ROLES)
+@pytest.mark.parametrize("case", CASES, ids=[case.name for case in CASES])
+def test_permission_matrix(case: Case, role: str, lab, clients):
+    call = case.arrange(lab)
+    before = row_counts()
+    client = clients[role]
+    response = getattr(client, call.method)(call.path, call.body, format="json")
+    expected = expected_status(case, role)
+    assert response.status_code == expected, (role, case.name, response.content)
+    body = response.json()
+    if expected in (401, 403):
+        assert body["detail"]  # the reason is given
+        assert row_counts() == before  # a refusal writes nothing
+
+
+def test_every_state_changing_route_is_in_the_matrix():
+    """A new write endpoint must be added to the matrix above."""
+    covered = {case.name for case in CASES}
+    writers = {
+        pattern.name for pattern in urlpatterns
+        if any(hasattr(pattern.callback.view_class, method) for method in ("post", "put", "patch", "delete"))
+    }
+    expected_names = {
+        "product-list": "product create", "specification-list": "specification create",
+        "specification-lines": "specification lines replace", "specification-approve": "specification approve",
+        "specification-revise": "specification revise", "lot-list": "lot create", "lot-release": "lot release",
+        "lot-reject": "lot reject", "sample-list": "sample register", "sample-receive": "sample receive",
+        "sample-hold": "sample hold", "sample-resume": "sample resume", "sample-cancel": "sample cancel",
+        "test-assign": "tests assign", "test-accept": "test accept", "test-send-back": "test send back",
+        "result-record": "result record", "result-record-bulk": "result record bulk", "result-correct": "result correct",
+        "investigation-close": "investigation close",
+    }
+    # stateless or open to everyone: the calculator and the token endpoint
+    assert writers - set(expected_names) == {"calculation", "auth-token"}
+    assert {expected_names[name] for name in writers if name in expected_names} <= covered
+
+
+def test_qa_in_the_analyst_group_still_may_not_enter_results(users, lab, clients, client_for):
+    """Segregation of duties (the project's rule, analyses/services/access.py): a QA reviewer
+    never enters raw data, even when also in the analyst group."""
+    both = UserFactory(username="qa-analyst", roles=["qa_reviewer", "analyst"])
+    av_test, _ = lab.assigned("analyst")
+    test_assign_bulk(lab.manager, [av_test], assignee=both)
+    response = client_for(both).post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
+    assert response.status_code == 403
+    assert "QA reviewer" in response.json()["detail"]
+    assert not Result.objects.exists()
+
+
+def test_four_eyes_the_enterer_may_not_accept(lab, clients):
+    av_test, _ = lab.entered("analyst")
+    response = clients["analyst"].post(f"/api/tests/{av_test.pk}/accept/", format="json")
+    assert response.status_code == 403
+    assert "four-eyes" in response.json()["detail"]
+
+
+def test_an_analyst_may_not_enter_results_on_another_analysts_test(lab, clients):
+    av_test, _ = lab.assigned("analyst2")
+    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
+    assert response.status_code == 403
+    assert "assigned to analyst2" in response.json()["detail"]
