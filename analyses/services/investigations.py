@@ -31,7 +31,7 @@ from analyses.models import (
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.lots import lot_reject_locked
 from analyses.services.samples import TEST_FIELDS
-from analyses.services.transitions import record_test_move, sample_sync
+from analyses.services.transitions import lot_takes_work, record_test_move, sample_sync
 
 
 def _retest(actor: Actor, test: Test, findings: str) -> Test:
@@ -83,7 +83,7 @@ def investigation_close(
         test = Test.objects.select_related("sample", "specification_line").get(pk=investigation.test_id)
         retest = None
         if conclusion == Conclusion.LAB_ERROR:
-            if lot.state != LotState.OPEN:
+            if not lot_takes_work(lot, test.sample.kind):
                 raise Conflict(f"lot {lot.code} is {lot.state}; a retest is no longer possible")
             test.sample = Sample.objects.select_for_update().get(pk=test.sample_id)
             Test.objects.select_for_update().get(pk=test.pk)

@@ -24,7 +24,6 @@ from analyses.errors import Conflict, DomainError, InvalidInput, NotAllowed, Not
 from analyses.models import (
     WORKABLE_TEST_STATES,
     AuditAction,
-    LotState,
     Result,
     ResultStatus,
     Sample,
@@ -40,7 +39,7 @@ from analyses.services.access import (
     require_permission,
     required_text,
 )
-from analyses.services.transitions import record_test_move, sample_require_workable
+from analyses.services.transitions import lot_takes_work, record_test_move, sample_require_workable
 from analyses.services.verdicts import line_verdict
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult
 from plugins.registry import UnknownMethod, get_registry
@@ -107,7 +106,7 @@ def _check_workable(test: Test) -> None:
     if test.state not in WORKABLE_TEST_STATES:
         raise Conflict(f"test {test.pk} is {test.state}; results can be entered only when it is assigned or sent back")
     sample_require_workable(test.sample)
-    if test.sample.lot.state != LotState.OPEN:
+    if not lot_takes_work(test.sample.lot, test.sample.kind):
         raise Conflict(f"lot {test.sample.lot.code} is {test.sample.lot.state}")
 
 

@@ -12,7 +12,6 @@ from analyses.errors import Conflict, InvalidInput
 from analyses.models import (
     AuditAction,
     Lot,
-    LotState,
     Priority,
     Sample,
     SampleKind,
@@ -21,7 +20,7 @@ from analyses.models import (
 )
 from analyses.selectors.specifications import specification_effective
 from analyses.services.access import Actor, fetch, require_permission, required_text
-from analyses.services.transitions import cancel_open_tests, sample_move, sample_move_check
+from analyses.services.transitions import cancel_open_tests, lot_takes_work, sample_move, sample_move_check
 from plugins.registry import get_registry
 
 SAMPLE_FIELDS = ("lot", "label", "kind", "state", "taken_at")
@@ -29,14 +28,11 @@ RECEIPT_FIELDS = ("received_by", "received_at", "condition_on_receipt", "storage
 TEST_FIELDS = ("sample", "specification_line", "method_code", "replicates", "priority", "due_on", "state", "retest_of")
 # Retain samples are stored, not tested; the other kinds get the specification's tests.
 TESTED_KINDS = (SampleKind.ROUTINE, SampleKind.QC_CHECK, SampleKind.STABILITY_PULL)
-# A stability study follows a lot after it is released; its pulls and retains are still sampled.
-AFTER_RELEASE_KINDS = (SampleKind.STABILITY_PULL, SampleKind.RETAIN)
 
 
 def _check_lot_takes(lot: Lot, kind: str) -> None:
-    if lot.state == LotState.OPEN or (lot.state == LotState.RELEASED and kind in AFTER_RELEASE_KINDS):
-        return
-    raise Conflict(f"lot {lot.code} is {lot.state}; a {kind} sample cannot be taken from it")
+    if not lot_takes_work(lot, kind):
+        raise Conflict(f"lot {lot.code} is {lot.state}; a {kind} sample cannot be taken from it")
 
 
 def _next_label(lot: Lot) -> str:

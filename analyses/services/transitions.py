@@ -18,7 +18,7 @@ from django.db.models import Q
 
 from analyses.audit import audit_append
 from analyses.errors import Conflict
-from analyses.models import AuditAction, Sample, SampleState, Test, TestState
+from analyses.models import AuditAction, Lot, LotState, Sample, SampleKind, SampleState, Test, TestState
 from analyses.services.access import Actor
 
 S = SampleState
@@ -33,6 +33,9 @@ ALLOWED_MOVES: dict[str, frozenset[str]] = {
     S.CANCELLED: frozenset(),
 }
 FINAL_SAMPLE_STATES = (S.RELEASED, S.REJECTED, S.CANCELLED)
+# A stability study follows a lot after it is released; its pulls and retains are still
+# sampled and (pulls) tested then.
+AFTER_RELEASE_KINDS = (SampleKind.STABILITY_PULL, SampleKind.RETAIN)
 # tests that count for a sample's progress (invalidated and cancelled ones are history)
 LIVE_TEST_Q = ~Q(state__in=[TestState.INVALIDATED, TestState.CANCELLED])
 
@@ -64,6 +67,12 @@ def sample_move(actor: Actor, sample: Sample, target: str, *, reason: str = "") 
         actor, AuditAction.TRANSITION, sample, changes, reason=reason, lot_ref=sample.lot_id, sample_ref=sample.pk
     )
     return sample
+
+
+def lot_takes_work(lot: Lot, kind: str) -> bool:
+    """Whether samples of ``kind`` may be taken from, and tested on, ``lot`` in its state:
+    any kind while it is open; stability pulls and retains after its release too."""
+    return lot.state == LotState.OPEN or (lot.state == LotState.RELEASED and kind in AFTER_RELEASE_KINDS)
 
 
 def sample_require_workable(sample: Sample) -> None:

@@ -8,11 +8,13 @@ from django.utils import timezone
 
 from analyses.errors import Conflict, InvalidInput
 from analyses.models import AuditEntry, Sample, SampleState, Test, TestState
-from analyses.services.lots import lot_reject
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.lots import lot_reject, lot_release
 from analyses.services.results import result_record
+from analyses.services.review import test_accept
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register, sample_resume
 from analyses.services.specifications import specification_approve, specification_revise
-from tests.analyses.lab_setup import AV_LOW
+from tests.analyses.lab_setup import AV_LOW, PV_LOW, PV_LOW_TWIN, enter_duplicates, enter_passing
 
 pytestmark = pytest.mark.django_db
 
@@ -130,3 +132,21 @@ def test_register_refuses_a_used_label_and_a_closed_lot(users, sample):
         sample_register(users["manager"], sample.lot, label="L-100-Z")
     sample.refresh_from_db()
     assert sample.state == SampleState.REJECTED
+
+
+def test_a_released_lot_still_takes_stability_pulls_and_their_tests_but_no_routine_sample(users, assigned_tests):
+    manager = users["manager"]
+    for test in enter_passing(users["analyst"], assigned_tests):
+        test_accept(users["analyst2"], test)
+    lot = assigned_tests[0].sample.lot
+    lot_release(users["qa"], lot)
+    with pytest.raises(Conflict, match="released"):
+        sample_register(manager, lot, label="L-100-LATE")
+    pull = sample_register(manager, lot, kind="stability_pull", label="L-100-M3")
+    pull = sample_receive(manager, pull, condition="ok", storage_place="chamber 25 C", methods=["pv"])
+    (pv,) = pull.tests.all()
+    test_assign_bulk(manager, [pv], assignee=users["analyst"])
+    pv = enter_duplicates(users["analyst"], pv, PV_LOW, PV_LOW_TWIN)
+    assert test_accept(users["analyst2"], pv).state == TestState.ACCEPTED
+    pull.refresh_from_db()
+    assert pull.state == SampleState.TESTING_COMPLETE
