@@ -14,6 +14,12 @@ def api_root(request, format=None):
         {
             "methods": reverse("method-list", request=request, format=format),
             "calculations": reverse("calculation", request=request, format=format),
+            "lots": reverse("lot-list", request=request, format=format),
+            "samples": reverse("sample-list", request=request, format=format),
+            "tests": reverse("test-list", request=request, format=format),
+            "stability_studies": reverse("study-list", request=request, format=format),
+            "alerts": reverse("alert-list", request=request, format=format),
+            "trend_series": reverse("series-list", request=request, format=format),
             "schema": reverse("schema", request=request, format=format),
             "docs": reverse("api-docs", request=request, format=format),
         }

@@ -1,0 +1,94 @@
+"""Stability studies: the protocol in, the study with its latest evaluation out."""
+from __future__ import annotations
+
+from rest_framework import serializers
+
+from analyses.api.serializers.common import StrictSerializer, enum_field_class, username_field
+from analyses.models import Light, Lot, OffsetUnit, Product, PullPoint, StabilityStudy, StudyState
+
+LightField = enum_field_class("LightEnum", Light.choices)
+OffsetUnitField = enum_field_class("OffsetUnitEnum", OffsetUnit.choices)
+StudyStateField = enum_field_class("StudyStateEnum", StudyState.choices)
+
+
+class ConditionInSerializer(StrictSerializer):
+    temperature_c = serializers.FloatField(min_value=-40, max_value=120)
+    light = LightField(choices=Light.choices, default=Light.DARK)
+
+
+class PullInSerializer(StrictSerializer):
+    offset = serializers.IntegerField(min_value=0, help_text="Days or months after the start")
+    unit = OffsetUnitField(choices=OffsetUnit.choices, default=OffsetUnit.MONTHS)
+
+
+class AttributeInSerializer(StrictSerializer):
+    method_code = serializers.CharField(max_length=40)
+    minimum = serializers.FloatField(required=False, allow_null=True, default=None)
+    maximum = serializers.FloatField(required=False, allow_null=True, default=None, help_text="e.g. PV 10 meq O2/kg")
+
+
+class StudyCreateSerializer(StrictSerializer):
+    code = serializers.CharField(max_length=60)
+    title = serializers.CharField(max_length=200)
+    product = serializers.PrimaryKeyRelatedField(queryset=Product.objects.all())
+    lots = serializers.PrimaryKeyRelatedField(queryset=Lot.objects.all(), many=True, allow_empty=False)
+    started_on = serializers.DateField()
+    storage_temperature_c = serializers.FloatField(min_value=-40, max_value=120, help_text="Labelled storage temperature")
+    claimed_shelf_life_months = serializers.FloatField(min_value=0.1)
+    conditions = ConditionInSerializer(many=True, allow_empty=False)
+    pull_points = PullInSerializer(many=True, allow_empty=False)
+    attributes = AttributeInSerializer(many=True, allow_empty=False)
+
+    def validate(self, data):
+        data["product"] = data["product"].pk
+        data["lots"] = [lot.pk for lot in data["lots"]]
+        return data
+
+
+class ConditionSerializer(serializers.Serializer):
+    id = serializers.IntegerField()
+    temperature_c = serializers.FloatField()
+    light = LightField(choices=Light.choices)
+
+
+class AttributeSerializer(serializers.Serializer):
+    method_code = serializers.CharField()
+    minimum = serializers.FloatField(allow_null=True)
+    maximum = serializers.FloatField(allow_null=True)
+
+
+class StudySerializer(serializers.ModelSerializer):
+    product_code = serializers.CharField(source="product.code", read_only=True)
+    lots = serializers.SlugRelatedField(slug_field="code", many=True, read_only=True)
+    conditions = ConditionSerializer(many=True, read_only=True)
+    attributes = AttributeSerializer(many=True, read_only=True)
+    state = StudyStateField(choices=StudyState.choices, read_only=True)
+    created_by = username_field("created_by")
+    predicted_shelf_life_months = serializers.SerializerMethodField()
+    evaluation = serializers.JSONField(read_only=True, help_text="Kinetics, ICH Q1E and Arrhenius per attribute and condition")
+
+    class Meta:
+        model = StabilityStudy
+        fields = [
+            "id", "code", "title", "product", "product_code", "lots", "started_on", "storage_temperature_c",
+            "claimed_shelf_life_months", "state", "conditions", "attributes", "predicted_shelf_life_months",
+            "evaluated_at", "evaluation", "created_by", "created_at",
+        ]
+        read_only_fields = fields
+
+    def get_predicted_shelf_life_months(self, study: StabilityStudy) -> float | None:
+        return (study.evaluation or {}).get("predicted_shelf_life_months")
+
+
+class PullPointSerializer(serializers.ModelSerializer):
+    lot = serializers.CharField(source="lot.code", read_only=True)
+    temperature_c = serializers.FloatField(source="condition.temperature_c", read_only=True)
+    light = LightField(choices=Light.choices, source="condition.light", read_only=True)
+    offset_unit = OffsetUnitField(choices=OffsetUnit.choices, read_only=True)
+    sample = serializers.CharField(source="sample.label", read_only=True, allow_null=True, default=None)
+
+    class Meta:
+        model = PullPoint
+        fields = ["id", "lot", "condition", "temperature_c", "light", "offset", "offset_unit", "elapsed_months",
+                  "due_on", "sample", "pulled_at", "overdue_since"]
+        read_only_fields = fields
