@@ -22,15 +22,15 @@ from analyses.models import (
 )
 
 
-def _products():
+def _products(request):
     return Product.objects.all()
 
 
-def _lots():
+def _lots(request):
     return Lot.objects.all()
 
 
-def _users():
+def _users(request):
     return get_user_model().objects.all()
 
 
@@ -85,7 +85,11 @@ class TestFilter(filters.FilterSet):
     lot = filters.ModelChoiceFilter(field_name="sample__lot", queryset=_lots)
     product = filters.ModelChoiceFilter(field_name="sample__lot__product", queryset=_products)
     assignee = filters.ModelChoiceFilter(queryset=_users, help_text="User id")
-    overdue = filters.BooleanFilter(field_name="is_overdue", help_text="Open and due before today")
+    # a ChoiceFilter, not a BooleanFilter: that one ignores values it cannot read ("perhaps")
+    overdue = filters.TypedChoiceFilter(
+        field_name="is_overdue", choices=(("true", "true"), ("false", "false")), coerce=lambda value: value == "true",
+        help_text="Open and due before today",
+    )
     due_on = filters.DateFromToRangeFilter(help_text="due_on_after / due_on_before: dates, inclusive")
     created = filters.DateFromToRangeFilter(
         field_name="created_at", help_text="created_after / created_before: dates, inclusive"

@@ -1,7 +1,11 @@
 """Helpers for the API tests."""
 from __future__ import annotations
 
+from dataclasses import dataclass, field
 from functools import cached_property
+from typing import Any
+
+from rest_framework.test import APIClient
 
 from analyses.models import (
     AuditEntry,
@@ -11,6 +15,7 @@ from analyses.models import (
     Product,
     Result,
     Sample,
+    SampleState,
     Specification,
     SpecificationLine,
     Test,
@@ -69,11 +74,16 @@ class Lab:
         return lot_create(self.manager, code="L-200", product=self.product, origin="production")
 
     def sample(self, label: str = "L-200-A") -> Sample:
-        """A registered routine sample."""
-        return sample_register(self.manager, self.lot, label=label)
+        """The routine sample ``label``, registered when first asked for."""
+        existing = Sample.objects.filter(label=label).first()
+        return existing or sample_register(self.manager, self.lot, label=label)
 
     def received(self, label: str = "L-200-A") -> Sample:
-        return sample_receive(self.manager, self.sample(label), condition="sealed", storage_place="fridge 1")
+        """The sample ``label``, received (its tests created) when first asked for."""
+        sample = self.sample(label)
+        if sample.state != SampleState.REGISTERED:
+            return sample
+        return sample_receive(self.manager, sample, condition="sealed", storage_place="fridge 1")
 
     def assigned(self, analyst: str = "analyst", label: str = "L-200-A") -> list[Test]:
         """The tests of a new received sample, ordered av, pv, assigned to ``analyst``."""
@@ -94,3 +104,20 @@ class Lab:
         """An open OOS investigation: AV 0.69 mg KOH/g > 0.6 (Codex CXS 210 appendix, refined, found)."""
         av_test, _ = self.accepted(av=(AV_HIGH, AV_HIGH_TWIN))
         return Investigation.objects.get(test=av_test)
+
+
+@dataclass(frozen=True)
+class Call:
+    """One request: a JSON ``body``, or ``raw`` text sent as application/json."""
+
+    method: str
+    path: str
+    body: Any = None
+    raw: str | None = None
+    headers: dict[str, str] = field(default_factory=dict)
+
+    def send(self, client: APIClient):
+        extra = {f"HTTP_{name.upper().replace('-', '_')}": value for name, value in self.headers.items()}
+        if self.raw is not None:
+            return client.generic(self.method.upper(), self.path, self.raw, content_type="application/json", **extra)
+        return getattr(client, self.method)(self.path, self.body, format="json", **extra)

@@ -5,7 +5,6 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Any
 
 import pytest
 
@@ -14,20 +13,13 @@ from analyses.models import Result, SampleState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.results import result_record
 from analyses.services.samples import sample_hold
-from tests.analyses.api.support import Lab, row_counts
+from tests.analyses.api.support import Call, Lab, row_counts
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN
 from tests.factories import UserFactory
 
 pytestmark = pytest.mark.django_db
 
 ROLES = ("manager", "analyst", "qa", "admin", "nobody", "anonymous")
-
-
-@dataclass(frozen=True)
-class Call:
-    method: str
-    path: str
-    body: dict[str, Any] | None = None
 
 
 @dataclass(frozen=True)
@@ -144,8 +136,7 @@ def expected_status(case: Case, role: str) -> int:
 def test_permission_matrix(case: Case, role: str, lab, clients):
     call = case.arrange(lab)
     before = row_counts()
-    client = clients[role]
-    response = getattr(client, call.method)(call.path, call.body, format="json")
+    response = call.send(clients[role])
     expected = expected_status(case, role)
     assert response.status_code == expected, (role, case.name, response.content)
     body = response.json()
