@@ -1,0 +1,109 @@
+"""Result entry over REST: Idempotency-Key, bulk all-or-nothing, corrections, history."""
+from __future__ import annotations
+
+import pytest
+
+from analyses.models import Result, ResultStatus
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
+
+pytestmark = pytest.mark.django_db
+
+
+def test_the_same_idempotency_key_twice_records_one_result(lab, clients):
+    av_test, _ = lab.assigned("analyst")
+    body = {"test": av_test.pk, "inputs": AV_LOW}
+    first = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-1")
+    retry = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-1")
+    assert first.status_code == retry.status_code == 201
+    assert retry.json() == first.json()
+    assert "Idempotent-Replayed" not in first.headers
+    assert retry.headers["Idempotent-Replayed"] == "true"
+    assert Result.objects.filter(test=av_test).count() == 1
+    # a new key is a new determination: the second replicate
+    second = clients["analyst"].post("/api/results/", {**body, "inputs": AV_LOW_TWIN}, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-2")
+    assert second.status_code == 201 and second.json()["replicate"] == 2
+    # the first key still returns the first result, even now that the test is complete
+    late = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-1")
+    assert late.status_code == 201 and late.json() == first.json()
+    assert Result.objects.filter(test=av_test).count() == 2
+
+
+def test_without_a_key_a_repeat_is_a_new_replicate_and_then_a_conflict(lab, clients):
+    av_test, _ = lab.assigned("analyst")
+    body = {"test": av_test.pk, "inputs": AV_LOW}
+    assert [clients["analyst"].post("/api/results/", body, format="json").status_code for _ in range(2)] == [201, 201]
+    third = clients["analyst"].post("/api/results/", body, format="json")
+    assert third.status_code == 409  # both replicates are in; a third is refused
+    assert Result.objects.filter(test=av_test).count() == 2
+
+
+def test_a_key_reused_for_another_test_is_a_conflict(lab, clients):
+    av_test, pv_test = lab.assigned("analyst")
+    clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json", HTTP_IDEMPOTENCY_KEY="k1")
+    clash = clients["analyst"].post("/api/results/", {"test": pv_test.pk, "inputs": PV_LOW}, format="json", HTTP_IDEMPOTENCY_KEY="k1")
+    assert clash.status_code == 409 and "already used" in clash.json()["detail"]
+    assert Result.objects.count() == 1
+
+
+def test_bulk_entry_records_all_and_a_retry_with_the_same_key_records_nothing_more(lab, clients):
+    av_test, pv_test = lab.assigned("analyst")
+    items = [
+        {"test": av_test.pk, "inputs": AV_LOW}, {"test": av_test.pk, "inputs": AV_LOW_TWIN},
+        {"test": pv_test.pk, "inputs": PV_LOW}, {"test": pv_test.pk, "inputs": PV_LOW_TWIN},
+    ]
+    first = clients["analyst"].post("/api/results/bulk/", {"results": items}, format="json", HTTP_IDEMPOTENCY_KEY="batch-1")
+    assert first.status_code == 201, first.content
+    body = first.json()
+    assert [(r["test"], r["replicate"]) for r in body] == [(av_test.pk, 1), (av_test.pk, 2), (pv_test.pk, 1), (pv_test.pk, 2)]
+    # AOCS Cd 8b-90: (12.5 - 0.05) mL * 0.002 mol/L * 1000 / 5.0 g = 4.98 meq O2/kg
+    assert body[2]["value"] == pytest.approx(4.98) and body[2]["unit"] == "meq O2/kg"
+    retry = clients["analyst"].post("/api/results/bulk/", {"results": items}, format="json", HTTP_IDEMPOTENCY_KEY="batch-1")
+    assert retry.status_code == 201 and retry.json() == body
+    assert retry.headers["Idempotent-Replayed"] == "true"
+    assert Result.objects.count() == 4
+    tests = clients["analyst"].get("/api/tests/", {"sample": av_test.sample_id}).json()["results"]
+    assert {t["state"] for t in tests} == {"result_entered"}
+
+
+def test_bulk_refusal_names_the_item_and_rolls_back(lab, clients):
+    av_test, _ = lab.assigned("analyst")
+    other, _ = lab.assigned("analyst2", label="L-200-B")
+    items = [{"test": av_test.pk, "inputs": AV_LOW}, {"test": other.pk, "inputs": AV_LOW}]
+    response = clients["analyst"].post("/api/results/bulk/", {"results": items}, format="json")
+    assert response.status_code == 403
+    assert response.json()["detail"].startswith("results.1: ")
+    assert not Result.objects.exists()
+
+
+def test_a_correction_keeps_the_old_result_and_its_reason(lab, clients):
+    av_test, _ = lab.assigned("analyst")
+    first = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json").json()
+    correction = clients["analyst"].post(
+        f"/api/results/{first['id']}/correct/", {"inputs": AV_LOW_TWIN, "reason": "burette read at 1.33 mL"},
+        format="json", HTTP_IDEMPOTENCY_KEY="fix-1",
+    )
+    assert correction.status_code == 201, correction.content
+    fixed = correction.json()
+    assert fixed["version"] == 2 and fixed["supersedes"] == first["id"] and fixed["replicate"] == 1
+    assert fixed["correction_reason"] == "burette read at 1.33 mL"
+    # ISO 660: (1.33 - 0.05) * 0.1 * 56.1 / 20.0 = 0.35904
+    assert fixed["value"] == pytest.approx(0.35904)
+    retry = clients["analyst"].post(
+        f"/api/results/{first['id']}/correct/", {"inputs": AV_LOW_TWIN, "reason": "burette read at 1.33 mL"},
+        format="json", HTTP_IDEMPOTENCY_KEY="fix-1",
+    )
+    assert retry.status_code == 201 and retry.json() == fixed
+    history = clients["manager"].get(f"/api/tests/{av_test.pk}/results/").json()["results"]
+    assert [(r["version"], r["status"]) for r in history] == [(1, ResultStatus.SUPERSEDED), (2, ResultStatus.CURRENT)]
+    assert history[0]["status_reason"] == "burette read at 1.33 mL"
+    again = clients["analyst"].post(f"/api/results/{first['id']}/correct/", {"inputs": AV_LOW, "reason": "x"}, format="json")
+    assert again.status_code == 409  # a superseded result is not corrected twice
+    assert clients["analyst"].get(f"/api/results/{fixed['id']}/").json() == fixed
+
+
+def test_results_of_an_accepted_test_cannot_be_corrected(lab, clients):
+    av_test, _ = lab.accepted()
+    result = Result.objects.filter(test=av_test).first()
+    response = clients["admin"].post(f"/api/results/{result.pk}/correct/", {"inputs": AV_LOW, "reason": "late"}, format="json")
+    assert response.status_code == 409
+    assert Result.objects.filter(test=av_test).count() == 2
