@@ -22,6 +22,7 @@ from rest_framework.authtoken.models import Token
 from analyses.models import Investigation, Lot, Product, Sample, Test
 from analyses.roles import roles_ensure
 from analyses.services.assignments import test_assign_bulk
+from analyses.services.demo_monitoring import demo_monitoring_load
 from analyses.services.investigations import investigation_close
 from analyses.services.lots import lot_create, lot_reject, lot_release
 from analyses.services.products import product_create
@@ -229,4 +230,6 @@ def demo_load(*, path: Path | str | None = None, log: Log | None = None) -> Demo
     log("Lots and samples:")
     products = {p["code"]: p for p in data["products"]}
     _lots(data, _Lab(users, products), summary, log)
+    log("QC series and stability study:")
+    demo_monitoring_load(users, log=log)
     return summary

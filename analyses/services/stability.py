@@ -297,11 +297,12 @@ def stability_study_evaluate(study: StabilityStudy | int) -> EvaluationOutcome:
     actor = scheduler_actor()
     with transaction.atomic():
         study = fetch(StabilityStudy, study, lock=True)
-        before = (study.evaluation or {}).get("predicted_shelf_life_months")
-        study.evaluation = evaluation
-        study.evaluated_at = timezone.now()
-        study.save(update_fields=["evaluation", "evaluated_at"])
-        audit_append(actor, AuditAction.CHANGE, study, {"predicted_shelf_life_months": [before, evaluation["predicted_shelf_life_months"]]}, reason="evaluation")
+        if study.evaluation != evaluation:  # the same data evaluated again changes nothing
+            before = (study.evaluation or {}).get("predicted_shelf_life_months")
+            study.evaluation = evaluation
+            study.evaluated_at = timezone.now()
+            study.save(update_fields=["evaluation", "evaluated_at"])
+            audit_append(actor, AuditAction.CHANGE, study, {"predicted_shelf_life_months": [before, evaluation["predicted_shelf_life_months"]]}, reason="evaluation")
         raised = alerts_raise(drafts, actor)
     return EvaluationOutcome(evaluation, len(raised))
 

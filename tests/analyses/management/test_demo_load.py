@@ -8,14 +8,15 @@ from django.core.management import call_command
 from rest_framework.authtoken.models import Token
 
 from analyses.audit import audit_chain_verify
-from analyses.models import AuditEntry, Certificate, Investigation, Lot, Result, Sample, SampleState, Test
+from analyses.models import Alert, AuditEntry, Certificate, Investigation, Lot, Result, Sample, SampleState, StabilityStudy, Test
 from analyses.services.demo import demo_data
 
 pytestmark = pytest.mark.django_db
 
 
 def _counts() -> dict[str, int]:
-    return {model.__name__: model.objects.count() for model in (Lot, Sample, Test, Result, Investigation, Certificate, AuditEntry, Token)}
+    models = (Lot, Sample, Test, Result, Investigation, Certificate, AuditEntry, Token, Alert, StabilityStudy)
+    return {model.__name__: model.objects.count() for model in models}
 
 
 def _load() -> str:
@@ -41,7 +42,7 @@ def test_demo_load_builds_every_state_and_is_idempotent():
     assert data["demo_password"] in first and "DEMO ONLY" in first
 
     assert set(Sample.objects.values_list("state", flat=True)) == set(SampleState.values)
-    assert Investigation.objects.filter(state="open").count() == 1
+    assert Investigation.objects.filter(state="open").exclude(test__sample__kind="stability_pull").count() == 1
     assert set(Investigation.objects.exclude(state="open").values_list("conclusion", flat=True)) == {"confirmed", "lab_error"}
     assert set(Lot.objects.values_list("state", flat=True)) == {"open", "released", "rejected"}
     assert Certificate.objects.count() == Lot.objects.filter(state="released").count() == 2
@@ -49,3 +50,18 @@ def test_demo_load_builds_every_state_and_is_idempotent():
     assert Test.objects.filter(state="sent_back").exists()
     assert AuditEntry.objects.filter(actor__username="qa", action="transition").exists()
     assert audit_chain_verify().ok
+
+
+def test_demo_has_a_drifting_qc_series_and_an_accelerated_stability_study_with_live_alerts():
+    out = _load()
+    assert "QC series and stability study:" in out
+    study = StabilityStudy.objects.get(code="MV-STAB-RSO-01")
+    assert sorted(study.conditions.values_list("temperature_c", flat=True)) == [25, 40, 50]
+    evaluation = study.evaluation
+    assert evaluation["predicted_shelf_life_months"] is not None
+    pv = next(a for a in evaluation["attributes"] if a["method_code"] == "pv")
+    # generated with Ea = 85 kJ/mol (fixtures/demo_monitoring.json); the fit recovers it within the scatter
+    assert pv["arrhenius"]["activation_energy_kj_per_mol"] == pytest.approx(85, rel=0.05)
+    rules = set(Alert.objects.values_list("rule", flat=True))
+    assert {"westgard_1_3s", "westgard_10_x", "shelf_life_short", "pull_out_of_limit"} <= rules
+    assert not Alert.objects.filter(rule="pull_overdue").exists()  # every pull was tested on its day
