@@ -1,0 +1,129 @@
+"""Every list endpoint runs the same number of SQL queries for 1 row as for 25 rows: the
+related rows each list shows are joined or prefetched, never fetched row by row."""
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import pytest
+from django.db import connection, transaction
+from django.test.utils import CaptureQueriesContext
+from django.utils import timezone
+
+from analyses.audit import audit_append
+from analyses.models import AuditAction, Investigation, Result, SpecificationStatus, TestState
+from tests.analyses.api.support import Lab
+from tests.factories import (
+    LotFactory,
+    ProductFactory,
+    SampleFactory,
+    SpecificationFactory,
+    SpecificationLineFactory,
+    TestFactory,
+    UserFactory,
+)
+
+pytestmark = pytest.mark.django_db
+MORE_ROWS = 24
+
+
+def _specification():
+    specification = SpecificationFactory(created_by=UserFactory())
+    SpecificationLineFactory(specification=specification, method_code="av")
+    SpecificationLineFactory(specification=specification, method_code="pv", unit="meq O2/kg", maximum="10")
+    specification.status = SpecificationStatus.APPROVED
+    specification.approved_by = UserFactory()
+    specification.approved_at = timezone.now()
+    specification.save()
+
+
+def _lot():
+    lot = LotFactory(decided_by=UserFactory())
+    SampleFactory(lot=lot)
+
+
+def _sample():
+    sample = SampleFactory(received_by=UserFactory(), specification=SpecificationFactory())
+    TestFactory(sample=sample, assignee=UserFactory())
+    TestFactory(sample=sample, assignee=UserFactory())
+
+
+def _test(**fields):
+    return TestFactory(assignee=fields.pop("assignee", None) or UserFactory(), reviewed_by=UserFactory(), **fields)
+
+
+def _investigation():
+    test = _test(state=TestState.ACCEPTED)
+    Investigation.objects.create(
+        lot=test.sample.lot, test=test, opened_by=UserFactory(), opened_at=timezone.now(), closed_by=UserFactory(),
+        retest=TestFactory(sample=test.sample),
+    )
+
+
+def _audit(lab: Lab, ref: str) -> None:
+    with transaction.atomic():
+        target = lab.lot if ref == "lot" else lab.sample()
+        audit_append(
+            UserFactory(), AuditAction.CHANGE, target, {"note": [None, "x"]},
+            lot_ref=lab.lot.pk, sample_ref=target.pk if ref == "sample" else None,
+        )
+
+
+def _result(lab: Lab) -> None:
+    test = lab.result_test
+    replicate = test.results.count() + 1
+    Result.objects.create(
+        test=test, replicate=replicate, inputs={"x": 1}, value=0.1, reported="0.10", unit="mg KOH/g",
+        method_code="av", method_version="1.0", verdict="pass", entered_by=UserFactory(), entered_at=timezone.now(),
+    )
+
+
+@dataclass(frozen=True)
+class Listing:
+    name: str
+    path: Callable[[Lab], str]
+    add_row: Callable[[Lab], None]
+    role: str = "manager"
+
+
+LISTINGS = [
+    Listing("products", lambda lab: "/api/products/", lambda lab: ProductFactory(created_by=UserFactory())),
+    Listing("specifications", lambda lab: "/api/specifications/", lambda lab: _specification()),
+    Listing("lots", lambda lab: "/api/lots/", lambda lab: _lot()),
+    Listing("samples", lambda lab: "/api/samples/", lambda lab: _sample()),
+    Listing("tests", lambda lab: "/api/tests/", lambda lab: _test(retest_of=TestFactory())),
+    Listing("tests filtered", lambda lab: f"/api/tests/?state=assigned&assignee={lab.users['analyst'].pk}",
+            lambda lab: _test(state=TestState.ASSIGNED, assignee=lab.users["analyst"])),
+    Listing("work queue", lambda lab: "/api/tests/queue/av/", lambda lab: _test()),
+    Listing("my queue", lambda lab: "/api/tests/mine/", lambda lab: _test(state=TestState.ASSIGNED, assignee=lab.users["analyst"]), "analyst"),
+    Listing("review queue", lambda lab: "/api/tests/review/", lambda lab: _test(state=TestState.RESULT_ENTERED)),
+    Listing("investigations", lambda lab: "/api/investigations/", lambda lab: _investigation()),
+    Listing("lot audit trail", lambda lab: f"/api/lots/{lab.lot.pk}/audit-trail/", lambda lab: _audit(lab, "lot")),
+    Listing("sample audit trail", lambda lab: f"/api/samples/{lab.sample().pk}/audit-trail/", lambda lab: _audit(lab, "sample")),
+    Listing("result history", lambda lab: f"/api/tests/{lab.result_test.pk}/results/", _result),
+]
+
+
+@pytest.fixture
+def lab_with_result_test(lab):
+    lab.result_test = TestFactory(replicates=30)
+    return lab
+
+
+@pytest.mark.parametrize("listing", LISTINGS, ids=[listing.name for listing in LISTINGS])
+def test_list_queries_do_not_grow_with_the_rows(listing: Listing, lab_with_result_test, clients, django_assert_num_queries):
+    lab = lab_with_result_test
+    client = clients[listing.role]
+    path = listing.path(lab)
+    listing.add_row(lab)
+    separator = "&" if "?" in path else "?"
+    with CaptureQueriesContext(connection) as one_row:
+        response = client.get(f"{path}{separator}page_size=1")
+    assert response.status_code == 200, response.content
+    assert len(response.json()["results"]) == 1
+    for _ in range(MORE_ROWS):
+        listing.add_row(lab)
+    with django_assert_num_queries(len(one_row)):
+        response = client.get(f"{path}{separator}page_size=50")
+    assert response.status_code == 200
+    assert len(response.json()["results"]) >= MORE_ROWS + 1
