@@ -124,13 +124,14 @@ if REDIS_URL:
     CELERY_RESULT_BACKEND = REDIS_URL
     CELERY_BROKER_TRANSPORT_OPTIONS: dict = {}
 else:
-    for sub in ("out", "processed"):
+    for sub in ("out", "processed", "control"):
         (BROKER_DIR / sub).mkdir(parents=True, exist_ok=True)
     CELERY_BROKER_URL = "filesystem://"
     CELERY_BROKER_TRANSPORT_OPTIONS = {
         "data_folder_in": str(BROKER_DIR / "out"),
         "data_folder_out": str(BROKER_DIR / "out"),
         "processed_folder": str(BROKER_DIR / "processed"),
+        "control_folder": str(BROKER_DIR / "control"),
         "store_processed": False,
     }
     CELERY_RESULT_BACKEND = f"file://{VAR_DIR / 'results'}"
