@@ -1,0 +1,55 @@
+"""Tokens, sessions, and /api/me/."""
+from __future__ import annotations
+
+import pytest
+from rest_framework.authtoken.models import Token
+from rest_framework.test import APIClient
+
+pytestmark = pytest.mark.django_db
+
+
+def test_a_token_is_obtained_with_username_and_password_and_then_works(users):
+    qa = users["qa"]
+    qa.set_password("correct horse")
+    qa.save()
+    client = APIClient()
+    response = client.post("/api/auth/token/", {"username": "qa", "password": "correct horse"}, format="json")
+    assert response.status_code == 200, response.content
+    token = response.json()["token"]
+    assert Token.objects.get(user=qa).key == token
+    again = client.post("/api/auth/token/", {"username": "qa", "password": "correct horse"}, format="json")
+    assert again.json()["token"] == token  # the same token each time
+    client.credentials(HTTP_AUTHORIZATION=f"Token {token}")
+    me = client.get("/api/me/").json()
+    assert me["username"] == "qa" and me["roles"] == ["qa_reviewer"]
+    assert "release_lot" in me["permissions"] and "record_result" not in me["permissions"]
+
+
+def test_a_wrong_password_gets_no_token(users):
+    users["qa"].set_password("correct horse")
+    users["qa"].save()
+    response = APIClient().post("/api/auth/token/", {"username": "qa", "password": "wrong"}, format="json")
+    assert response.status_code == 400
+    assert response.json()["fields"]
+    assert not Token.objects.exists()
+
+
+def test_a_session_works_as_well(users):
+    client = APIClient()
+    client.force_login(users["manager"])
+    me = client.get("/api/me/").json()
+    assert me["roles"] == ["lab_manager"] and "assign_test" in me["permissions"]
+
+
+def test_without_credentials_or_with_a_bad_token_it_is_401(db):
+    assert APIClient().get("/api/me/").status_code == 401
+    client = APIClient()
+    client.credentials(HTTP_AUTHORIZATION="Token not-a-token")
+    response = client.get("/api/lots/")
+    assert response.status_code == 401 and response.json()["detail"]
+
+
+def test_me_lists_every_role_of_the_admin(clients):
+    me = clients["admin"].get("/api/me/").json()
+    assert me["roles"] == ["admin"]
+    assert {"release_lot", "record_any_result", "close_investigation"} <= set(me["permissions"])
