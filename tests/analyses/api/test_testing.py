@@ -1,0 +1,97 @@
+"""Tests over REST: lists with filters, work queues, assignment, review."""
+from __future__ import annotations
+
+import datetime as dt
+
+import pytest
+from django.utils import timezone
+
+from analyses.models import Test
+from tests.analyses.lab_setup import AV_HIGH, AV_LOW, AV_LOW_TWIN, enter_duplicates
+
+pytestmark = pytest.mark.django_db
+
+
+def ids(response) -> list[int]:
+    assert response.status_code == 200, response.content
+    return [row["id"] for row in response.json()["results"]]
+
+
+def test_the_work_queue_orders_by_priority_then_due_date_and_flags_overdue(lab, clients):
+    sample = lab.received()
+    av, pv = Test.objects.filter(sample=sample).order_by("method_code")
+    urgent = lab.received("L-200-B").tests.get(method_code="av")
+    Test.objects.filter(pk=urgent.pk).update(priority=1)
+    Test.objects.filter(pk=av.pk).update(due_on=timezone.localdate() - dt.timedelta(days=2))
+    queue = clients["analyst"].get("/api/tests/queue/av/").json()["results"]
+    assert [row["id"] for row in queue] == [urgent.pk, av.pk]
+    assert [row["is_overdue"] for row in queue] == [False, True]
+    assert queue[1]["maximum"] == "0.6" and queue[1]["sample_label"] == "L-200-A" and queue[1]["lot_code"] == "L-200"
+    assert ids(clients["analyst"].get("/api/tests/", {"overdue": "true"})) == [av.pk]
+    assert pv.pk in ids(clients["analyst"].get("/api/tests/queue/pv/"))
+
+
+def test_assignment_and_reassignment_fill_each_analysts_queue(lab, users, clients):
+    tests = list(lab.received().tests.order_by("method_code").values_list("pk", flat=True))
+    first = clients["manager"].post(
+        "/api/tests/assign/", {"tests": tests, "assignee": users["analyst"].pk, "priority": 2, "due_on": "2030-02-01"}, format="json"
+    )
+    assert first.status_code == 200, first.content
+    assert [(t["state"], t["priority"], t["due_on"]) for t in first.json()] == [("assigned", 2, "2030-02-01")] * 2
+    assert ids(clients["analyst"].get("/api/tests/mine/")) == tests
+    moved = clients["manager"].post("/api/tests/assign/", {"tests": tests[:1], "assignee": users["analyst2"].pk}, format="json")
+    assert moved.status_code == 200 and moved.json()[0]["assignee"] == "analyst2"
+    assert ids(clients["analyst"].get("/api/tests/mine/")) == tests[1:]
+    assert ids(clients["analyst2"].get("/api/tests/mine/")) == tests[:1]
+    assert ids(clients["manager"].get("/api/tests/", {"assignee": users["analyst2"].pk, "state": "assigned"})) == tests[:1]
+    sample = clients["manager"].get(f"/api/samples/{lab.sample().pk}/").json()
+    assert sample["state"] == "in_testing"
+
+
+def test_assignment_is_all_or_nothing(lab, users, clients):
+    av, pv = lab.entered("analyst2")
+    pending = lab.received("L-200-B").tests.first()
+    response = clients["manager"].post("/api/tests/assign/", {"tests": [pending.pk, av.pk], "assignee": users["analyst"].pk}, format="json")
+    assert response.status_code == 409
+    assert response.json()["missing"] == ["tests.1"]
+    assert Test.objects.get(pk=pending.pk).assignee_id is None
+
+
+def test_tests_filter_by_lot_product_method_sample_and_dates(lab, clients):
+    av, pv = lab.assigned("analyst")
+    get = clients["manager"].get
+    assert ids(get("/api/tests/", {"lot": lab.lot.pk, "method": "pv"})) == [pv.pk]
+    assert ids(get("/api/tests/", {"product": lab.product.pk, "sample": av.sample_id})) == [av.pk, pv.pk]
+    assert ids(get("/api/tests/", {"due_on_before": "2000-01-01"})) == []
+    assert ids(get("/api/tests/", {"created_after": "2000-01-01", "state": "assigned"})) == [av.pk, pv.pk]
+    assert get(f"/api/tests/{av.pk}/").json()["assignee"] == "analyst"
+
+
+def test_send_back_invalidates_the_results_and_the_analyst_enters_new_ones(lab, users, clients):
+    av, _ = lab.entered("analyst")
+    sent = clients["qa"].post(f"/api/tests/{av.pk}/send-back/", {"reason": "blank titration missing"}, format="json")
+    assert sent.status_code == 200, sent.content
+    assert sent.json()["state"] == "sent_back" and sent.json()["reported"] == ""
+    assert av.pk in ids(clients["analyst"].get("/api/tests/mine/"))
+    history = clients["qa"].get(f"/api/tests/{av.pk}/results/").json()["results"]
+    assert {r["status"] for r in history} == {"invalidated"}
+    for inputs in (AV_LOW, AV_LOW_TWIN):
+        assert clients["analyst"].post("/api/results/", {"test": av.pk, "inputs": inputs}, format="json").status_code == 201
+    accepted = clients["qa"].post(f"/api/tests/{av.pk}/accept/", {"note": "ok now"}, format="json").json()
+    assert accepted["state"] == "accepted" and accepted["review_note"] == "ok now"
+
+
+def test_duplicates_that_disagree_cannot_be_accepted(lab, users, clients):
+    av, _ = lab.assigned("analyst")
+    # 0.350625 vs 0.687225 mg KOH/g: far beyond the ISO 660 repeatability the plugin applies
+    enter_duplicates(users["analyst"], av, AV_LOW, AV_HIGH)
+    response = clients["analyst2"].post(f"/api/tests/{av.pk}/accept/", format="json")
+    assert response.status_code == 409 and "send it back" in response.json()["detail"]
+    assert Test.objects.get(pk=av.pk).state == "result_entered"
+
+
+def test_the_review_queue_leaves_out_what_i_entered(lab, clients):
+    av, pv = lab.entered("analyst2")
+    assert ids(clients["analyst2"].get("/api/tests/review/")) == []
+    assert ids(clients["analyst"].get("/api/tests/review/")) == [av.pk, pv.pk]
+    assert ids(clients["qa"].get("/api/tests/review/")) == [av.pk, pv.pk]
