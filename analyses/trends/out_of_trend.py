@@ -13,10 +13,10 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.lib.stride_tricks import sliding_window_view
 import pandas as pd
 import statsmodels.api as sm
 from scipy import stats
-from statsmodels.regression.rolling import RollingOLS
 
 from analyses.errors import InvalidInput
 from analyses.trends.episodes import RuleMarks, single_point_marks
@@ -100,24 +100,33 @@ def prediction_bands(
     times: np.ndarray, values: np.ndarray, layout: SeriesLayout, window: int, level: float
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Prediction interval for each point from the line through the ``window`` points before it,
-    for flat arrays of many series (NaN where a series has fewer earlier points)."""
+    for flat arrays of many series (NaN where a series has fewer earlier points).
+
+    The least-squares line and its interval come from centred sums over each window
+    (a sliding-window view, so one pass of numpy over n x window numbers):
+    s² (1 + 1/w + (t − t̄)² / Sxx) is the variance of a new observation at t.
+    """
     n = len(values)
     nan = np.full(n, np.nan)
     if n <= window:
         return nan, nan.copy(), nan.copy()
-    exog = np.column_stack([np.ones(n), times])
-    fit = RollingOLS(values, exog, window=window).fit()
-    # The fit ending at point i - 1 predicts point i.
-    params = np.vstack([np.full((1, 2), np.nan), np.asarray(fit.params)[:-1]])
-    cov = np.concatenate([np.full((1, 2, 2), np.nan), fit.cov_params()[:-1]])
-    mse = np.concatenate([[np.nan], np.asarray(fit.mse_resid)[:-1]])
-    predicted = np.einsum("ij,ij->i", exog, params)
-    variance = mse + np.einsum("ij,ijk,ik->i", exog, cov, exog)
+    # Windows ending at point i - 1 predict point i.
+    t_windows = sliding_window_view(times.astype(float), window)[:-1]
+    y_windows = sliding_window_view(values.astype(float), window)[:-1]
+    t_mean, y_mean = t_windows.mean(axis=1), y_windows.mean(axis=1)
+    t_dev, y_dev = t_windows - t_mean[:, None], y_windows - y_mean[:, None]
+    with np.errstate(divide="ignore", invalid="ignore"):  # windows across two series are masked below
+        sxx = np.einsum("ij,ij->i", t_dev, t_dev)
+        sxy = np.einsum("ij,ij->i", t_dev, y_dev)
+        slope = sxy / sxx
+        sse = np.maximum(np.einsum("ij,ij->i", y_dev, y_dev) - slope * sxy, 0.0)
+        t_new = times[window:].astype(float)
+        predicted = y_mean + slope * (t_new - t_mean)
+        variance = sse / (window - 2) * (1 + 1 / window + (t_new - t_mean) ** 2 / sxx)
     half = stats.t.ppf(0.5 + level / 2, window - 2) * np.sqrt(variance)
-    valid = layout.position >= window
-    return np.where(valid, predicted, np.nan), np.where(valid, predicted - half, np.nan), np.where(
-        valid, predicted + half, np.nan
-    )
+    valid = layout.position[window:] >= window
+    out = [np.concatenate([np.full(window, np.nan), np.where(valid, band, np.nan)]) for band in (predicted, predicted - half, predicted + half)]
+    return out[0], out[1], out[2]
 
 
 def out_of_trend_marks(

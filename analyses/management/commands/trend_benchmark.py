@@ -1,7 +1,7 @@
 """Benchmark the vectorised trend scan against a plain per-point Python loop.
 
 Synthetic QC data (numpy RNG, fixed seed; invented series with shifts, drifts and
-outliers) are scanned with every Westgard, Nelson and EWMA rule twice in one process:
+outliers) are scanned with every Westgard, Nelson, EWMA and out-of-trend rule twice in one process:
 by ``analyses.trends.scan.series_scan`` and by the REFERENCE LOOP below, which exists
 only as the comparison baseline. The loop may run on a subset of series and be scaled
 linearly; the output says so. On that subset both must give the same episodes.
@@ -16,11 +16,15 @@ import numpy as np
 import pandas as pd
 from django.core.management.base import BaseCommand, CommandError
 
+from scipy import stats
+
 from analyses.trends.ewma import DEFAULT_SMOOTHING, DEFAULT_WIDTH
-from analyses.trends.scan import series_scan
+from analyses.trends.out_of_trend import DEFAULT_LEVEL, DEFAULT_WINDOW
+from analyses.trends.scan import FAMILIES, series_scan
 from analyses.trends.westgard import MINIMUM_BASELINE_POINTS
 
 SEED = 20240611
+ALL_FAMILIES = (*FAMILIES, "out_of_trend")
 RUN_SIZE = 5  # results per analytical run (for R-4s)
 
 EpisodeRow = tuple[str, str, str, int, int, tuple[int, ...]]  # series, rule, side, first, last, points
@@ -92,7 +96,26 @@ def loop_series(values: list[float], runs: list, smoothing: float, width: float)
     episodes += loop_window_rule("nelson_7", "", [abs(v) <= 1 for v in z], 15, 15)
     episodes += loop_window_rule("nelson_8", "", [abs(v) > 1 for v in z], 8, 8)
     episodes += loop_ewma(z, smoothing, width)
+    episodes += loop_out_of_trend(values)
     return episodes
+
+
+def loop_out_of_trend(values: list[float], window: int = DEFAULT_WINDOW, level: float = DEFAULT_LEVEL) -> list[tuple]:
+    """A least-squares line through the ``window`` results before each point (time = position)."""
+    quantile = stats.t.ppf(0.5 + level / 2, window - 2)
+    above, below = [False] * len(values), [False] * len(values)
+    for i in range(window, len(values)):
+        times = range(i - window, i)
+        t_mean = sum(times) / window
+        y_mean = sum(values[i - window:i]) / window
+        sxx = sum((t - t_mean) ** 2 for t in times)
+        sxy = sum((t - t_mean) * (values[t] - y_mean) for t in times)
+        slope = sxy / sxx
+        sse = max(sum((values[t] - y_mean) ** 2 for t in times) - slope * sxy, 0.0)
+        predicted = y_mean + slope * (i - t_mean)
+        half = quantile * math.sqrt(sse / (window - 2) * (1 + 1 / window + (i - t_mean) ** 2 / sxx))
+        above[i], below[i] = values[i] > predicted + half, values[i] < predicted - half
+    return loop_episodes("out_of_trend", "+", above, above) + loop_episodes("out_of_trend", "-", below, below)
 
 
 def loop_window_rule(rule: str, side: str, condition: list[bool], needed: int, size: int) -> list[tuple]:
@@ -189,7 +212,7 @@ def timed(action: Callable[[], object]) -> tuple[object, float]:
 
 
 class Command(BaseCommand):
-    help = "Time the vectorised trend scan (Westgard + Nelson + EWMA) against a per-point Python loop."
+    help = "Time the vectorised trend scan (Westgard + Nelson + EWMA + out-of-trend) against a per-point Python loop."
 
     def add_arguments(self, parser):
         parser.add_argument("--series", type=int, default=500, help="number of series (default 500)")
@@ -211,8 +234,8 @@ class Command(BaseCommand):
         results, seconds = timed(lambda: synthetic_results(series, points, options["seed"]))
         say(f"generated synthetic results in {seconds:.2f} s")
 
-        say("vectorised scan (Westgard + Nelson + EWMA) ...")
-        scan, fast = timed(lambda: series_scan(results))
+        say("vectorised scan (Westgard + Nelson + EWMA + out-of-trend) ...")
+        scan, fast = timed(lambda: series_scan(results, families=ALL_FAMILIES))
         say(f"vectorised scan: {fast:.2f} s, {total / fast:,.0f} results/s, {len(scan):,} episodes")
 
         subset_ids = sorted(results["series_id"].unique())[:loop_count]

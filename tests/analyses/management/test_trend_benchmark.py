@@ -11,7 +11,7 @@ from django.core.management import call_command
 from django.core.management.base import CommandError
 
 from analyses.management.commands import trend_benchmark
-from analyses.management.commands.trend_benchmark import loop_scan, scan_rows, synthetic_results
+from analyses.management.commands.trend_benchmark import ALL_FAMILIES, loop_scan, scan_rows, synthetic_results
 from analyses.trends.scan import series_scan
 
 
