@@ -1,6 +1,7 @@
 """The trend_benchmark command at tiny sizes: it prints its figures, and the vectorised scan
 and the reference loop (written from the Westgard and Nelson rule definitions and the
-NIST/SEMATECH EWMA formulas, references.md "found") give the same episodes. No timing is asserted.
+NIST/SEMATECH EWMA formulas, references.md "found", and the textbook least-squares
+prediction interval for out-of-trend) give the same episodes. No timing is asserted.
 """
 from __future__ import annotations
 
@@ -38,10 +39,10 @@ def test_loop_on_every_series_is_measured_not_scaled():
 
 def test_vectorised_and_loop_agree_on_small_data():
     results = synthetic_results(series=6, points=300, seed=5)
-    vectorised = scan_rows(series_scan(results))
+    vectorised = scan_rows(series_scan(results, families=ALL_FAMILIES))
     looped = loop_scan(results)
     assert vectorised == looped
-    assert {row[1] for row in looped} >= {"westgard_1_2s", "westgard_r_4s", "nelson_2", "ewma"}
+    assert {row[1] for row in looped} >= {"westgard_1_2s", "westgard_r_4s", "nelson_2", "ewma", "out_of_trend"}
 
 
 def test_a_disagreement_stops_the_command(monkeypatch):
