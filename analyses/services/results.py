@@ -138,6 +138,24 @@ def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | Non
         )
 
 
+def _result_fields(actor: Actor, test: Test, inputs: Any, outcome: MethodResult, aggregate: dict[str, Any] | None) -> dict[str, Any]:
+    """What every new result row records: the raw inputs, the plugin's outcome, the verdict,
+    the duplicate check once all replicates are in, and who entered it when."""
+    return {
+        "test": test,
+        "inputs": json_safe(dict(inputs)),
+        "value": outcome.value,
+        "reported": str(outcome.reported),
+        "unit": outcome.unit,
+        "method_code": outcome.code,
+        "method_version": outcome.version,
+        "verdict": line_verdict(outcome.value, test.specification_line),
+        "duplicate_check": aggregate["duplicate_check"] if aggregate else None,
+        "entered_by": actor,
+        "entered_at": timezone.now(),
+    }
+
+
 def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Result:
     """Insert ``result``; a concurrent twin with the same idempotency key wins and is returned."""
     try:
@@ -198,19 +216,8 @@ def result_record(
         complete = len(values) == test.replicates
         aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
         result = Result(
-            test=test,
-            replicate=replicate,
-            inputs=json_safe(dict(inputs)),
-            value=outcome.value,
-            reported=str(outcome.reported),
-            unit=outcome.unit,
-            method_code=outcome.code,
-            method_version=outcome.version,
-            verdict=line_verdict(outcome.value, test.specification_line),
-            duplicate_check=aggregate["duplicate_check"] if aggregate else None,
-            entered_by=actor,
-            entered_at=timezone.now(),
-            idempotency_key=key,
+            replicate=replicate, idempotency_key=key,
+            **_result_fields(actor, test, inputs, outcome, aggregate),
         )
         inserted = _insert(result, actor=actor, key=key, test=test)
         if inserted is not result:
@@ -321,22 +328,8 @@ def result_correct(
         complete = len(values) == test.replicates
         aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
         correction = Result.objects.create(
-            test=test,
-            replicate=old.replicate,
-            version=old.version + 1,
-            inputs=json_safe(dict(inputs)),
-            value=outcome.value,
-            reported=str(outcome.reported),
-            unit=outcome.unit,
-            method_code=outcome.code,
-            method_version=outcome.version,
-            verdict=line_verdict(outcome.value, test.specification_line),
-            duplicate_check=aggregate["duplicate_check"] if aggregate else None,
-            supersedes=old,
-            correction_reason=reason,
-            entered_by=actor,
-            entered_at=timezone.now(),
-            idempotency_key=key,
+            replicate=old.replicate, version=old.version + 1, supersedes=old, correction_reason=reason,
+            idempotency_key=key, **_result_fields(actor, test, inputs, outcome, aggregate),
         )
         audit_append(
             actor, AuditAction.CREATE, correction, created(correction, RESULT_FIELDS),
