@@ -274,3 +274,62 @@ def test_bulk_entry_is_all_or_nothing(lab, clients):
     response = call.send(clients["analyst"])
     assert response.status_code == 400
     assert not Result.objects.exists()
+
+
+WRITE_ENDPOINTS = [
+    ("manager", "post", lambda lab: "/api/products/"),
+    ("manager", "post", lambda lab: "/api/specifications/"),
+    ("manager", "put", lambda lab: f"/api/specifications/{lab.draft.pk}/lines/"),
+    ("qa", "post", lambda lab: f"/api/specifications/{lab.specification.pk}/revise/"),
+    ("manager", "post", lambda lab: "/api/lots/"),
+    ("qa", "post", lambda lab: f"/api/lots/{lab.lot.pk}/release/"),
+    ("qa", "post", lambda lab: f"/api/lots/{lab.lot.pk}/reject/"),
+    ("manager", "post", lambda lab: "/api/samples/"),
+    ("manager", "post", lambda lab: f"/api/samples/{lab.sample().pk}/receive/"),
+    ("manager", "post", lambda lab: f"/api/samples/{lab.sample().pk}/hold/"),
+    ("manager", "post", lambda lab: f"/api/samples/{lab.sample().pk}/resume/"),
+    ("manager", "post", lambda lab: f"/api/samples/{lab.sample().pk}/cancel/"),
+    ("manager", "post", lambda lab: "/api/tests/assign/"),
+    ("analyst", "post", lambda lab: f"/api/tests/{lab.entered('analyst2')[0].pk}/accept/"),
+    ("analyst", "post", lambda lab: f"/api/tests/{lab.entered('analyst2')[0].pk}/send-back/"),
+    ("analyst", "post", lambda lab: "/api/results/"),
+    ("analyst", "post", lambda lab: "/api/results/bulk/"),
+    ("analyst", "post", lambda lab: f"/api/results/{_a_result(lab).pk}/correct/"),
+    ("qa", "post", lambda lab: f"/api/investigations/{lab.investigation().pk}/close/"),
+    ("anonymous", "post", lambda lab: "/api/auth/token/"),
+]
+ODD_BODIES = {
+    "null": "null",
+    "number": "42",
+    "string": '"approve"',
+    "list": "[1, 2]",
+    "nested junk": '{"lines": {"0": null}, "results": [[1]], "tests": [{"id": 1}], "inputs": [1], "reason": 7, "product": [1]}',
+    "huge ids": f'{{"product": {HUGE_ID}, "lot": {HUGE_ID}, "test": {HUGE_ID}, "tests": [{HUGE_ID}], "assignee": {HUGE_ID}, '
+                f'"results": [{{"test": {HUGE_ID}, "inputs": {{}}}}], "replicate": {HUGE_ID}, "quantity_kg": "1e30"}}',
+    "not JSON": "<xml/>",
+}
+
+
+def _a_result(lab: Lab) -> Result:
+    av_test, _ = lab.assigned("analyst", label="L-200-C")
+    return result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+
+
+@pytest.mark.parametrize("body_name", list(ODD_BODIES))
+@pytest.mark.parametrize("role, method, path", WRITE_ENDPOINTS, ids=[f"{m} {i}" for i, (_, m, _) in enumerate(WRITE_ENDPOINTS)])
+def test_odd_bodies_are_refused_as_input_never_a_server_error(role, method, path, body_name, lab, clients):
+    url = path(lab)
+    before = row_counts()
+    response = Call(method, url, raw=ODD_BODIES[body_name]).send(clients[role])
+    assert response.status_code == 400, response.content
+    assert response.json()["fields"]
+    assert row_counts() == before
+
+
+def test_form_encoded_input_is_read_or_refused_never_a_server_error(lab, clients):
+    av_test, _ = lab.assigned("analyst")
+    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": "sample_mass=20"})  # multipart
+    assert response.status_code == 400
+    assert all(name.startswith("inputs") for name in response.json()["fields"])
+    plain = clients["analyst"].generic("POST", "/api/results/", "test=1", content_type="text/plain")
+    assert plain.status_code == 415 and plain.json()["detail"]
