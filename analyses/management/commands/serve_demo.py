@@ -6,7 +6,7 @@ import subprocess
 import sys
 
 from django.conf import settings
-from django.core.management import call_command, get_commands
+from django.core.management import call_command
 from django.core.management.base import BaseCommand
 
 
@@ -21,10 +21,7 @@ class Command(BaseCommand):
         self.stdout.write("[1/3] Applying database migrations ...")
         call_command("migrate", interactive=False, verbosity=1)
         self.stdout.write("[2/3] Loading the demo data (invented company) ...")
-        if "demo_load" in get_commands():
-            call_command("demo_load")
-        else:
-            self.stdout.write("      demo_load is not available; starting with an empty database")
+        call_command("demo_load")
         workers: list[subprocess.Popen] = []
         if not options["no_celery"]:
             self.stdout.write(f"[3/3] Starting Celery worker and beat (broker: {settings.CELERY_BROKER_URL.split('@')[-1]}) ...")
@@ -34,7 +31,8 @@ class Command(BaseCommand):
         host = options["addrport"]
         self.stdout.write(f"API: http://{host}/api/   docs: http://{host}/api/docs/   (Ctrl-C stops everything)")
         try:
-            call_command("runserver", host, use_reloader=False)
+            # --insecure: serve the docs pages' scripts although DEBUG is off (a local demo server only)
+            call_command("runserver", host, use_reloader=False, insecure_serving=True)
         finally:
             for process in workers:
                 process.terminate()
