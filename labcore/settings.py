@@ -156,6 +156,10 @@ CELERY_BEAT_SCHEDULE = {
     "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 900.0},
 }
 
+# EWMA chart of production series: smoothing λ and limit width L (NIST/SEMATECH typical: 0.2-0.3, 3).
+TREND_EWMA_SMOOTHING = float(os.environ.get("TREND_EWMA_SMOOTHING", 0.2))
+TREND_EWMA_WIDTH = float(os.environ.get("TREND_EWMA_WIDTH", 3.0))
+
 EMAIL_BACKEND = os.environ.get("EMAIL_BACKEND", "django.core.mail.backends.console.EmailBackend")
 DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")
 ALERT_EMAIL_RECIPIENTS = [a for a in os.environ.get("ALERT_EMAIL_RECIPIENTS", "qa@localhost").split(",") if a]

@@ -3,6 +3,8 @@ from __future__ import annotations
 
 from typing import Any
 
+from django.conf import settings
+
 from analyses.charts.control_chart import ewma_chart_data, shewhart_chart_data
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import ControlBaseline, SeriesKind
@@ -55,7 +57,8 @@ def series_chart(series_key: str, chart: str = "shewhart") -> dict[str, Any]:
         mean, sd = established.mean, established.sd
     title = f"{series_key} ({frame['method_code'].iloc[0]})"
     if chart == "ewma":
-        data = ewma_chart_data(ewma_chart(values, mean, sd), labels=labels, title=f"EWMA {title}")
+        chart_data = ewma_chart(values, mean, sd, settings.TREND_EWMA_SMOOTHING, settings.TREND_EWMA_WIDTH)
+        data = ewma_chart_data(chart_data, labels=labels, title=f"EWMA {title}")
     else:
         rules = westgard_evaluate if frame["kind"].iloc[0] == SeriesKind.QC_CHECK else nelson_evaluate
         data = shewhart_chart_data(values, mean, sd, rules(values, mean, sd), labels=labels, title=title)

@@ -11,6 +11,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 
 import pandas as pd
+from django.conf import settings
 from django.db import transaction
 from django.utils import timezone
 
@@ -75,7 +76,10 @@ def trend_scan(series_keys: Iterable[str] | None = None) -> ScanSummary:
         part = frame[(frame["kind"] == kind) & frame["series_id"].isin(limits.index)]
         if part.empty:
             continue
-        episodes = series_scan(part[["series_id", "sequence", "value"]], limits.reset_index(), families=families)
+        episodes = series_scan(
+            part[["series_id", "sequence", "value"]], limits.reset_index(), families=families,
+            ewma_smoothing=settings.TREND_EWMA_SMOOTHING, ewma_width=settings.TREND_EWMA_WIDTH,
+        )
         summary.episodes += len(episodes)
         drafts += _drafts(part, episodes)
     summary.alerts_raised = len(alerts_raise(drafts))

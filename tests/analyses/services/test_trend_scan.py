@@ -102,3 +102,18 @@ def test_replacing_a_baseline_records_old_and_new_values(qc_lot, users):
     entry = AuditEntry.objects.filter(object_type="analyses.controlbaseline", object_id=str(baseline.pk)).order_by("-sequence").first()
     assert entry.changes == {"mean": [1.0, 1.2]}
     assert entry.reason == "new reference oil batch"
+
+
+def test_ewma_smoothing_and_width_come_from_settings(db, users, settings):
+    lot = LotFactory(code="RSO-2026-03")
+    control_baseline_set(users["qa"], series_key=f"production:{lot.product_id}:av", mean=MEAN, sd=SD)
+    # A sustained shift of +1.5 s. NIST/SEMATECH e-Handbook EWMA: the limits tend to
+    # ±L s sqrt(λ/(2 − λ)) = ±1.0 s for λ = 0.2, L = 3, which the EWMA crosses; for L = 6 they
+    # tend to ±2.0 s, which an EWMA of values at 1.4-1.6 s never reaches.
+    accepted_series(lot, in_control(5) + [MEAN + 1.4 * SD, MEAN + 1.6 * SD] * 6, kind=SampleKind.ROUTINE)
+    settings.TREND_EWMA_WIDTH = 6.0
+    trend_scan()
+    assert not Alert.objects.filter(rule="ewma").exists()
+    settings.TREND_EWMA_WIDTH = 3.0
+    trend_scan()
+    assert Alert.objects.filter(rule="ewma").exists()
