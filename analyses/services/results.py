@@ -156,6 +156,15 @@ def _result_fields(actor: Actor, test: Test, inputs: Any, outcome: MethodResult,
     }
 
 
+def _replay(first: Result, test: Test, inputs: Any, key: str) -> Result:
+    """The result a repeated key returns; Conflict when the key was used for another request."""
+    if first.test_id != test.pk:
+        raise Conflict(f"idempotency key {key!r} was already used for test {first.test_id}")
+    if not isinstance(inputs, Mapping) or first.inputs != json_safe(dict(inputs)):
+        raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with other inputs")
+    return first
+
+
 def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Result:
     """Insert ``result``; a concurrent twin with the same idempotency key wins and is returned."""
     try:
@@ -165,9 +174,7 @@ def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Res
         twin = Result.objects.filter(entered_by=actor, idempotency_key=key).first() if key else None
         if twin is None:
             raise Conflict(f"test {test.pk}: replicate {result.replicate} was entered at the same time by someone else") from None
-        if twin.test_id != test.pk:
-            raise Conflict(f"idempotency key {key!r} was already used for test {twin.test_id}") from None
-        return twin
+        return _replay(twin, test, result.inputs, key)
     return result
 
 
@@ -195,9 +202,7 @@ def result_record(
         if key:
             first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
             if first is not None:
-                if first.test_id != test.pk:
-                    raise Conflict(f"idempotency key {key!r} was already used for test {first.test_id}")
-                return first
+                return _replay(first, test, inputs, key)
         _check_may_enter(actor, test)
         _check_workable(test)
         current = {r.replicate: r for r in test.results.filter(status=ResultStatus.CURRENT)}

@@ -82,6 +82,17 @@ def test_a_key_reused_for_another_test_is_a_conflict(users, av, pv):
         result_record(users["analyst"], pv, inputs=PV_LOW, idempotency_key="k1")
 
 
+def test_a_key_reused_with_other_inputs_is_a_conflict_not_a_silent_replay(users, av):
+    first = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="k2")
+    before = _written()
+    with pytest.raises(Conflict, match="other inputs"):
+        result_record(users["analyst"], av, inputs=AV_LOW_TWIN, idempotency_key="k2")
+    with pytest.raises(Conflict, match="other inputs"):
+        result_record(users["analyst"], av, inputs="not an object", idempotency_key="k2")
+    assert _written() == before
+    assert result_record(users["analyst"], av, inputs=dict(AV_LOW), idempotency_key="k2").pk == first.pk
+
+
 def test_bulk_entry_is_all_or_nothing_and_names_the_item_and_field(users, av, pv):
     before = _written()
     items = [
