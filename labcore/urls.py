@@ -14,3 +14,6 @@ urlpatterns = [
     path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="api-docs"),
     path("api/redoc/", SpectacularRedocView.as_view(url_name="schema"), name="api-redoc"),
 ]
+
+handler404 = "labcore.http_errors.not_found"
+handler500 = "labcore.http_errors.server_error"
