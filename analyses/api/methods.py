@@ -1,13 +1,14 @@
 """Method plugins over REST: their metadata, and a stateless calculation."""
 from __future__ import annotations
 
-from drf_spectacular.utils import OpenApiResponse, extend_schema, inline_serializer
+from drf_spectacular.utils import extend_schema
 from rest_framework import serializers
 from rest_framework.permissions import AllowAny
 from rest_framework.request import Request
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
+from analyses.api.schema import errors
 from analyses.selectors.methods import method_detail, method_list
 from analyses.services.calculation import calculation_run
 
@@ -43,12 +44,6 @@ class CalculationResultSerializer(serializers.Serializer):
     inputs = serializers.DictField(help_text="Inputs as used, in each input's default unit")
 
 
-ErrorSerializer = inline_serializer(
-    "FieldError",
-    {"detail": serializers.CharField(), "fields": serializers.DictField(child=serializers.ListField(child=serializers.CharField()))},
-)
-
-
 class MethodListView(APIView):
     permission_classes = [AllowAny]
 
@@ -70,7 +65,7 @@ class CalculationView(APIView):
 
     @extend_schema(
         request=CalculationRequestSerializer,
-        responses={200: CalculationResultSerializer, 400: OpenApiResponse(ErrorSerializer), 404: OpenApiResponse(description="Unknown method")},
+        responses={200: CalculationResultSerializer, **errors(400, 404)},
         summary="Compute one determination; nothing is stored",
     )
     def post(self, request: Request) -> Response:
