@@ -198,12 +198,20 @@ class MethodResult:
         }
 
 
+SIGNIFICANT_DIGITS = 12  # far beyond any titration's precision, far above float noise (~16 digits)
+
+
 def round_half_even(value: float, decimals: int) -> Decimal:
-    """ASTM E29 rounding: half to even, on the value as written (so 21.45 -> 21.4 at 1 place)."""
+    """ASTM E29 rounding: half to even (so 21.45 -> 21.4 at 1 place).
+
+    The value is first written to 12 significant digits: a result that is exactly a tie
+    on paper (5.02 g, 2.51 mL, 0.1 mol/L -> AV 2.805) comes out of float arithmetic as
+    2.8050000000000006, which must not decide the rounding, nor the unit it was entered in.
+    """
     quantum = Decimal(1).scaleb(-decimals)
     # The default 28 digits cannot hold a large float to ``decimals`` places (1e30 at 0.1).
     with localcontext(Context(prec=_ROUNDING_DIGITS + decimals)):
-        return Decimal(repr(float(value))).quantize(quantum, rounding=ROUND_HALF_EVEN)
+        return Decimal(f"{float(value):.{SIGNIFICANT_DIGITS}g}").quantize(quantum, rounding=ROUND_HALF_EVEN)
 
 
 class MethodPlugin:

@@ -9,8 +9,10 @@ from decimal import Decimal
 
 import pytest
 
+from plugins.acid import AcidValue
 from plugins.contract import MethodPlugin, QuantityInput, WorkedExample, round_half_even
 from plugins.iodine import IodineValueWijs
+from plugins.peroxide import PeroxideValue
 from plugins.saponification import SaponificationValue
 
 
@@ -38,7 +40,23 @@ def test_round_half_even_follows_astm_e29(value, decimals, expected):
 @pytest.mark.parametrize("value", [1e27, 1e30, 1.7976931348623157e308, -1e200])
 def test_round_half_even_takes_any_finite_float(value):
     # The default decimal context (28 digits) could not quantize these; a huge input must not crash.
-    assert round_half_even(value, 1) == Decimal(repr(value))
+    # The value is taken to 12 significant digits before rounding (float noise must not decide ties).
+    assert round_half_even(value, 1) == Decimal(f"{value:.12g}")
+
+
+@pytest.mark.parametrize(
+    "plugin, inputs, expected",
+    [
+        # ISO 660: AV = 2.51 mL x 0.1 mol/L x 56.1 / 5.02 g = 2.805 exactly on paper; half to even -> 2.80
+        (AcidValue(), {"sample_mass": "5.02", "sample_volume": "2.51", "titrant_concentration": "0.1"}, "2.80"),
+        (AcidValue(), {"sample_mass": "5020 mg", "sample_volume": "2.51", "titrant_concentration": "0.1"}, "2.80"),
+        # AOCS Cd 8b-90: PV = (0.5 - 0.05) mL x 0.01 mol/L x 1000 / 2 g = 2.25 exactly; half to even -> 2.2
+        (PeroxideValue(), {"sample_mass": "2", "sample_volume": "0.5", "blank_volume": "0.05", "titrant_concentration": "0.01"}, "2.2"),
+    ],
+)
+def test_a_tie_on_paper_rounds_to_even_whatever_the_float_noise_or_unit(plugin, inputs, expected):
+    # ASTM E29 (references.md): round half to even; the float result here is 2.8050000000000006 or 2.2500000000000004
+    assert str(plugin.calculate(inputs).reported) == expected
 
 
 def test_result_keeps_the_unrounded_value_beside_the_reported_one():
