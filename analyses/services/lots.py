@@ -16,11 +16,15 @@ from analyses.models import (
     LotState,
     Product,
     SampleState,
+    TestState,
 )
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.certificates import certificate_issue
-from analyses.services.release import release_blockers
-from analyses.services.transitions import sample_move, cancel_open_tests
+from analyses.services.release import RELEASE_KINDS, release_blockers
+from analyses.services.transitions import cancel_open_tests, sample_move
+
+# open tests that a release cancels (a result awaiting review blocks the release instead)
+UNSTARTED_TEST_STATES = (TestState.PENDING, TestState.ASSIGNED, TestState.SENT_BACK)
 
 LOT_FIELDS = ("code", "product", "origin", "supplier", "container_ref", "quantity_kg", "produced_on", "state")
 
@@ -88,19 +92,30 @@ def lot_release(actor: Actor, lot: Lot | int, *, note: str = "") -> Certificate:
     """QA releases a lot and its certificate of analysis is issued.
 
     Conflict (with ``missing``) unless every release-critical test of the lot's routine
-    and QC-check samples is accepted and in specification and no investigation is open.
-    Samples whose testing is complete become released. Needs ``release_lot``."""
+    and QC-check samples is accepted and in specification, no result of theirs awaits
+    review, and no investigation is open. The release cancels their remaining open
+    (non-critical, not yet entered) tests and moves every one of those samples that is
+    not cancelled to released; stability pulls and retains go on. Needs ``release_lot``."""
     require_permission(actor, "release_lot", "release lots")
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
         if lot.state != LotState.OPEN:
             raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be released")
+        # Lock the samples before judging them, so no result arrives between check and release.
+        samples = list(
+            lot.samples.select_for_update().filter(kind__in=RELEASE_KINDS).exclude(state=SampleState.CANCELLED).order_by("pk")
+        )
         missing = release_blockers(lot)
         if missing:
             raise Conflict(f"lot {lot.code} cannot be released: {len(missing)} item(s) missing", missing=missing)
         _decide(actor, lot, LotState.RELEASED, (note or "").strip())
-        for sample in lot.samples.select_for_update().filter(state=SampleState.TESTING_COMPLETE):
-            sample_move(actor, sample, SampleState.RELEASED, reason=f"lot {lot.code} released")
+        reason = f"lot {lot.code} released"
+        for sample in samples:
+            cancel_open_tests(actor, sample, reason="lot released", states=UNSTARTED_TEST_STATES)
+            if sample.state in (SampleState.RECEIVED, SampleState.IN_TESTING):
+                # what testing it needed is done; the rest was cancelled above
+                sample_move(actor, sample, SampleState.TESTING_COMPLETE, reason=reason)
+            sample_move(actor, sample, SampleState.RELEASED, reason=reason)
         return certificate_issue(actor, lot)
 
 

@@ -1,4 +1,9 @@
-"""What stands between a lot and its release."""
+"""What stands between a lot and its release, and what release does to the rest.
+
+Release waits for every release-critical test of the routine and QC-check samples
+(accepted, in specification), for every open investigation, and for any result still
+awaiting review, critical or not. Open non-critical tests that nobody has entered yet
+are cancelled by the release (``lot_release``)."""
 from __future__ import annotations
 
 from django.db.models import Prefetch
@@ -46,6 +51,8 @@ def release_blockers(lot: Lot) -> list[str]:
             missing.append(f"sample {sample.label} is on hold: {sample.state_reason}")
         for test in sample.live_tests:
             if not test.specification_line.release_critical:
+                if test.state == TestState.RESULT_ENTERED:  # a result nobody has reviewed yet
+                    missing.append(f"sample {sample.label}: {test.method_code} test {test.pk} is result_entered, awaiting review")
                 continue
             critical_tests += 1
             if test.state != TestState.ACCEPTED:

@@ -39,7 +39,7 @@ from analyses.services.access import (
     require_permission,
     required_text,
 )
-from analyses.services.transitions import lot_takes_work, record_test_move, sample_require_workable
+from analyses.services.transitions import record_test_move, sample_require_workable
 from analyses.services.verdicts import line_verdict
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult
 from plugins.registry import UnknownMethod, get_registry
@@ -106,8 +106,6 @@ def _check_workable(test: Test) -> None:
     if test.state not in WORKABLE_TEST_STATES:
         raise Conflict(f"test {test.pk} is {test.state}; results can be entered only when it is assigned or sent back")
     sample_require_workable(test.sample)
-    if not lot_takes_work(test.sample.lot, test.sample.kind):
-        raise Conflict(f"lot {test.sample.lot.code} is {test.sample.lot.state}")
 
 
 def _aggregate(plugin: MethodPlugin, test: Test, values: list[float], unit: str) -> dict[str, Any]:

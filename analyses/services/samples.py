@@ -20,7 +20,13 @@ from analyses.models import (
 )
 from analyses.selectors.specifications import specification_effective
 from analyses.services.access import Actor, fetch, require_permission, required_text
-from analyses.services.transitions import cancel_open_tests, lot_takes_work, sample_move, sample_move_check
+from analyses.services.transitions import (
+    cancel_open_tests,
+    lot_takes_work,
+    sample_move,
+    sample_move_check,
+    sample_require_lot_takes_work,
+)
 from plugins.registry import get_registry
 
 SAMPLE_FIELDS = ("lot", "label", "kind", "state", "taken_at")
@@ -166,12 +172,13 @@ def sample_resume(actor: Actor, sample: Sample | int, *, reason: str) -> Sample:
 
 
 def sample_cancel(actor: Actor, sample: Sample | int, *, reason: str) -> Sample:
-    """Cancel a sample that is not yet final; its open tests are cancelled. Needs
-    ``cancel_sample`` (lab manager, admin)."""
+    """Cancel a sample that is not yet final and whose lot still takes work on it; its
+    open tests are cancelled. Needs ``cancel_sample`` (lab manager, admin)."""
     require_permission(actor, "cancel_sample", "cancel samples")
     reason = required_text(reason, "reason")
     with transaction.atomic():
         sample = fetch(Sample, sample, lock=True)
         sample_move_check(sample, SampleState.CANCELLED)
+        sample_require_lot_takes_work(sample)
         cancel_open_tests(actor, sample, reason=f"sample cancelled: {reason}")
         return sample_move(actor, sample, SampleState.CANCELLED, reason=reason)

@@ -18,7 +18,17 @@ from django.db.models import Q
 
 from analyses.audit import audit_append
 from analyses.errors import Conflict
-from analyses.models import AuditAction, Lot, LotState, Sample, SampleKind, SampleState, Test, TestState
+from analyses.models import (
+    OPEN_TEST_STATES,
+    AuditAction,
+    Lot,
+    LotState,
+    Sample,
+    SampleKind,
+    SampleState,
+    Test,
+    TestState,
+)
 from analyses.services.access import Actor
 
 S = SampleState
@@ -70,13 +80,24 @@ def sample_move(actor: Actor, sample: Sample, target: str, *, reason: str = "") 
 
 
 def lot_takes_work(lot: Lot, kind: str) -> bool:
-    """Whether samples of ``kind`` may be taken from, and tested on, ``lot`` in its state:
-    any kind while it is open; stability pulls and retains after its release too."""
+    """Whether samples of ``kind`` may be taken from ``lot`` in its state, and worked on
+    (tests assigned, results entered or corrected, reviewed, sent back, the sample
+    cancelled): any kind while it is open; stability pulls and retains after its release
+    too. A decided lot's other samples are history."""
     return lot.state == LotState.OPEN or (lot.state == LotState.RELEASED and kind in AFTER_RELEASE_KINDS)
 
 
+def sample_require_lot_takes_work(sample: Sample) -> None:
+    """Conflict unless the sample's lot still takes work on samples of its kind."""
+    lot = sample.lot
+    if not lot_takes_work(lot, sample.kind):
+        raise Conflict(f"lot {lot.code} is {lot.state}; its {sample.kind} sample {sample.label} takes no more work")
+
+
 def sample_require_workable(sample: Sample) -> None:
-    """Conflict when work on the sample's tests must wait (on hold) or has ended."""
+    """Conflict when work on the sample's tests must wait (on hold) or has ended (the
+    sample is final, or its lot decided: ``lot_takes_work``)."""
+    sample_require_lot_takes_work(sample)
     if sample.state == S.ON_HOLD:
         raise Conflict(f"sample {sample.label} is on hold: {sample.state_reason}")
     if sample.state in FINAL_SAMPLE_STATES:
@@ -109,11 +130,11 @@ def record_test_move(actor: Actor, test: Test, target: str, *, reason: str = "",
     return test
 
 
-def cancel_open_tests(actor: Actor, sample: Sample, *, reason: str) -> int:
-    """Cancel every test of ``sample`` that is not yet accepted; returns how many."""
+def cancel_open_tests(actor: Actor, sample: Sample, *, reason: str, states=OPEN_TEST_STATES) -> int:
+    """Cancel every test of ``sample`` in one of ``states`` (default: every test not yet
+    accepted); returns how many."""
     count = 0
-    open_states = [TestState.PENDING, TestState.ASSIGNED, TestState.RESULT_ENTERED, TestState.SENT_BACK]
-    for test in Test.objects.select_for_update().select_related("sample").filter(sample=sample, state__in=open_states):
+    for test in Test.objects.select_for_update().select_related("sample").filter(sample=sample, state__in=states).order_by("pk"):
         record_test_move(actor, test, TestState.CANCELLED, reason=reason)
         test.save(update_fields=["state"])
         count += 1

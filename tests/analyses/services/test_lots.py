@@ -4,11 +4,12 @@ from __future__ import annotations
 import pytest
 
 from analyses.errors import Conflict, InvalidInput
-from analyses.models import Certificate, ImmutableRowError, LotState, SampleState, TestState
+from analyses.models import AuditEntry, Certificate, ImmutableRowError, LotState, SampleState, TestState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.lots import lot_create, lot_reject, lot_release
+from analyses.services.results import result_record
 from analyses.services.review import test_accept
-from analyses.services.samples import sample_hold, sample_receive, sample_register
+from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
 from tests.analyses.lab_setup import enter_passing
 
@@ -59,23 +60,58 @@ def test_a_lot_without_tests_or_with_a_held_sample_is_not_released(users, lot, r
     assert "sample L-100-A is on hold: seal broken" in caught.value.missing
 
 
-def test_a_pending_test_that_is_not_release_critical_does_not_block(users, product):
+def _non_critical_lot(users, product, code="L-NC"):
+    """A received sample with a release-critical AV line and a non-critical SV line."""
     manager, qa = users["manager"], users["qa"]
     draft = specification_create(
         manager, product, effective_from="2020-01-01",
         lines=[{"method": "av", "maximum": "0.6"}, {"method": "sv", "codex_oil_type": "soybean", "release_critical": False}],
     )
     specification_approve(qa, draft)
-    lot = lot_create(manager, code="L-NC", product=product, origin="production")
-    sample = sample_receive(manager, sample_register(manager, lot), condition="ok", storage_place="shelf")
+    lot = lot_create(manager, code=code, product=product, origin="production")
+    return sample_receive(manager, sample_register(manager, lot), condition="ok", storage_place="shelf")
+
+
+def test_release_cancels_open_non_critical_tests_and_releases_the_sample(users, product):
+    # Changed behaviour: the non-critical SV test used to stay pending and the sample
+    # in_testing after release; now the release cancels it and releases the sample.
+    sample = _non_critical_lot(users, product)
     av = sample.tests.get(method_code="av")
-    test_assign_bulk(manager, [av], assignee=users["analyst"])
+    sv = sample.tests.get(method_code="sv")
+    test_assign_bulk(users["manager"], [av], assignee=users["analyst"])
     test_accept(users["analyst2"], enter_passing(users["analyst"], [av])[0])
-    certificate = lot_release(qa, lot)
+    certificate = lot_release(users["qa"], sample.lot)
     assert [row["method"] for row in certificate.content["results"]] == ["av"]
-    assert sample.tests.get(method_code="sv").state == TestState.PENDING
+    sv.refresh_from_db()
+    assert sv.state == TestState.CANCELLED
+    entry = AuditEntry.objects.filter(object_type="analyses.test", object_id=str(sv.pk)).last()
+    assert (entry.changes["state"], entry.reason) == (["pending", "cancelled"], "lot released")
     sample.refresh_from_db()
-    assert sample.state == SampleState.IN_TESTING  # its testing is not complete, so it is not "released"
+    assert sample.state == SampleState.RELEASED
+    # the lot is decided: its routine sample's tests take no more work
+    with pytest.raises(Conflict):
+        test_assign_bulk(users["manager"], [sv], assignee=users["analyst"])
+    with pytest.raises(Conflict):
+        sample_cancel(users["manager"], sample, reason="too late")
+
+
+def test_a_non_critical_result_awaiting_review_blocks_release(users, product):
+    sample = _non_critical_lot(users, product)
+    av = sample.tests.get(method_code="av")
+    sv = sample.tests.get(method_code="sv")
+    test_assign_bulk(users["manager"], [av, sv], assignee=users["analyst"])
+    test_accept(users["analyst2"], enter_passing(users["analyst"], [av])[0])
+    # AOCS Cd 3-25: SV = (B - S) * c * 56.1 / m; (24.0 - 4.0) * 0.5 * 56.1 / 2.9 = 193.4 (in the Codex soybean range)
+    sv_inputs = {"sample_mass": "2.9", "sample_volume": "4.0", "blank_volume": "24.0", "titrant_concentration": "0.5"}
+    result_record(users["analyst"], sv, inputs=sv_inputs)
+    result_record(users["analyst"], sv, inputs=sv_inputs)
+    sv.refresh_from_db()
+    assert sv.state == TestState.RESULT_ENTERED
+    with pytest.raises(Conflict) as caught:
+        lot_release(users["qa"], sample.lot)
+    assert caught.value.missing == [f"sample {sample.label}: sv test {sv.pk} is result_entered, awaiting review"]
+    sample.lot.refresh_from_db()
+    assert sample.lot.state == LotState.OPEN
 
 
 def test_rejection_needs_a_reason_and_closes_the_lot(users, assigned_tests):
