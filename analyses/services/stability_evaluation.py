@@ -107,7 +107,7 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
     conditions = list(study.conditions.all())
     drafts: list[AlertDraft] = []
     attributes_out = []
-    predictions = []
+    predictions, supports = [], []
     for attribute in study.attributes.all():
         limit, side = _limit(attribute)
         rows = results[results["method_code"] == attribute.method_code]
@@ -118,13 +118,16 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
             entry |= condition_evaluation(subset, limit, side) if len(subset) else {"n": 0}
             per_condition.append(entry)
         arrhenius = arrhenius_evaluation(per_condition, study.storage_temperature_c, limit, side)
-        predicted, basis = _predicted_shelf_life(per_condition, arrhenius, study.storage_temperature_c)
+        predicted, supported, basis = _predicted_shelf_life(per_condition, arrhenius, study.storage_temperature_c)
         attributes_out.append({
             "method_code": attribute.method_code, "limit": limit, "limit_side": side, "conditions": per_condition,
-            "arrhenius": arrhenius, "predicted_shelf_life_months": predicted, "basis": basis,
+            "arrhenius": arrhenius, "predicted_shelf_life_months": predicted,
+            "supported_shelf_life_months": supported, "basis": basis,
         })
         if predicted is not None:
             predictions.append(predicted)
+        if supported is not None:
+            supports.append(supported)
         if predicted is not None and predicted < study.claimed_shelf_life_months:
             drafts.append(AlertDraft(
                 source=AlertSource.STABILITY, rule="shelf_life_short", series_key=f"stability:{study.code}",
@@ -149,20 +152,31 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
         "claimed_shelf_life_months": study.claimed_shelf_life_months,
         "storage_temperature_c": study.storage_temperature_c,
         "predicted_shelf_life_months": min(predictions) if predictions else None,
+        # what the data support so far: the ICH Q1E estimate capped at the allowed extrapolation
+        "supported_shelf_life_months": min(supports) if supports else None,
         "attributes": attributes_out,
     }
     return json_ready(evaluation), drafts
 
 
-def _predicted_shelf_life(per_condition: list[dict[str, Any]], arrhenius: dict[str, Any] | None, storage_c: float) -> tuple[float | None, str]:
-    """ICH Q1E at the storage condition when it has data; otherwise the Arrhenius prediction."""
+def _predicted_shelf_life(
+    per_condition: list[dict[str, Any]], arrhenius: dict[str, Any] | None, storage_c: float
+) -> tuple[float | None, float | None, str]:
+    """(predicted, supported, basis). At the storage condition the prediction is the ICH Q1E
+    crossing itself and "supported" is what the data support so far (the crossing capped at
+    the allowed extrapolation); without data there, the Arrhenius prediction."""
     at_storage = [
-        c["shelf_life"]["months"] for c in per_condition
+        c["shelf_life"] for c in per_condition
         if c["temperature_c"] == storage_c and c["light"] == "dark" and c.get("shelf_life")
     ]
     if at_storage:
-        return min(at_storage), "ICH Q1E regression at the storage condition"
+        governing = min(at_storage, key=lambda sl: sl["months"])
+        supported = governing["months"]
+        if governing["estimate_months"] is None:
+            return None, supported, "ICH Q1E regression at the storage condition: limit not reached within the horizon"
+        note = ", beyond the last result" if governing["extrapolated"] else ""
+        return governing["estimate_months"], supported, f"ICH Q1E regression at the storage condition{note}"
     if arrhenius and arrhenius.get("shelf_life_months") is not None:
         note = ", extrapolated beyond the studied temperatures" if arrhenius["extrapolated"] else ""
-        return arrhenius["shelf_life_months"], f"Arrhenius prediction at {storage_c:g} °C{note}"
-    return None, "not enough data"
+        return arrhenius["shelf_life_months"], None, f"Arrhenius prediction at {storage_c:g} °C{note}"
+    return None, None, "not enough data"
