@@ -28,16 +28,22 @@ def study_list() -> QuerySet[StabilityStudy]:
     return StabilityStudy.objects.select_related("product").prefetch_related("lots", "conditions", "attributes")
 
 
+def study_get(study_id: int) -> StabilityStudy:
+    """The study, or NotFound (ids beyond a 64-bit key cannot exist)."""
+    study = StabilityStudy.objects.filter(pk=study_id).first() if 0 < study_id < 2**63 else None
+    if study is None:
+        raise NotFound(f"stability study {study_id} not found")
+    return study
+
+
 def pull_point_list(study_id: int) -> QuerySet[PullPoint]:
-    return PullPoint.objects.filter(study_id=study_id).select_related("condition", "lot", "sample")
+    study = study_get(study_id)
+    return PullPoint.objects.filter(study=study).select_related("condition", "lot", "sample")
 
 
 def study_plot(study_id: int, method_code: str, condition_id: int) -> dict[str, Any]:
     """Data, fitted line, one-sided bound, limit and shelf life of one attribute under one condition."""
-    try:
-        study = StabilityStudy.objects.get(pk=study_id)
-    except StabilityStudy.DoesNotExist:
-        raise NotFound(f"stability study {study_id} not found") from None
+    study = study_get(study_id)
     attribute = study.attributes.filter(method_code=method_code).first()
     if attribute is None:
         raise InvalidInput.for_field("method", f"{method_code!r} is not an attribute of study {study.code}")

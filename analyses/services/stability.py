@@ -44,6 +44,7 @@ from plugins.registry import get_registry
 logger = logging.getLogger(__name__)
 
 DAYS_PER_MONTH = 365.25 / 12
+MAX_OFFSET = {OffsetUnit.DAYS: 7300, OffsetUnit.MONTHS: 240}  # 20 years: longer than any shelf-life claim
 PULL_GRACE_DAYS = 7  # a pull not tested a week after its due date is overdue (common practice, no source)
 STUDY_FIELDS = ("code", "title", "product_id", "started_on", "storage_temperature_c", "claimed_shelf_life_months", "state")
 
@@ -109,6 +110,8 @@ def _clean_pulls(raw: Any) -> list[tuple[int, str]]:
         unit = item.get("unit", OffsetUnit.MONTHS)
         if unit not in OffsetUnit.values:
             raise InvalidInput.for_field(f"pull_points.{index}.unit", f"must be one of {', '.join(OffsetUnit.values)}")
+        if offset > MAX_OFFSET[unit]:
+            raise InvalidInput.for_field(f"pull_points.{index}.offset", f"must be at most {MAX_OFFSET[unit]} {unit}")
         if (offset, unit) in pulls:
             raise InvalidInput.for_field(f"pull_points.{index}", "repeats another pull point")
         pulls.append((offset, unit))
@@ -162,6 +165,8 @@ def stability_study_create(
     title = required_text(title, "title")
     if not isinstance(started_on, dt.date):
         raise InvalidInput.for_field("started_on", "must be a date")
+    if started_on.year > 9000:  # the last pull must still be a date
+        raise InvalidInput.for_field("started_on", "must be a date before the year 9000")
     storage = _number(storage_temperature_c, "storage_temperature_c", low=-40, high=120)
     claimed = _number(claimed_shelf_life_months, "claimed_shelf_life_months", low=0.1)
     clean_conditions = _clean_conditions(conditions)

@@ -17,7 +17,7 @@ class ConditionInSerializer(StrictSerializer):
 
 
 class PullInSerializer(StrictSerializer):
-    offset = serializers.IntegerField(min_value=0, help_text="Days or months after the start")
+    offset = serializers.IntegerField(min_value=0, max_value=7300, help_text="Days (up to 7300) or months (up to 240) after the start")
     unit = OffsetUnitField(choices=OffsetUnit.choices, default=OffsetUnit.MONTHS)
 
 

@@ -41,6 +41,10 @@ def test_a_manager_creates_a_study_and_the_pull_schedule(clients, lot):
         ({"lots": [987654]}, "lots"),
         ({"started_on": "yesterday"}, "started_on"),
         ({"shelf_life": 12}, "shelf_life"),
+        ({"pull_points": [{"offset": 100000, "unit": "months"}]}, "pull_points.0.offset"),
+        ({"pull_points": [{"offset": 10**10, "unit": "days"}]}, "pull_points.0.offset"),
+        ({"pull_points": [{"offset": 241, "unit": "months"}]}, "pull_points.0.offset"),
+        ({"started_on": "9999-12-15"}, "started_on"),
     ],
 )
 def test_bad_protocols_are_400_naming_the_field_and_write_nothing(clients, lot, change, field):
@@ -110,4 +114,7 @@ def test_closing_needs_a_reason(clients, study_with_results):
 
 def test_unknown_study_is_404(clients):
     assert clients["qa"].get("/api/stability-studies/999999/").status_code == 404
+    assert clients["qa"].get("/api/stability-studies/999999/pull-points/").status_code == 404
+    assert clients["qa"].get(f"/api/stability-studies/{10**20}/pull-points/").status_code == 404
+    assert clients["qa"].get(f"/api/stability-studies/{10**20}/plot/", {"method": "pv", "condition": 1}).status_code == 404
     assert clients["qa"].post("/api/stability-studies/999999/evaluate/").status_code == 404
