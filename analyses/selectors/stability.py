@@ -28,8 +28,9 @@ def study_list() -> QuerySet[StabilityStudy]:
     return StabilityStudy.objects.select_related("product").prefetch_related("lots", "conditions", "attributes")
 
 
-def study_get(study_id: int) -> StabilityStudy:
+def study_get(study_id: int | str) -> StabilityStudy:
     """The study, or NotFound (ids beyond a 64-bit key cannot exist)."""
+    study_id = int(study_id)
     study = StabilityStudy.objects.filter(pk=study_id).first() if 0 < study_id < 2**63 else None
     if study is None:
         raise NotFound(f"stability study {study_id} not found")
