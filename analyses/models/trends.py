@@ -76,6 +76,9 @@ class Alert(models.Model):
     webhook_delivered_at = models.DateTimeField(null=True, blank=True)
     webhook_attempts = models.PositiveIntegerField(default=0)
     webhook_last_error = models.TextField(blank=True)
+    notify_after = models.DateTimeField(
+        null=True, blank=True, help_text="no delivery attempt before this time (a run holds it, or backs off)"
+    )
 
     class Meta:
         ordering = ["-raised_at", "-id"]
