@@ -8,7 +8,7 @@ from __future__ import annotations
 from celery import shared_task
 from django.db import InterfaceError, OperationalError
 
-from analyses.services.alerts import WebhookFailed, alert_notify, alerts_pending_notification
+from analyses.services.alert_delivery import alert_notify, alerts_pending_notification
 from analyses.services.stability import stability_pulls_schedule, stability_studies_evaluate, stability_study_evaluate
 from analyses.services.trend_scan import trend_scan
 
@@ -37,24 +37,18 @@ def stability_studies_evaluate_task() -> int:
     return stability_studies_evaluate()
 
 
-@shared_task(
-    name="analyses.tasks.alert_notify_task",
-    acks_late=True,
-    autoretry_for=(WebhookFailed, *TRANSIENT),
-    retry_backoff=10,
-    retry_backoff_max=3600,
-    max_retries=12,
-)
-def alert_notify_task(alert_id: int) -> int:
-    return alert_notify(alert_id).webhook_attempts
+@shared_task(name="analyses.tasks.alert_notify_task", **RETRY)
+def alert_notify_task(alert_id: int) -> dict:
+    """One delivery attempt; a failed send is recorded with its next attempt time, and
+    alerts_notify_pending_task retries it then (the only retry, so chains never multiply)."""
+    outcome = alert_notify(alert_id)
+    return {"alert": outcome.alert_id, "owed": outcome.owed, "errors": list(outcome.errors)}
 
 
 @shared_task(name="analyses.tasks.alerts_notify_pending_task", acks_late=True)
 def alerts_notify_pending_task() -> int:
-    """Re-queue alerts whose e-mail or webhook is still owed (after retries ran out, or a lost message)."""
+    """Queue every alert owed an e-mail or webhook whose next attempt is due."""
     pending = alerts_pending_notification()
     for alert_id in pending:
         alert_notify_task.delay(alert_id)
     return len(pending)
-
-

@@ -127,7 +127,12 @@ BROKER_DIR = VAR_DIR / "broker"
 if REDIS_URL:
     CELERY_BROKER_URL = REDIS_URL
     CELERY_RESULT_BACKEND = REDIS_URL
-    CELERY_BROKER_TRANSPORT_OPTIONS: dict = {}
+    CELERY_BROKER_TRANSPORT_OPTIONS: dict = {"socket_connect_timeout": 2}
+    # Give up on a Redis that is down in about a second (the default retries for ~19 s)
+    CELERY_RESULT_BACKEND_TRANSPORT_OPTIONS = {
+        "retry_policy": {"max_retries": 2, "interval_start": 0, "interval_step": 0.2, "interval_max": 0.5},
+        "socket_connect_timeout": 2,
+    }
 else:
     for sub in ("out", "processed", "control"):
         (BROKER_DIR / sub).mkdir(parents=True, exist_ok=True)
@@ -142,6 +147,11 @@ else:
     CELERY_RESULT_BACKEND = f"file://{VAR_DIR / 'results'}"
     (VAR_DIR / "results").mkdir(parents=True, exist_ok=True)
 CELERY_TASK_ACKS_LATE = True
+# Nothing reads task results (the database holds the outcome), and a request must not wait
+# on a broker that is down: publish fails fast, and the periodic scans catch up.
+CELERY_TASK_IGNORE_RESULT = True
+CELERY_TASK_PUBLISH_RETRY_POLICY = {"max_retries": 2, "interval_start": 0, "interval_step": 0.2, "interval_max": 0.5}
+CELERY_BROKER_CONNECTION_TIMEOUT = 2
 CELERY_TASK_REJECT_ON_WORKER_LOST = True
 CELERY_WORKER_PREFETCH_MULTIPLIER = 1
 CELERY_TASK_SERIALIZER = "json"
@@ -153,7 +163,7 @@ CELERY_BEAT_SCHEDULE = {
     "trend-scan": {"task": "analyses.tasks.trend_scan_task", "schedule": float(os.environ.get("TREND_SCAN_SECONDS", 300))},
     "stability-pulls": {"task": "analyses.tasks.stability_pulls_schedule_task", "schedule": float(os.environ.get("PULL_SCHEDULE_SECONDS", 600))},
     "stability-evaluate": {"task": "analyses.tasks.stability_studies_evaluate_task", "schedule": 3600.0},
-    "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 900.0},
+    "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 60.0},
 }
 
 # EWMA chart of production series: smoothing λ and limit width L (NIST/SEMATECH typical: 0.2-0.3, 3).

@@ -20,6 +20,13 @@ class WebhookServer:
                 server.received.append(json.loads(body))
                 status = server.statuses.pop(0) if len(server.statuses) > 1 else server.statuses[0]
                 self.send_response(status)
+                if 300 <= status < 400:
+                    self.send_header("Location", "/final")
+                self.end_headers()
+
+            def do_GET(self):  # a followed redirect would arrive here, without the alert
+                server.received.append({"followed_redirect_to": self.path})
+                self.send_response(200)
                 self.end_headers()
 
             def log_message(self, *args):  # keep test output quiet

@@ -66,8 +66,9 @@ def test_the_worker_runs_the_scan_an_accepted_test_queued_and_the_alert_is_maile
 def test_running_a_task_twice_changes_nothing_twice(redis_worker, users, lot):
     control_baseline_set(users["qa"], series_key=f"qc:{lot.pk}:av", mean=0.35, sd=0.01)
     accepted_series(lot, [0.347, 0.353] * 5 + [0.45])
-    first = app.send_task("analyses.tasks.trend_scan_task", args=[[f"qc:{lot.pk}:av"]])
-    second = app.send_task("analyses.tasks.trend_scan_task", args=[[f"qc:{lot.pk}:av"]])
+    # results are ignored by default (CELERY_TASK_IGNORE_RESULT); ask for these two
+    first = app.send_task("analyses.tasks.trend_scan_task", args=[[f"qc:{lot.pk}:av"]], ignore_result=False)
+    second = app.send_task("analyses.tasks.trend_scan_task", args=[[f"qc:{lot.pk}:av"]], ignore_result=False)
     assert first.get(timeout=60)["alerts_raised"] >= 1
     assert second.get(timeout=60)["alerts_raised"] == 0
     assert Alert.objects.filter(rule="westgard_1_3s").count() == 1

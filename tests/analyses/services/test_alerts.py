@@ -1,12 +1,9 @@
-"""Alerts: one per episode, acknowledged by QA, e-mailed once, webhook retried without loss."""
+"""Alerts: one per episode, acknowledged by QA."""
 import pytest
-from django.core import mail
 
 from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import Alert, AlertState, AuditEntry
-from analyses.services.alerts import AlertDraft, WebhookFailed, alert_acknowledge, alert_notify, alerts_pending_notification, alerts_raise
-from analyses.tasks import alert_notify_task
-from tests.webhook_server import WebhookServer
+from analyses.services.alerts import AlertDraft, alert_acknowledge, alerts_raise
 
 
 def draft(key: str = "qc:1:av|westgard_1_3s|+|test7") -> AlertDraft:
@@ -32,54 +29,3 @@ def test_qa_acknowledges_with_a_comment_once(users):
     assert (done.state, done.acknowledged_by, done.acknowledgement) == (AlertState.ACKNOWLEDGED, users["qa"], "new Wijs solution lot; rerun QC")
     with pytest.raises(Conflict):
         alert_acknowledge(users["qa"], alert, comment="again")
-
-
-def test_notification_emails_once(db, settings):
-    settings.ALERT_EMAIL_RECIPIENTS = ["qa@example.invalid"]
-    settings.ALERT_WEBHOOK_URL = ""
-    alert = alerts_raise([draft()])[0]
-    alert_notify(alert.pk)
-    alert_notify(alert.pk)
-    assert len(mail.outbox) == 1
-    assert "westgard_1_3s" in mail.outbox[0].subject
-    assert alerts_pending_notification() == []
-
-
-def test_a_failed_webhook_is_recorded_and_raised_and_the_alert_kept(db, settings):
-    settings.ALERT_EMAIL_RECIPIENTS = []
-    with WebhookServer([500, 200]) as hook:
-        settings.ALERT_WEBHOOK_URL = hook.url
-        alert = alerts_raise([draft()])[0]
-        with pytest.raises(WebhookFailed):
-            alert_notify(alert.pk)
-        alert.refresh_from_db()
-        assert (alert.webhook_attempts, alert.webhook_last_error, alert.webhook_delivered_at) == (1, "HTTP 500", None)
-        assert alerts_pending_notification() == [alert.pk]
-        alert_notify(alert.pk)
-        alert.refresh_from_db()
-        assert alert.webhook_attempts == 2 and alert.webhook_delivered_at is not None
-        assert hook.received[-1]["rule"] == "westgard_1_3s"
-    assert alerts_pending_notification() == []
-
-
-def test_the_notify_task_retries_a_failing_webhook_until_delivered(db, settings):
-    settings.ALERT_EMAIL_RECIPIENTS = []
-    with WebhookServer([503, 502, 200]) as hook:
-        settings.ALERT_WEBHOOK_URL = hook.url
-        alert = alerts_raise([draft()])[0]
-        # apply() runs the task here; Celery re-runs it on each autoretry
-        alert_notify_task.apply(args=[alert.pk])
-        alert.refresh_from_db()
-        assert alert.webhook_attempts == 3
-        assert alert.webhook_delivered_at is not None
-        assert len(hook.received) == 3
-
-
-def test_an_unreachable_webhook_leaves_the_alert_pending(db, settings):
-    settings.ALERT_EMAIL_RECIPIENTS = []
-    settings.ALERT_WEBHOOK_URL = "http://127.0.0.1:9/unreachable"  # discard port: nothing listens
-    alert = alerts_raise([draft()])[0]
-    with pytest.raises(WebhookFailed):
-        alert_notify(alert.pk)
-    assert Alert.objects.filter(pk=alert.pk, webhook_delivered_at__isnull=True).exists()
-    assert alerts_pending_notification() == [alert.pk]
