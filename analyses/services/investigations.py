@@ -31,7 +31,7 @@ from analyses.models import (
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.lots import lot_reject_locked
 from analyses.services.samples import TEST_FIELDS
-from analyses.services.transitions import lot_takes_work, record_test_move, sample_sync
+from analyses.services.transitions import FINAL_SAMPLE_STATES, lot_takes_work, record_test_move, sample_sync
 
 
 def _retest(actor: Actor, test: Test, findings: str) -> Test:
@@ -86,6 +86,8 @@ def investigation_close(
             if not lot_takes_work(lot, test.sample.kind):
                 raise Conflict(f"lot {lot.code} is {lot.state}; a retest is no longer possible")
             test.sample = Sample.objects.select_for_update().get(pk=test.sample_id)
+            if test.sample.state in FINAL_SAMPLE_STATES:
+                raise Conflict(f"sample {test.sample.label} is {test.sample.state}; a retest is no longer possible")
             Test.objects.select_for_update().get(pk=test.pk)
             retest = _retest(actor, test, findings)
         investigation.state = InvestigationState.CLOSED

@@ -11,6 +11,8 @@ from analyses.audit import audit_append, created
 from analyses.errors import Conflict, InvalidInput
 from analyses.models import (
     AuditAction,
+    Investigation,
+    InvestigationState,
     Lot,
     Priority,
     Sample,
@@ -26,6 +28,7 @@ from analyses.services.transitions import (
     sample_move,
     sample_move_check,
     sample_require_lot_takes_work,
+    sample_sync,
 )
 from plugins.registry import get_registry
 
@@ -161,24 +164,35 @@ def sample_hold(actor: Actor, sample: Sample | int, *, reason: str) -> Sample:
 
 
 def sample_resume(actor: Actor, sample: Sample | int, *, reason: str) -> Sample:
-    """Return a held sample to the state it was held from. Needs ``hold_sample``."""
+    """Return a held sample to the state it was held from (its hold reason cleared), then
+    follow its tests: a retest created meanwhile takes it back to in_testing. Needs
+    ``hold_sample``."""
     require_permission(actor, "hold_sample", "resume samples")
     reason = required_text(reason, "reason")
     with transaction.atomic():
         sample = fetch(Sample, sample, lock=True)
         if sample.state != SampleState.ON_HOLD:
             raise Conflict(f"sample {sample.label} is {sample.state}, not on hold")
-        return sample_move(actor, sample, sample.resume_state, reason=reason)
+        sample_move(actor, sample, sample.resume_state, reason=reason)
+        # tests may have changed while it was held (e.g. a retest after a lab error)
+        return sample_sync(actor, sample, reason=reason)
 
 
 def sample_cancel(actor: Actor, sample: Sample | int, *, reason: str) -> Sample:
-    """Cancel a sample that is not yet final and whose lot still takes work on it; its
-    open tests are cancelled. Needs ``cancel_sample`` (lab manager, admin)."""
+    """Cancel a sample that is not yet final, whose lot still takes work on it and that has
+    no open OOS investigation (Conflict naming it); its open tests are cancelled. Needs
+    ``cancel_sample`` (lab manager, admin)."""
     require_permission(actor, "cancel_sample", "cancel samples")
     reason = required_text(reason, "reason")
     with transaction.atomic():
         sample = fetch(Sample, sample, lock=True)
         sample_move_check(sample, SampleState.CANCELLED)
         sample_require_lot_takes_work(sample)
+        open_investigations = list(
+            Investigation.objects.filter(test__sample=sample, state=InvestigationState.OPEN).order_by("pk").values_list("pk", flat=True)
+        )
+        if open_investigations:
+            named = [f"OOS investigation {pk} is open" for pk in open_investigations]
+            raise Conflict(f"sample {sample.label} cannot be cancelled: {'; '.join(named)}", missing=named)
         cancel_open_tests(actor, sample, reason=f"sample cancelled: {reason}")
         return sample_move(actor, sample, SampleState.CANCELLED, reason=reason)

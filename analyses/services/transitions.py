@@ -69,6 +69,9 @@ def sample_move(actor: Actor, sample: Sample, target: str, *, reason: str = "") 
     elif old == S.ON_HOLD:
         changes["resume_state"] = [sample.resume_state, ""]
         sample.resume_state = ""
+        if target not in (S.CANCELLED, S.REJECTED):  # resumed: the hold's reason no longer holds
+            changes["state_reason"] = [sample.state_reason, ""]
+            sample.state_reason = ""
     if reason and target in (S.ON_HOLD, S.CANCELLED, S.REJECTED):
         sample.state_reason = reason
     sample.state = target

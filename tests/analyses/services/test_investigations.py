@@ -10,6 +10,7 @@ from analyses.models import (
     InvestigationState,
     LotState,
     ResultStatus,
+    Sample,
     SampleState,
     Test,
     TestState,
@@ -19,6 +20,7 @@ from analyses.services.assignments import test_assign_bulk
 from analyses.services.investigations import investigation_close
 from analyses.services.lots import lot_release
 from analyses.services.review import test_accept
+from analyses.services.samples import sample_cancel, sample_hold, sample_resume
 from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
 
 pytestmark = pytest.mark.django_db
@@ -90,3 +92,34 @@ def test_lab_error_invalidates_the_result_and_a_retest_leads_to_release(users, o
     certificate = lot_release(users["qa"], closed.lot)
     # the certificate lists the retest, not the invalidated test
     assert sorted(row["test"] for row in certificate.content["results"] if row["method"] == "av") == [retest.pk]
+
+
+def test_a_sample_with_an_open_investigation_cannot_be_cancelled(users, oos):
+    sample = Test.objects.get(pk=oos.test_id).sample
+    with pytest.raises(Conflict) as caught:
+        sample_cancel(users["manager"], sample, reason="container lost")
+    assert caught.value.missing == [f"OOS investigation {oos.pk} is open"]
+    sample.refresh_from_db()
+    assert sample.state == SampleState.TESTING_COMPLETE
+    assert not Test.objects.filter(sample=sample, state=TestState.CANCELLED).exists()
+
+
+def test_no_retest_on_a_cancelled_sample(users, oos):
+    # A sample cancelled before cancelling checked for open investigations (old data).
+    Sample.objects.filter(pk=Test.objects.get(pk=oos.test_id).sample_id).update(state=SampleState.CANCELLED)
+    with pytest.raises(Conflict, match="cancelled"):
+        investigation_close(users["qa"], oos, conclusion=Conclusion.LAB_ERROR, findings="wrong KOH normality")
+    assert Investigation.objects.get(pk=oos.pk).state == InvestigationState.OPEN
+    assert not Test.objects.filter(retest_of=oos.test_id).exists()
+
+
+def test_a_sample_resumed_with_a_retest_waiting_goes_back_to_testing(users, oos):
+    sample = Test.objects.get(pk=oos.test_id).sample
+    sample_hold(users["qa"], sample, reason="awaiting the investigation")
+    closed = investigation_close(users["qa"], oos, conclusion=Conclusion.LAB_ERROR, findings="wrong KOH normality")
+    sample.refresh_from_db()
+    assert sample.state == SampleState.ON_HOLD  # the retest waits for the hold to end
+    sample_resume(users["qa"], sample, reason="investigation closed")
+    sample.refresh_from_db()
+    assert (sample.state, sample.state_reason, sample.resume_state) == (SampleState.IN_TESTING, "", "")
+    assert closed.retest.state == TestState.PENDING
