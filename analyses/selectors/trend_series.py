@@ -10,24 +10,50 @@ from collections.abc import Iterable
 
 import pandas as pd
 
+from django.db.models import Q
+
 from analyses.models import SampleKind, SeriesKind, Test, TestState
 
-SERIES_COLUMNS = ["test_id", "series_id", "kind", "method_code", "lot_id", "product_id", "received_at", "value", "sequence"]
+SERIES_COLUMNS = [
+    "test_id", "series_id", "kind", "method_code", "lot_id", "product_id", "received_at", "value", "verdict", "run_id", "sequence",
+]
 
 
 def series_key(kind: str, owner_id: int, method_code: str) -> str:
     return f"{kind}:{owner_id}:{method_code}"
 
 
+def _series_filter(series_keys: Iterable[str]) -> Q:
+    """Rows of the named series only, so a scan or chart reads its own series, not the database."""
+    wanted = Q(pk__in=[])
+    for key in series_keys:
+        parts = str(key).split(":")
+        if len(parts) != 3 or not parts[1].isdigit() or not 0 < int(parts[1]) < 2**63:
+            continue
+        kind, owner, method_code = parts[0], int(parts[1]), parts[2]
+        if kind == SeriesKind.QC_CHECK:
+            wanted |= Q(sample__kind=SampleKind.QC_CHECK, sample__lot_id=owner, method_code=method_code)
+        elif kind == SeriesKind.PRODUCTION:
+            wanted |= Q(sample__kind=SampleKind.ROUTINE, sample__lot__product_id=owner, method_code=method_code)
+    return wanted
+
+
 def trend_series_frame(series_keys: Iterable[str] | None = None) -> pd.DataFrame:
-    """Every accepted QC-check and routine result, one row per test, ordered by series and receipt."""
+    """Accepted QC-check and routine results (of ``series_keys``, or all), one row per test,
+    ordered by series and receipt. A QC check's run is its day of receipt (the batch it was
+    run with), which the Westgard R-4s rule compares within."""
     rows = Test.objects.filter(
         state=TestState.ACCEPTED,
         value__isnull=False,
         sample__kind__in=(SampleKind.QC_CHECK, SampleKind.ROUTINE),
-    ).values_list("id", "method_code", "value", "sample__kind", "sample__lot_id", "sample__lot__product_id", "sample__received_at")
+    )
+    if series_keys is not None:
+        rows = rows.filter(_series_filter(series_keys))
+    rows = rows.values_list(
+        "id", "method_code", "value", "verdict", "sample__kind", "sample__lot_id", "sample__lot__product_id", "sample__received_at",
+    )
     frame = pd.DataFrame.from_records(
-        list(rows), columns=["test_id", "method_code", "value", "sample_kind", "lot_id", "product_id", "received_at"]
+        list(rows), columns=["test_id", "method_code", "value", "verdict", "sample_kind", "lot_id", "product_id", "received_at"]
     )
     if frame.empty:
         return pd.DataFrame(columns=SERIES_COLUMNS)
@@ -35,9 +61,8 @@ def trend_series_frame(series_keys: Iterable[str] | None = None) -> pd.DataFrame
     frame["kind"] = is_qc.map({True: SeriesKind.QC_CHECK.value, False: SeriesKind.PRODUCTION.value})
     owner = frame["lot_id"].where(is_qc, frame["product_id"]).astype("int64").astype(str)
     frame["series_id"] = frame["kind"] + ":" + owner + ":" + frame["method_code"]
-    if series_keys is not None:
-        frame = frame[frame["series_id"].isin(set(series_keys))]
     received = pd.to_datetime(frame["received_at"], utc=True)
+    frame["run_id"] = received.dt.strftime("%Y-%m-%d")
     # Two results received in the same instant would tie; a nudge of test-id nanoseconds
     # (far below a millisecond) keeps the order of receipt, then of test creation.
     frame["sequence"] = received + pd.to_timedelta(frame["test_id"] % 1_000_000, unit="ns")

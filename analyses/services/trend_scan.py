@@ -17,7 +17,7 @@ from django.utils import timezone
 
 from analyses.audit import audit_append, created
 from analyses.errors import InvalidInput
-from analyses.models import AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind
+from analyses.models import Alert, AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind, Verdict
 from analyses.selectors.trend_series import trend_series_frame
 from analyses.services.access import Actor, require_permission
 from analyses.services.alerts import AlertDraft, alerts_raise
@@ -76,14 +76,36 @@ def trend_scan(series_keys: Iterable[str] | None = None) -> ScanSummary:
         part = frame[(frame["kind"] == kind) & frame["series_id"].isin(limits.index)]
         if part.empty:
             continue
+        # QC checks carry their run (day of receipt) for R-4s; production series have none.
+        columns = ["series_id", "sequence", "value", "run_id"] if kind == SeriesKind.QC_CHECK else ["series_id", "sequence", "value"]
         episodes = series_scan(
-            part[["series_id", "sequence", "value"]], limits.reset_index(), families=families,
+            part[columns], limits.reset_index(), families=families,
             ewma_smoothing=settings.TREND_EWMA_SMOOTHING, ewma_width=settings.TREND_EWMA_WIDTH,
         )
         summary.episodes += len(episodes)
         drafts += _drafts(part, episodes)
-    summary.alerts_raised = len(alerts_raise(drafts))
+    summary.alerts_raised = len(alerts_raise(_not_yet_alerted(drafts)))
     return summary
+
+
+def _not_yet_alerted(drafts: list[AlertDraft]) -> list[AlertDraft]:
+    """Drop a draft that shares a point with an alert of the same series, rule and side: the
+    same episode seen again (grown, or shifted by a late result or a new baseline)."""
+    if not drafts:
+        return []
+    seen: dict[tuple[str, str, str], set[int]] = {}
+    existing = Alert.objects.filter(source=AlertSource.TREND, series_key__in={d.series_key for d in drafts})
+    for key, rule, points in existing.values_list("episode_key", "rule", "points"):
+        side = key.split("|")[2] if key.count("|") >= 3 else ""
+        seen.setdefault((key.split("|")[0], rule, side), set()).update(p["test_id"] for p in points)
+    fresh = []
+    for draft in drafts:
+        alerted = seen.setdefault((draft.series_key, draft.rule, draft.episode_key.split("|")[2]), set())
+        tests = {p["test_id"] for p in draft.points}
+        if not tests & alerted:
+            fresh.append(draft)
+            alerted |= tests
+    return fresh
 
 
 def _parse_key(series_key: str) -> tuple[str, str]:
@@ -104,6 +126,8 @@ def _baselines(frame: pd.DataFrame, summary: ScanSummary) -> pd.DataFrame:
         head = frame[frame["series_id"].isin(ready)].groupby("series_id").head(MINIMUM_BASELINE_POINTS)
         stats = head.groupby("series_id")["value"].agg(["mean", "std"])
         usable = stats[stats["std"] > 0]
+        # a series whose first results are all equal has no spread to chart against
+        summary.series_without_baseline = sorted({*summary.series_without_baseline, *stats.index[~(stats["std"] > 0)]})
         actor = scheduler_actor()
         with transaction.atomic():
             for key, row in usable.iterrows():
@@ -129,6 +153,11 @@ def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:
     for episode in episodes.itertuples(index=False):
         series = by_series[episode.series_id]
         involved = series.iloc[list(episode.points)]
+        if episode.rule == "out_of_trend":
+            # an out-of-specification result is already an OOS investigation, not also out-of-trend
+            involved = involved[involved["verdict"] != Verdict.OUT_OF_SPECIFICATION]
+            if involved.empty:
+                continue
         rule = RULES[episode.rule]
         first_test = int(involved["test_id"].iloc[0])
         kind, method_code = _parse_key(episode.series_id)

@@ -17,7 +17,7 @@ START = dt.datetime(2026, 1, 1, 8, 0, tzinfo=dt.timezone.utc)
 
 
 def accepted_series(lot: Lot, values: Sequence[float], *, kind: str = SampleKind.QC_CHECK, method_code: str = "av",
-                    start: dt.datetime = START, first_index: int = 0) -> list:
+                    start: dt.datetime = START, first_index: int = 0, verdict: str = "pass") -> list:
     """One accepted test per value on ``lot``, received an hour apart from ``start``."""
     line = SpecificationLineFactory(method_code=method_code, maximum="1000")
     tests = []
@@ -27,6 +27,6 @@ def accepted_series(lot: Lot, values: Sequence[float], *, kind: str = SampleKind
         sample = SampleFactory(lot=lot, kind=kind, label=f"{lot.code}-{kind}-{method_code}-{index}", received_at=received, state="testing_complete")
         tests.append(TestFactory(
             sample=sample, specification_line=line, method_code=method_code, state=TestState.ACCEPTED,
-            value=float(value), reported=f"{value:.2f}", unit="mg KOH/g", verdict="pass", reviewed_at=timezone.now(),
+            value=float(value), reported=f"{value:.2f}", unit="mg KOH/g", verdict=verdict, reviewed_at=timezone.now(),
         ))
     return tests

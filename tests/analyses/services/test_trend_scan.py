@@ -1,11 +1,14 @@
 """The periodic trend scan: baselines, rules per series kind, one alert per episode."""
+import datetime as dt
+
 import numpy as np
 import pytest
 
 from analyses.errors import InvalidInput, NotAllowed
 from analyses.models import Alert, AlertSeverity, AuditEntry, BaselineSource, ControlBaseline, SampleKind
 from analyses.services.trend_scan import control_baseline_set, trend_scan
-from tests.analyses.series_setup import accepted_series
+from analyses.selectors.trend_series import trend_series_frame
+from tests.analyses.series_setup import START, accepted_series
 from tests.factories import LotFactory
 
 MEAN, SD = 0.30, 0.01
@@ -117,3 +120,65 @@ def test_ewma_smoothing_and_width_come_from_settings(db, users, settings):
     settings.TREND_EWMA_WIDTH = 3.0
     trend_scan()
     assert Alert.objects.filter(rule="ewma").exists()
+
+
+def trend_then(lot, last: float, verdict: str):
+    """Ten routine results rising steadily by 0.2 s, then one more far off that line."""
+    values = [MEAN + 0.2 * SD * i for i in range(10)]
+    accepted_series(lot, values, kind=SampleKind.ROUTINE)
+    accepted_series(lot, [last], kind=SampleKind.ROUTINE, first_index=10, verdict=verdict)
+
+
+def test_a_result_far_off_its_trend_but_in_specification_is_out_of_trend(db, users):
+    lot = LotFactory(code="RSO-OOT-1")
+    control_baseline_set(users["qa"], series_key=f"production:{lot.product_id}:av", mean=MEAN, sd=SD)
+    # project's own rule (common practice, no source): outside the 99 % prediction interval of the last 10
+    trend_then(lot, MEAN - 1.0 * SD, verdict="pass")
+    trend_scan()
+    assert Alert.objects.filter(rule="out_of_trend").count() == 1
+
+
+def test_an_out_of_specification_result_is_not_also_out_of_trend(db, users):
+    lot = LotFactory(code="RSO-OOT-2")
+    control_baseline_set(users["qa"], series_key=f"production:{lot.product_id}:av", mean=MEAN, sd=SD)
+    trend_then(lot, MEAN - 1.0 * SD, verdict="oos")
+    trend_scan()
+    assert not Alert.objects.filter(rule="out_of_trend").exists()
+
+
+def test_r_4s_compares_qc_results_of_the_same_run_only(qc_lot, users):
+    # Westgard R-4s: within a run, one point above +2 s and one below -2 s (references.md, found)
+    control_baseline_set(users["qa"], series_key=f"qc:{qc_lot.pk}:av", mean=MEAN, sd=SD)
+    day = dt.datetime(2026, 3, 2, 8, tzinfo=dt.timezone.utc)
+    accepted_series(qc_lot, [MEAN + 2.5 * SD], start=day)
+    accepted_series(qc_lot, [MEAN - 2.5 * SD], start=day + dt.timedelta(days=1), first_index=1)  # next day's run
+    trend_scan()
+    assert not Alert.objects.filter(rule="westgard_r_4s").exists()
+    accepted_series(qc_lot, [MEAN + 2.5 * SD, MEAN - 2.5 * SD], start=day + dt.timedelta(days=7), first_index=2)  # one run
+    trend_scan()
+    assert Alert.objects.filter(rule="westgard_r_4s").count() == 1
+
+
+def test_a_late_result_that_shifts_an_episode_raises_no_second_alert(qc_lot, users):
+    control_baseline_set(users["qa"], series_key=f"qc:{qc_lot.pk}:av", mean=MEAN, sd=SD)
+    # Westgard 10-x: ten consecutive results on one side of the mean (references.md, found)
+    accepted_series(qc_lot, [MEAN + 0.5 * SD] * 10, start=START + dt.timedelta(hours=1))
+    trend_scan()
+    assert Alert.objects.filter(rule="westgard_10_x").count() == 1
+    # a result received earlier but accepted only now lengthens the run at its start
+    accepted_series(qc_lot, [MEAN + 0.5 * SD], start=START, first_index=99)
+    trend_scan()
+    assert Alert.objects.filter(rule="westgard_10_x").count() == 1
+
+
+def test_a_series_whose_first_results_are_all_equal_is_reported_without_baseline(qc_lot):
+    accepted_series(qc_lot, [MEAN] * 21)
+    assert trend_scan().series_without_baseline == [f"qc:{qc_lot.pk}:av"]
+
+
+def test_a_named_series_is_read_alone(db, qc_lot):
+    other = LotFactory(code="REF-OIL-2")
+    accepted_series(qc_lot, [MEAN] * 3)
+    accepted_series(other, [MEAN] * 4)
+    frame = trend_series_frame([f"qc:{other.pk}:av", "nonsense", "qc:999999999999999999999:av"])
+    assert set(frame["series_id"]) == {f"qc:{other.pk}:av"} and len(frame) == 4
