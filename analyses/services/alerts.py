@@ -20,6 +20,7 @@ logger = logging.getLogger(__name__)
 
 ALERT_FIELDS = ("source", "rule", "severity", "series_key", "episode_key", "message", "method_code")
 NOTIFY_TASK = "analyses.tasks.alert_notify_task"
+KEY_BATCH = 500  # episode keys per look-up (SQLite allows only so many query parameters)
 
 
 @dataclass(frozen=True)
@@ -43,19 +44,25 @@ def alerts_raise(drafts: Sequence[AlertDraft], actor: Actor = None) -> list[Aler
     if not drafts:
         return []
     actor = actor or scheduler_actor()
-    keys = {draft.episode_key for draft in drafts}
-    known = set(Alert.objects.filter(episode_key__in=keys).values_list("episode_key", flat=True))
-    now = timezone.now()
-    fresh: dict[str, Alert] = {}
+    unique: dict[str, AlertDraft] = {}
     for draft in drafts:
-        if draft.episode_key in known or draft.episode_key in fresh:
-            continue
-        fresh[draft.episode_key] = Alert(raised_at=now, **draft.__dict__)
+        unique.setdefault(draft.episode_key, draft)
+    keys = list(unique)
+    known: set[str] = set()
+    for start in range(0, len(keys), KEY_BATCH):
+        known.update(Alert.objects.filter(episode_key__in=keys[start:start + KEY_BATCH]).values_list("episode_key", flat=True))
+    now = timezone.now()
+    created = []
     with transaction.atomic():
-        created = Alert.objects.bulk_create(list(fresh.values()))  # PostgreSQL and SQLite return ids
-        for alert in created:
-            audit_append(actor, AuditAction.CREATE, alert, {k: [None, v] for k, v in snapshot(alert, ALERT_FIELDS).items()}, lot_ref=alert.lot_id)
-            enqueue_on_commit(NOTIFY_TASK, alert.pk)
+        for key in keys:
+            if key in known:
+                continue
+            # get_or_create, not insert: a scan running at the same time may have raised it first
+            alert, made = Alert.objects.get_or_create(episode_key=key, defaults={"raised_at": now, **unique[key].__dict__})
+            if made:
+                audit_append(actor, AuditAction.CREATE, alert, {k: [None, v] for k, v in snapshot(alert, ALERT_FIELDS).items()}, lot_ref=alert.lot_id)
+                enqueue_on_commit(NOTIFY_TASK, alert.pk)
+                created.append(alert)
     return created
 
 

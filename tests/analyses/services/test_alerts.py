@@ -29,3 +29,10 @@ def test_qa_acknowledges_with_a_comment_once(users):
     assert (done.state, done.acknowledged_by, done.acknowledgement) == (AlertState.ACKNOWLEDGED, users["qa"], "new Wijs solution lot; rerun QC")
     with pytest.raises(Conflict):
         alert_acknowledge(users["qa"], alert, comment="again")
+
+
+def test_many_drafts_at_once_are_looked_up_in_batches(db):
+    # more keys than SQLite accepts as parameters of one query
+    drafts = [draft(f"qc:1:av|nelson_1|+|test{i}") for i in range(1200)]
+    assert len(alerts_raise(drafts)) == 1200
+    assert alerts_raise(drafts) == []
