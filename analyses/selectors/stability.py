@@ -10,6 +10,7 @@ from analyses.charts.stability_plot import stability_plot_data
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import PullPoint, StabilityStudy, Test, TestState
 from analyses.stability.shelf_life import shelf_life_estimate
+from plugins.registry import get_registry
 
 RESULT_COLUMNS = ["test_id", "method_code", "value", "condition_id", "temperature_c", "light", "lot", "months", "pull_id"]
 
@@ -58,4 +59,5 @@ def study_plot(study_id: int, method_code: str, condition_id: int) -> dict[str, 
     return stability_plot_data(
         rows["months"].tolist(), rows["value"].tolist(), result, lots=rows["lot"].tolist(),
         title=f"{study.code}: {method_code} at {condition}",
+        unit=get_registry().get(method_code).result_unit if method_code in get_registry() else "",
     )

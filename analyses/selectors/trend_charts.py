@@ -12,6 +12,7 @@ from analyses.selectors.trend_series import trend_series_frame
 from analyses.trends.ewma import ewma_chart
 from analyses.trends.run_rules import nelson_evaluate
 from analyses.trends.westgard import MINIMUM_BASELINE_POINTS, baseline_establish, westgard_evaluate
+from plugins.registry import get_registry
 
 CHART_KINDS = ("shewhart", "ewma")
 
@@ -55,13 +56,15 @@ def series_chart(series_key: str, chart: str = "shewhart") -> dict[str, Any]:
             )
         established = baseline_establish(values[:MINIMUM_BASELINE_POINTS])
         mean, sd = established.mean, established.sd
-    title = f"{series_key} ({frame['method_code'].iloc[0]})"
+    method_code = frame["method_code"].iloc[0]
+    unit = get_registry().get(method_code).result_unit if method_code in get_registry() else ""
+    title = f"{series_key} ({method_code})"
     if chart == "ewma":
         chart_data = ewma_chart(values, mean, sd, settings.TREND_EWMA_SMOOTHING, settings.TREND_EWMA_WIDTH)
-        data = ewma_chart_data(chart_data, labels=labels, title=f"EWMA {title}")
+        data = ewma_chart_data(chart_data, labels=labels, title=f"EWMA {title}", unit=unit)
     else:
         rules = westgard_evaluate if frame["kind"].iloc[0] == SeriesKind.QC_CHECK else nelson_evaluate
-        data = shewhart_chart_data(values, mean, sd, rules(values, mean, sd), labels=labels, title=title)
+        data = shewhart_chart_data(values, mean, sd, rules(values, mean, sd), labels=labels, title=title, unit=unit)
     data["series_key"] = series_key
     data["test_ids"] = [int(t) for t in frame["test_id"]]
     return data

@@ -23,6 +23,8 @@ class Command(BaseCommand):
             name, sep, value = assignment.partition("=")
             if not sep or not name.strip():
                 raise CommandError(f"{assignment}: expected name=value")
+            if name.strip() in inputs:
+                raise CommandError(f"{name.strip()}: given twice")
             inputs[name.strip()] = value.strip()
         try:
             result = calculation_run(options["code"], inputs)

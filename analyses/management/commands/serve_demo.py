@@ -2,6 +2,7 @@
 real Celery worker and beat scheduler beside it (filesystem broker in var/ unless REDIS_URL is set)."""
 from __future__ import annotations
 
+import signal
 import subprocess
 import sys
 
@@ -28,6 +29,8 @@ class Command(BaseCommand):
             base = [sys.executable, "-m", "celery", "-A", "labcore"]
             workers.append(subprocess.Popen(base + ["worker", "--pool=solo", "--loglevel=INFO"]))
             workers.append(subprocess.Popen(base + ["beat", "--loglevel=INFO", "--schedule", settings.CELERY_BEAT_SCHEDULE_FILENAME]))
+        # `kill` (SIGTERM) must stop the worker and beat too, as Ctrl-C does
+        signal.signal(signal.SIGTERM, lambda signum, frame: sys.exit(0))
         host = options["addrport"]
         self.stdout.write(f"API: http://{host}/api/   docs: http://{host}/api/docs/   (Ctrl-C stops everything)")
         try:

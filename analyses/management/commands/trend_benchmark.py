@@ -218,12 +218,14 @@ class Command(BaseCommand):
         parser.add_argument("--series", type=int, default=500, help="number of series (default 500)")
         parser.add_argument("--points", type=int, default=2000, help="results per series (default 2000)")
         parser.add_argument(
-            "--loop-series", type=int, default=20, help="series the reference loop runs on (default 20; scaled linearly)"
+            "--loop-series", type=int, default=None,
+            help="series the reference loop runs on (default: all, so both run over the same data; fewer are scaled linearly)",
         )
         parser.add_argument("--seed", type=int, default=SEED)
 
     def handle(self, *args, **options):
-        series, points, loop_count = options["series"], options["points"], options["loop_series"]
+        series, points = options["series"], options["points"]
+        loop_count = series if options["loop_series"] is None else options["loop_series"]
         if series < 1 or points < MINIMUM_BASELINE_POINTS or loop_count < 1:
             raise CommandError(f"need --series >= 1, --points >= {MINIMUM_BASELINE_POINTS}, --loop-series >= 1")
         loop_count = min(loop_count, series)

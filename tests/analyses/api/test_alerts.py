@@ -76,6 +76,7 @@ def test_series_and_their_control_charts(clients, qc_key):
     assert chart["centre"] == pytest.approx(MEAN)
     assert chart["limits"] == {"lower": pytest.approx(MEAN - 3 * SD), "upper": pytest.approx(MEAN + 3 * SD)}
     assert chart["flagged"] == [10]
+    assert chart["unit"] == "mg KOH/g"  # the av plugin's result unit
     ewma = clients["qa"].get(f"/api/trends/series/{qc_key}/chart/", {"chart": "ewma"}).json()
     assert ewma["smoothing"] == 0.2 and len(ewma["points"]) == 11
     png = clients["qa"].get(f"/api/trends/series/{qc_key}/chart.png")

@@ -91,6 +91,7 @@ def test_the_plot_comes_as_data_png_and_svg(clients, study_with_results):
     query = {"method": "pv", "condition": condition}
     data = clients["analyst"].get(f"/api/stability-studies/{study_with_results}/plot/", query).json()
     assert data["limit"] == 10 and len(data["points"]) == 4 and data["lines"][0]["bound"]
+    assert data["unit"] == "meq O2/kg"
     png = clients["analyst"].get(f"/api/stability-studies/{study_with_results}/plot.png", query)
     assert png.status_code == 200 and png["Content-Type"] == "image/png"
     assert png.content.startswith(PNG_SIGNATURE)

@@ -68,3 +68,8 @@ def test_calc_unknown_method_exits_non_zero():
 def test_calc_rejects_an_argument_without_equals_sign():
     with pytest.raises(CommandError, match="expected name=value"):
         call_command("calc", "sv", "sample_mass")
+
+
+def test_calc_refuses_an_input_given_twice():
+    with pytest.raises(CommandError, match="sample_mass: given twice"):
+        call_command("calc", "pv", "sample_mass=5", "sample_mass=6", "sample_volume=1", "titrant_concentration=0.01")

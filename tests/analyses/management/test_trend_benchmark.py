@@ -32,6 +32,11 @@ def test_prints_the_figures_and_the_check():
     assert "identical on the 2-series subset" in text
 
 
+def test_by_default_the_loop_runs_over_the_same_data_as_the_scan():
+    text = run(series=2, points=120)
+    assert "reference loop on 2 series" in text and "(measured)" in text
+
+
 def test_loop_on_every_series_is_measured_not_scaled():
     text = run(series=2, points=120, loop_series=5)
     assert "(measured)" in text and "scaled linearly" not in text
