@@ -154,12 +154,21 @@ def _result_fields(actor: Actor, test: Test, inputs: Any, outcome: MethodResult,
     }
 
 
-def _replay(first: Result, test: Test, inputs: Any, key: str) -> Result:
-    """The result a repeated key returns; Conflict when the key was used for another request."""
+def _replay(
+    first: Result, test: Test, inputs: Any, key: str, *, supersedes: int | None = None, reason: str = ""
+) -> Result:
+    """The result a repeated key returns; Conflict when the key was used for another request:
+    another test, another result corrected (``supersedes``; None for a new entry), other
+    inputs or another correction reason."""
     if first.test_id != test.pk:
         raise Conflict(f"idempotency key {key!r} was already used for test {first.test_id}")
+    if first.supersedes_id != supersedes:
+        used_for = f"a correction of result {first.supersedes_id}" if first.supersedes_id else f"result {first.pk}"
+        raise Conflict(f"idempotency key {key!r} was already used for {used_for}")
     if not isinstance(inputs, Mapping) or first.inputs != json_safe(dict(inputs)):
         raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with other inputs")
+    if first.correction_reason != reason:
+        raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with another reason")
     return first
 
 
@@ -172,7 +181,7 @@ def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Res
         twin = Result.objects.filter(entered_by=actor, idempotency_key=key).first() if key else None
         if twin is None:
             raise Conflict(f"test {test.pk}: replicate {result.replicate} was entered at the same time by someone else") from None
-        return _replay(twin, test, result.inputs, key)
+        return _replay(twin, test, result.inputs, key, supersedes=result.supersedes_id, reason=result.correction_reason)
     return result
 
 
@@ -307,9 +316,7 @@ def result_correct(
         if key:
             first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
             if first is not None:
-                if first.supersedes_id != pk:
-                    raise Conflict(f"idempotency key {key!r} was already used for result {first.pk}")
-                return first
+                return _replay(first, test, inputs, key, supersedes=pk, reason=reason)
         old = fetch(Result, pk, lock=True)
         if old.status != ResultStatus.CURRENT:
             raise Conflict(f"result {old.pk} is {old.status}; only a current result can be corrected")
@@ -330,10 +337,15 @@ def result_correct(
         values = others + [outcome.value]
         complete = len(values) == test.replicates
         aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
-        correction = Result.objects.create(
+        correction = Result(
             replicate=old.replicate, version=old.version + 1, supersedes=old, correction_reason=reason,
             idempotency_key=key, **_result_fields(actor, test, inputs, outcome, aggregate),
         )
+        inserted = _insert(correction, actor=actor, key=key, test=test)
+        if inserted is not correction:
+            # a concurrent twin of this very request won; undo the superseding above
+            transaction.set_rollback(True)
+            return inserted
         audit_append(
             actor, AuditAction.CREATE, correction, created(correction, RESULT_FIELDS),
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,

@@ -171,6 +171,23 @@ def test_a_correction_is_a_new_version_and_the_old_one_stays(users, av):
     ]
 
 
+def test_a_correction_key_replays_only_the_same_correction(users, av):
+    analyst = users["analyst"]
+    first = result_record(analyst, av, inputs=AV_LOW)
+    second = result_record(analyst, av, inputs=AV_LOW_TWIN)
+    reason = "titre misread: 1.33 not 1.30"
+    corrected = result_correct(analyst, first, inputs=AV_LOW_TWIN, reason=reason, idempotency_key="fix-1")
+    before = _written()
+    assert result_correct(analyst, first, inputs=dict(AV_LOW_TWIN), reason=reason, idempotency_key="fix-1").pk == corrected.pk
+    with pytest.raises(Conflict, match="other inputs"):
+        result_correct(analyst, first, inputs=AV_LOW, reason=reason, idempotency_key="fix-1")
+    with pytest.raises(Conflict, match="another reason"):
+        result_correct(analyst, first, inputs=AV_LOW_TWIN, reason="a different story", idempotency_key="fix-1")
+    with pytest.raises(Conflict, match="already used"):
+        result_correct(analyst, second, inputs=AV_LOW_TWIN, reason=reason, idempotency_key="fix-1")
+    assert _written() == before
+
+
 def test_no_correction_after_acceptance_and_never_by_qa(users, av):
     first = result_record(users["analyst"], av, inputs=AV_LOW)
     with pytest.raises(NotAllowed):
