@@ -15,7 +15,7 @@ from analyses.selectors.stability import study_results
 from analyses.services.alerts import AlertDraft
 from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
 from analyses.stability.kinetics import kinetics_fit
-from analyses.stability.shelf_life import shelf_life_estimate
+from analyses.stability.shelf_life import EXTRAPOLATION_FACTOR, EXTRAPOLATION_MONTHS, shelf_life_estimate
 
 def _limit(attribute) -> tuple[float, str]:
     return (attribute.maximum, "upper") if attribute.maximum is not None else (attribute.minimum, "lower")
@@ -61,7 +61,9 @@ def condition_evaluation(rows: pd.DataFrame, limit: float, side: str) -> dict[st
     return out
 
 
-def arrhenius_evaluation(per_condition: list[dict[str, Any]], storage_c: float, limit: float, side: str) -> dict[str, Any] | None:
+def arrhenius_evaluation(
+    per_condition: list[dict[str, Any]], storage_c: float, limit: float, side: str, last_months: float = 0.0
+) -> dict[str, Any] | None:
     """Arrhenius from the zero-order rates of the dark conditions (light adds another
     pathway); None with fewer than two temperatures whose rate moves toward the limit."""
     sign = 1.0 if side == "upper" else -1.0
@@ -88,6 +90,9 @@ def arrhenius_evaluation(per_condition: list[dict[str, Any]], storage_c: float, 
         predicted = arrhenius_shelf_life(fit, initial, limit)
         out["shelf_life_months"] = predicted.time
         out["shelf_life_interval_months"] = None if predicted.lower is None else [predicted.lower, predicted.upper]
+        # ICH Q1E's limit on extrapolating in time applies to this prediction too
+        cap = min(EXTRAPOLATION_FACTOR * last_months, last_months + EXTRAPOLATION_MONTHS)
+        out["time_extrapolated"] = predicted.time > cap
     return out
 
 
@@ -117,7 +122,8 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
             entry = {"condition_id": condition.pk, "temperature_c": condition.temperature_c, "light": condition.light}
             entry |= condition_evaluation(subset, limit, side) if len(subset) else {"n": 0}
             per_condition.append(entry)
-        arrhenius = arrhenius_evaluation(per_condition, study.storage_temperature_c, limit, side)
+        last_months = float(rows["months"].max()) if len(rows) else 0.0
+        arrhenius = arrhenius_evaluation(per_condition, study.storage_temperature_c, limit, side, last_months)
         predicted, supported, basis = _predicted_shelf_life(per_condition, arrhenius, study.storage_temperature_c)
         attributes_out.append({
             "method_code": attribute.method_code, "limit": limit, "limit_side": side, "conditions": per_condition,
@@ -178,5 +184,6 @@ def _predicted_shelf_life(
         return governing["estimate_months"], supported, f"ICH Q1E regression at the storage condition{note}"
     if arrhenius and arrhenius.get("shelf_life_months") is not None:
         note = ", extrapolated beyond the studied temperatures" if arrhenius["extrapolated"] else ""
+        note += ", extrapolated in time beyond what ICH Q1E allows" if arrhenius.get("time_extrapolated") else ""
         return arrhenius["shelf_life_months"], None, f"Arrhenius prediction at {storage_c:g} °C{note}"
     return None, None, "not enough data"

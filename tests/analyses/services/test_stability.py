@@ -228,3 +228,11 @@ def test_a_young_study_whose_trend_clears_the_claim_raises_no_shelf_life_alert(u
     assert outcome.evaluation["supported_shelf_life_months"] == 6  # min(2 x 3, 3 + 12), ICH Q1E (references.md: memory)
     assert outcome.evaluation["predicted_shelf_life_months"] > 12
     assert not Alert.objects.filter(rule="shelf_life_short").exists()
+
+
+def test_an_arrhenius_shelf_life_far_beyond_the_data_is_flagged_as_a_time_extrapolation(evaluated_study):
+    _, outcome = evaluated_study
+    arrhenius = outcome.evaluation["attributes"][0]["arrhenius"]
+    # (10 - 1.0) / 0.5 = 18 months from 6 months of data: beyond min(2 x 6, 6 + 12) = 12 (ICH Q1E, memory)
+    assert arrhenius["shelf_life_months"] == pytest.approx((10 - PV0) / K25, rel=0.1)
+    assert arrhenius["time_extrapolated"] is True
