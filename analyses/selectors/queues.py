@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import datetime as dt
 
-from django.db.models import BooleanField, ExpressionWrapper, Q, QuerySet
+from django.db.models import BooleanField, Exists, ExpressionWrapper, OuterRef, Q, QuerySet
 from django.utils import timezone
 
-from analyses.models import OPEN_TEST_STATES, WORKABLE_TEST_STATES, Test
+from analyses.models import OPEN_TEST_STATES, WORKABLE_TEST_STATES, Result, ResultStatus, Test, TestState
 
 # everything a queue row shows, in one query
 TEST_RELATIONS = ("sample__lot__product", "assignee", "specification_line", "retest_of")
@@ -39,9 +39,11 @@ def my_queue(user, *, today: dt.date | None = None) -> QuerySet[Test]:
 def review_queue(*, exclude_entered_by=None, today: dt.date | None = None) -> QuerySet[Test]:
     """Tests with all results entered, awaiting review; with ``exclude_entered_by`` the ones
     that user may review under the four-eyes rule."""
-    queryset = tests_with_overdue(today).filter(state="result_entered")
+    queryset = tests_with_overdue(today).filter(state=TestState.RESULT_ENTERED)
     if exclude_entered_by is not None:
-        queryset = queryset.exclude(results__status="current", results__entered_by=exclude_entered_by)
+        # one row must be both current and theirs (exclude() across the relation would not say that)
+        mine = Result.objects.filter(test=OuterRef("pk"), status=ResultStatus.CURRENT, entered_by=exclude_entered_by)
+        queryset = queryset.exclude(Exists(mine))
     return queryset.order_by("priority", "due_on", "id")
 
 

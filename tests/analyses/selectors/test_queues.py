@@ -8,6 +8,8 @@ import pytest
 from analyses.models import Priority, TestState
 from analyses.selectors.queues import my_queue, review_queue, work_queue
 from analyses.selectors import queues
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.review import test_send_back
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, enter_duplicates
 from tests.factories import SampleFactory, SpecificationLineFactory, TestFactory
 
@@ -44,6 +46,18 @@ def test_my_queue_holds_only_my_workable_tests(users, assigned_tests):
     # four-eyes: the analyst does not see their own test for review; analyst2 does
     assert list(review_queue(exclude_entered_by=analyst)) == []
     assert [t.pk for t in review_queue(exclude_entered_by=analyst2)] == [av.pk]
+
+
+def test_a_test_sent_back_and_re_entered_by_another_analyst_is_in_the_first_ones_review_queue(users, assigned_tests):
+    analyst, analyst2 = users["analyst"], users["analyst2"]
+    av = next(t for t in assigned_tests if t.method_code == "av")
+    enter_duplicates(analyst, av, AV_LOW, AV_LOW_TWIN)
+    test_send_back(users["manager"], av, reason="burette not rinsed")  # analyst's results: invalidated
+    test_assign_bulk(users["manager"], [av], assignee=analyst2)
+    enter_duplicates(analyst2, av, AV_LOW, AV_LOW_TWIN)
+    # four-eyes looks at the current results only (analyst2's), so analyst may review
+    assert [t.pk for t in review_queue(exclude_entered_by=analyst)] == [av.pk]
+    assert list(review_queue(exclude_entered_by=analyst2)) == []
 
 
 def test_queues_take_a_fixed_number_of_queries(users, django_assert_num_queries):
