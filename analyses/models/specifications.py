@@ -71,8 +71,8 @@ class Specification(models.Model):
 
 
 class SpecificationLine(models.Model):
-    """One method with its limits. Limits are Decimal strings exactly as written ("0.6",
-    "189"): the rounding method needs the places the limit was written to."""
+    """One method with its limits. Limits are Decimal strings as written, in plain notation
+    ("0.6", "189", "0.0000001"): the rounding method needs the places the limit was written to."""
 
     specification = models.ForeignKey(Specification, on_delete=models.CASCADE, related_name="lines")
     position = models.PositiveIntegerField(default=0)

@@ -3,7 +3,8 @@
 A line is given as a mapping::
 
     {"method": "av",                 # plugin code
-     "minimum": "0.1", "maximum": "0.6",   # Decimal strings (or numbers) in the plugin's unit
+     "minimum": "0.1", "maximum": "0.6",   # Decimal strings (or numbers) in the plugin's unit,
+                                     # kept as written, in plain notation
      "codex_oil_type": "refined",    # instead of limits: the plugin's Codex default
      "release_critical": True,       # default True
      "comparison": "absolute",       # or "rounding" (ASTM E29); default absolute
@@ -37,8 +38,15 @@ LINE_FIELDS = (
 LINE_KEYS = {"method", "minimum", "maximum", "codex_oil_type", "release_critical", "comparison", "turnaround_days"}
 
 
+# what a SpecificationLine keeps of a limit, written out
+LIMIT_MAX_CHARS = SpecificationLine._meta.get_field("maximum").max_length
+
+
 def _limit(raw: Any, field: str) -> str:
-    """A limit as a Decimal string, keeping the places it was written with."""
+    """A limit as a Decimal string in plain notation, keeping the places it was written with
+    ("0.60" stays "0.60", "0.0000001" stays so, not "1E-7"; "1E+1" is written out "10").
+    InvalidInput on ``field`` when it is not a finite number or does not fit in
+    ``LIMIT_MAX_CHARS`` characters written out."""
     if raw is None or raw == "":
         return ""
     if isinstance(raw, bool):
@@ -50,7 +58,14 @@ def _limit(raw: Any, field: str) -> str:
         raise InvalidInput.for_field(field, f"must be a number, got {raw!r}") from None
     if not value.is_finite():
         raise InvalidInput.for_field(field, "must be a finite number")
-    return str(value)
+    too_long = f"must be at most {LIMIT_MAX_CHARS} characters written out in plain notation"
+    # checked before writing it out: "1E-999999999" would be a billion characters
+    if value.adjusted() >= LIMIT_MAX_CHARS or value.as_tuple().exponent <= -LIMIT_MAX_CHARS:
+        raise InvalidInput.for_field(field, too_long)
+    plain = format(value.copy_abs() if value.is_zero() else value, "f")
+    if len(plain) > LIMIT_MAX_CHARS:
+        raise InvalidInput.for_field(field, too_long)
+    return plain
 
 
 def _clean_line(raw: Any, index: int) -> dict[str, Any]:

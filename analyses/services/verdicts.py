@@ -4,8 +4,10 @@ The specification line names the method (``Comparison``):
 
 absolute  the unrounded computed value is compared with the limit as written; any excess,
           however small, is out of specification.
-rounding  the value is first rounded (half to even, ASTM E29) to the places the limit is
-          written to ("0.6" -> 1 place, "189" -> units), then compared. Each limit uses its
+rounding  the value is first rounded (half to even, ASTM E29) to "the last right-hand
+          place used in expressing the limit" (E29's wording, from memory) - the places
+          the limit is written to ("0.6" -> 1 place, "189" -> units, "10" -> units; limits
+          are stored in plain notation, so there is no "1E+1"), then compared. Each limit uses its
           own places. The rounding is done once, from the unrounded value: where the
           plugin's reporting precision is at least as fine as the limit's this is the
           reported value rounded to the limit's places, and it avoids the double rounding
@@ -20,7 +22,7 @@ from plugins.contract import round_half_even
 
 
 def limit_places(limit: Decimal) -> int:
-    """Decimal places the limit is written to: "0.60" -> 2, "10" -> 0."""
+    """Decimal places the limit is written to, in plain notation: "0.60" -> 2, "10" -> 0."""
     exponent = limit.as_tuple().exponent
     return max(0, -exponent) if isinstance(exponent, int) else 0
 

@@ -32,7 +32,10 @@ class SpecificationSerializer(serializers.ModelSerializer):
         read_only_fields = fields
 
 
-LIMIT_HELP = 'A decimal number written as the limit should read ("0.6", "189"); its places matter for the rounding comparison'
+LIMIT_HELP = (
+    'A decimal number written as the limit should read ("0.6", "189"); its places matter for the rounding '
+    'comparison. Kept in plain notation ("1E-7" is stored as "0.0000001"), at most 40 characters.'
+)
 
 
 class SpecificationLineInputSerializer(StrictSerializer):

@@ -93,6 +93,11 @@ CASES = [
         "specification: limit not a number", "manager",
         lambda lab: _line(lab, {"method": "av", "maximum": "0.6"}, {"method": "pv", "maximum": "ten"}), "lines.1.maximum",
     ),
+    Bad(
+        "specification: limit longer than a line keeps", "manager",
+        lambda lab: _line(lab, {"method": "av", "maximum": "0." + "1" * 40}), "lines.0.maximum",
+    ),
+    Bad("specification: limit with a vast exponent", "manager", lambda lab: _line(lab, {"method": "av", "maximum": "1E-999999999"}), "lines.0.maximum"),
     Bad("specification: minimum above maximum", "manager", lambda lab: _line(lab, {"method": "av", "minimum": "2", "maximum": "1"}), "lines.0.maximum"),
     Bad("specification: no limit at all", "manager", lambda lab: _line(lab, {"method": "av"}), "lines.0.minimum"),
     Bad(

@@ -44,6 +44,11 @@ def test_lines_adopt_the_plugins_codex_defaults(users, product):
         ({"method": "av"}, "lines.0.minimum"),
         ({"method": "av", "minimum": "0.6", "maximum": "0.1"}, "lines.0.maximum"),
         ({"method": "av", "maximum": "abc"}, "lines.0.maximum"),
+        ({"method": "av", "maximum": "0." + "1" * 40}, "lines.0.maximum"),  # 42 characters: more than a line keeps
+        ({"method": "av", "maximum": "1" * 41}, "lines.0.maximum"),
+        ({"method": "av", "maximum": "1E-999999999"}, "lines.0.maximum"),  # written out: a billion characters
+        ({"method": "av", "minimum": "1E+999999999"}, "lines.0.minimum"),
+        ({"method": "av", "maximum": "1E-39"}, "lines.0.maximum"),  # 41 characters written out
         ({"method": "av", "codex_oil_type": "soybean"}, "lines.0.codex_oil_type"),  # no AV default for soybean
         ({"method": "av", "codex_oil_type": "refined", "maximum": "1"}, "lines.0.codex_oil_type"),
         ({"method": "av", "maximum": "1", "comparison": "nearest"}, "lines.0.comparison"),

@@ -22,11 +22,30 @@ from analyses.services.verdicts import limit_places, verdict_for
 PASS, OOS = Verdict.PASS, Verdict.OUT_OF_SPECIFICATION
 
 
+# ASTM E29 rounding method: round to "the last right-hand place used in expressing the limit"
+# (the method is found, shared/references.md; this wording is from memory). Limits are stored
+# in plain notation, so "10" is written to units.
 @pytest.mark.parametrize(
-    ("limit", "places"), [("0.6", 1), ("0.60", 2), ("189", 0), ("10.0", 1), ("1E+1", 0)]
+    ("limit", "places"), [("0.6", 1), ("0.60", 2), ("189", 0), ("10.0", 1), ("10", 0), ("0.0000001", 7)]
 )
 def test_limit_places_are_the_places_the_limit_is_written_to(limit, places):
     assert limit_places(Decimal(limit)) == places
+
+
+@pytest.mark.django_db
+@pytest.mark.parametrize(
+    ("written", "stored", "places"),
+    [("1E+1", "10", 0), ("0.0000001", "0.0000001", 7), ("1E-7", "0.0000001", 7), ("1.50E+2", "150", 0), ("0.60", "0.60", 2)],
+)
+def test_a_limit_is_stored_in_plain_notation_and_rounds_to_its_last_written_place(users, written, stored, places):
+    product = product_create(users["manager"], code="PLN", name="Invented plain-notation oil", oil_type="soybean")
+    draft = specification_create(
+        users["manager"], product, effective_from="2020-01-01",
+        lines=[{"method": "av", "maximum": written, "comparison": "rounding"}],
+    )
+    line = draft.lines.get()
+    assert line.maximum == stored
+    assert limit_places(line.maximum_decimal) == places
 
 
 @pytest.mark.parametrize(
