@@ -51,6 +51,8 @@ RESULT_FIELDS = (
 )
 AGGREGATE_FIELDS = ("value", "reported", "unit", "verdict", "duplicate_check")
 BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key"}
+# the characters a reported value may take, in a result and in its test
+REPORTED_MAX_CHARS = min(Result._meta.get_field("reported").max_length, Test._meta.get_field("reported").max_length)
 
 
 def _plugin(test: Test) -> MethodPlugin:
@@ -75,7 +77,17 @@ def _calculate(plugin: MethodPlugin, test: Test, inputs: Any) -> MethodResult:
         raise InvalidInput.for_field(
             "inputs", f"these inputs give a result in {outcome.unit}, but the specification limit is in {line_unit}"
         )
+    _check_reportable(outcome.reported, outcome.unit)
     return outcome
+
+
+def _check_reportable(reported: Any, unit: str) -> None:
+    """InvalidInput on ``inputs`` when the reported value does not fit where it is kept
+    (e.g. a sample mass of "1e-300" g gives an acid value of some 300 digits)."""
+    if len(str(reported)) > REPORTED_MAX_CHARS:
+        raise InvalidInput.for_field(
+            "inputs", f"these inputs give a result too large to report ({float(reported):.4g} {unit}); check the values and units"
+        )
 
 
 def _clean_key(idempotency_key: str | None) -> str | None:
@@ -113,9 +125,11 @@ def _aggregate(plugin: MethodPlugin, test: Test, values: list[float], unit: str)
     single result, and the plugin's duplicate check (repeatability)."""
     mean = float(np.mean(values))
     check = plugin.duplicate_check(values)
+    reported = str(plugin.report(mean))
+    _check_reportable(reported, unit)
     return {
         "value": mean,
-        "reported": str(plugin.report(mean)),
+        "reported": reported,
         "unit": unit,
         "verdict": line_verdict(mean, test.specification_line),
         "duplicate_check": json_safe(dataclasses.asdict(check)),

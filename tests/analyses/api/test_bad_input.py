@@ -171,6 +171,7 @@ CASES = [
         lambda lab: _record(lab, inputs={k: v for k, v in AV_LOW.items() if k != "titrant_concentration"}),
         "inputs.titrant_concentration",
     ),
+    Bad("result: inputs giving a result too large to report", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_mass": "1e-300"}), "inputs"),
     Bad("result: replicate zero", "analyst", lambda lab: _record(lab, replicate=0), "replicate"),
     Bad("result: replicate beyond the test's", "analyst", lambda lab: _record(lab, replicate=3), "replicate"),
     Bad("result: Idempotency-Key too long", "analyst", lambda lab: _record(lab, headers={"Idempotency-Key": "k" * 81}), "Idempotency-Key"),

@@ -42,6 +42,28 @@ def test_a_plugin_input_error_names_the_input_and_writes_nothing(users, av):
     assert Test.objects.get(pk=av.pk).state == TestState.ASSIGNED
 
 
+@pytest.mark.parametrize(
+    "changed",
+    [{"sample_mass": "1e-300"}, {"sample_volume": "1e300"}],  # AV of some 300 digits (ISO 660 formula)
+    ids=["tiny-mass", "vast-titre"],
+)
+def test_inputs_giving_a_result_too_large_to_report_are_refused(users, av, changed):
+    before = _written()
+    with pytest.raises(InvalidInput) as caught:
+        result_record(users["analyst"], av, inputs={**AV_LOW, **changed})
+    assert list(caught.value.fields) == ["inputs"]
+    assert "too large to report" in caught.value.fields["inputs"][0]
+    with pytest.raises(InvalidInput) as caught:
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": {**AV_LOW, **changed}}])
+    assert list(caught.value.fields) == ["results.0.inputs"]
+    first = result_record(users["analyst"], av, inputs=AV_LOW)
+    before = _written()
+    with pytest.raises(InvalidInput) as caught:
+        result_correct(users["analyst"], first, inputs={**AV_LOW, **changed}, reason="titre misread")
+    assert list(caught.value.fields) == ["inputs"]
+    assert _written() == before
+
+
 def test_only_the_assignee_enters_and_not_before_assignment(users, received_sample, av):
     with pytest.raises(NotAllowed, match="assigned to analyst"):
         result_record(users["analyst2"], av, inputs=AV_LOW)
