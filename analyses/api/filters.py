@@ -30,6 +30,10 @@ def _lots(request):
     return Lot.objects.all()
 
 
+def _samples(request):
+    return Sample.objects.all()
+
+
 def _users(request):
     return get_user_model().objects.all()
 
@@ -81,7 +85,7 @@ class TestFilter(filters.FilterSet):
 
     state = filters.ChoiceFilter(choices=TestState.choices)
     method = filters.CharFilter(field_name="method_code", help_text="Method code, e.g. av")
-    sample = filters.NumberFilter(field_name="sample_id", help_text="Sample id")
+    sample = filters.ModelChoiceFilter(queryset=_samples, help_text="Sample id")
     lot = filters.ModelChoiceFilter(field_name="sample__lot", queryset=_lots)
     product = filters.ModelChoiceFilter(field_name="sample__lot__product", queryset=_products)
     assignee = filters.ModelChoiceFilter(queryset=_users, help_text="User id")

@@ -10,6 +10,8 @@ from analyses.errors import InvalidInput, NotAllowed, NotFound
 from analyses.roles import QA_REVIEWER, permission_label
 
 Actor = AbstractBaseUser | AnonymousUser | None
+# the largest id a database row can have (a 64-bit signed integer); larger ones name no row
+ID_MAX = 2**63 - 1
 ModelT = TypeVar("ModelT", bound=models.Model)
 
 

@@ -8,10 +8,10 @@ from django.contrib.auth import get_user_model
 from django.db import transaction
 from django.utils import timezone
 
-from analyses.errors import Conflict, InvalidInput, NotFound
+from analyses.errors import Conflict, InvalidInput
 from analyses.models import Priority, Sample, Test, TestState
 from analyses.roles import permission_label
-from analyses.services.access import Actor, require_permission
+from analyses.services.access import ID_MAX, Actor, require_permission
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
 
 ASSIGNABLE_STATES = (TestState.PENDING, TestState.ASSIGNED, TestState.SENT_BACK)
@@ -27,7 +27,7 @@ def test_assign_bulk(
 ) -> list[Test]:
     """Assign (or reassign) every test in ``tests`` to ``assignee`` (a user or a user id),
     optionally setting priority and due date. All or nothing: any problem raises and no
-    test changes; errors name the item (``tests.3``). Pending tests become assigned;
+    test changes; errors name the item (``tests.3``; an unknown test is InvalidInput there). Pending tests become assigned;
     assigned and sent-back tests keep their state under the new assignee. Samples still
     "received" move to "in_testing". Needs ``assign_test`` (lab manager, admin); the
     assignee must be an active user who may enter results."""
@@ -44,18 +44,22 @@ def test_assign_bulk(
     if not assignee.is_active or not assignee.has_perm(permission_label("record_result")):
         raise InvalidInput.for_field("assignee", f"{assignee.username} may not enter results")
     ids = [t.pk if isinstance(t, Test) else t for t in tests]
+    for index, pk in enumerate(ids):
+        if isinstance(pk, bool) or not isinstance(pk, int):
+            raise InvalidInput.for_field(f"tests.{index}", "must be a test id")
     if len(set(ids)) != len(ids):
         raise InvalidInput.for_field("tests", "lists a test twice")
+    possible = [pk for pk in ids if 0 < pk <= ID_MAX]  # others name no row (and overflow SQLite's integers)
     with transaction.atomic():
         # Lock order everywhere: lot, then sample, then test (no deadlocks on PostgreSQL).
-        sample_ids = Test.objects.filter(pk__in=ids).values_list("sample_id", flat=True)
+        sample_ids = Test.objects.filter(pk__in=possible).values_list("sample_id", flat=True)
         samples = {s.pk: s for s in Sample.objects.select_for_update().filter(pk__in=sample_ids).order_by("pk")}
-        found = {t.pk: t for t in Test.objects.select_for_update().filter(pk__in=ids).order_by("pk")}
+        found = {t.pk: t for t in Test.objects.select_for_update().filter(pk__in=possible).order_by("pk")}
         ordered: list[Test] = []
         for index, pk in enumerate(ids):
             test = found.get(pk)
-            if test is None:
-                raise NotFound(f"tests.{index}: test {pk} not found")
+            if test is None:  # an unknown id in the list is bad input, named by its position
+                raise InvalidInput.for_field(f"tests.{index}", f"test {pk} not found")
             if test.state not in ASSIGNABLE_STATES:
                 raise Conflict(f"tests.{index}: test {pk} is {test.state}; it cannot be assigned", missing=[f"tests.{index}"])
             try:

@@ -339,3 +339,90 @@ def test_form_encoded_input_is_read_or_refused_never_a_server_error(lab, clients
     assert all(name.startswith("inputs") for name in response.json()["fields"])
     plain = clients["analyst"].generic("POST", "/api/results/", "test=1", content_type="text/plain")
     assert plain.status_code == 415 and plain.json()["detail"]
+
+
+# One bad id per request, so each field's own check is exercised (the "huge ids" odd body
+# above puts them all in one request, where the first one checked hides the others).
+ONE_HUGE_ID = [
+    Bad("huge id: specification product", "manager", lambda lab: _spec(lab, product=HUGE_ID), "product"),
+    Bad("huge id: lot product", "manager", lambda lab: _lot(lab, product=HUGE_ID), "product"),
+    Bad("huge id: sample lot", "manager", lambda lab: Call("post", "/api/samples/", {"lot": HUGE_ID}), "lot"),
+    Bad("huge id: assigned test", "manager", lambda lab: _assign(lab, tests=[HUGE_ID]), "tests.0"),
+    Bad(
+        "huge id: second assigned test", "manager",
+        lambda lab: _assign(lab, tests=[lab.received().tests.first().pk, HUGE_ID]), "tests.1",
+    ),
+    Bad("huge id: assignee", "manager", lambda lab: _assign(lab, assignee=HUGE_ID), "assignee"),
+    Bad("huge id: result test", "analyst", lambda lab: _record(lab, test=HUGE_ID), "test"),
+    Bad("huge id: result replicate", "analyst", lambda lab: _record(lab, replicate=HUGE_ID), "replicate"),
+    Bad("huge id: bulk item test", "analyst", lambda lab: _bulk(lab, {"test": HUGE_ID, "inputs": AV_LOW}), "results.0.test"),
+    Bad("huge id: bulk item replicate", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicate": HUGE_ID}), "results.0.replicate"),
+    Bad("huge quantity", "manager", lambda lab: _lot(lab, quantity_kg="1e30"), "quantity_kg"),
+]
+
+
+@pytest.mark.parametrize("case", ONE_HUGE_ID, ids=[case.name for case in ONE_HUGE_ID])
+def test_one_id_beyond_any_integer_is_a_400_naming_its_field(case: Bad, lab, clients):
+    call = case.arrange(lab)
+    before = row_counts()
+    response = call.send(clients[case.role])
+    assert response.status_code == 400, response.content
+    assert case.field in response.json()["fields"], response.json()
+    assert row_counts() == before
+
+
+@pytest.mark.parametrize(
+    "query, field",
+    [
+        ("/api/tests/?sample=1e30", "sample"),
+        ("/api/tests/?sample=1.5", "sample"),  # not sample 1
+        (f"/api/tests/?sample={HUGE_ID}", "sample"),
+        (f"/api/tests/?lot={HUGE_ID}", "lot"),
+        (f"/api/tests/?assignee={HUGE_ID}", "assignee"),
+        (f"/api/tests/?product={HUGE_ID}", "product"),
+        (f"/api/lots/?product={HUGE_ID}", "product"),
+        (f"/api/samples/?lot={HUGE_ID}", "lot"),
+        (f"/api/investigations/?lot={HUGE_ID}", "lot"),
+        (f"/api/specifications/?product={HUGE_ID}", "product"),
+    ],
+)
+def test_filter_ids_beyond_any_integer_or_not_whole_are_a_400(query, field, clients):
+    response = clients["manager"].get(query)
+    assert response.status_code == 400, response.content
+    assert field in response.json()["fields"]
+
+
+@pytest.mark.parametrize(
+    "role, method, path, body",
+    [
+        ("manager", "get", f"/api/lots/{HUGE_ID}/", None),
+        ("manager", "get", f"/api/lots/{HUGE_ID}/readiness/", None),
+        ("manager", "get", f"/api/lots/{HUGE_ID}/certificate/", None),
+        ("manager", "get", f"/api/lots/{HUGE_ID}/audit-trail/", None),
+        ("qa", "post", f"/api/lots/{HUGE_ID}/reject/", REASON),
+        ("manager", "get", f"/api/samples/{HUGE_ID}/", None),
+        ("manager", "post", f"/api/samples/{HUGE_ID}/receive/", {"condition": "ok", "storage_place": "A1"}),
+        ("manager", "post", f"/api/samples/{HUGE_ID}/hold/", REASON),
+        ("manager", "post", f"/api/samples/{HUGE_ID}/resume/", REASON),
+        ("manager", "post", f"/api/samples/{HUGE_ID}/cancel/", REASON),
+        ("manager", "get", f"/api/samples/{HUGE_ID}/audit-trail/", None),
+        ("manager", "get", f"/api/products/{HUGE_ID}/", None),
+        ("manager", "get", f"/api/specifications/{HUGE_ID}/", None),
+        ("manager", "put", f"/api/specifications/{HUGE_ID}/lines/", {"lines": [{"method": "av", "maximum": "1"}]}),
+        ("qa", "post", f"/api/specifications/{HUGE_ID}/approve/", {}),
+        ("qa", "post", f"/api/specifications/{HUGE_ID}/revise/", {"effective_from": "2031-01-01"}),
+        ("manager", "get", f"/api/tests/{HUGE_ID}/", None),
+        ("manager", "get", f"/api/tests/{HUGE_ID}/results/", None),
+        ("analyst", "post", f"/api/tests/{HUGE_ID}/accept/", {}),
+        ("analyst", "post", f"/api/tests/{HUGE_ID}/send-back/", REASON),
+        ("analyst", "get", f"/api/results/{HUGE_ID}/", None),
+        ("analyst", "post", f"/api/results/{HUGE_ID}/correct/", {"inputs": AV_LOW, "reason": "misread"}),
+        ("qa", "get", f"/api/investigations/{HUGE_ID}/", None),
+        ("qa", "post", f"/api/investigations/{HUGE_ID}/close/", {"conclusion": "confirmed", "findings": "x"}),
+    ],
+)
+def test_path_ids_beyond_any_integer_are_404(role, method, path, body, clients):
+    before = row_counts()
+    response = getattr(clients[role], method)(path, body, format="json")
+    assert response.status_code == 404, response.content
+    assert row_counts() == before

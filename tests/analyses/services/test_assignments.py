@@ -5,7 +5,7 @@ import datetime as dt
 
 import pytest
 
-from analyses.errors import Conflict, InvalidInput, NotFound
+from analyses.errors import Conflict, InvalidInput
 from analyses.models import AuditEntry, Priority, SampleState, Test, TestState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept
@@ -47,8 +47,12 @@ def test_one_bad_test_assigns_none(users, assigned_tests):
     with pytest.raises(Conflict, match=r"tests\.1: .* accepted") as caught:
         test_assign_bulk(users["manager"], ordered, assignee=users["analyst2"])
     assert caught.value.missing == ["tests.1"]
-    with pytest.raises(NotFound, match="tests.1"):
+    with pytest.raises(InvalidInput) as caught:  # an unknown test in the list is bad input, named by position
         test_assign_bulk(users["manager"], [ordered[0], 0], assignee=users["analyst2"])
+    assert list(caught.value.fields) == ["tests.1"]
+    with pytest.raises(InvalidInput) as caught:  # beyond any database integer: no such test either
+        test_assign_bulk(users["manager"], [ordered[0], 10**20], assignee=users["analyst2"])
+    assert list(caught.value.fields) == ["tests.1"]
     assert (_states(assigned_tests), AuditEntry.objects.count()) == before
 
 
