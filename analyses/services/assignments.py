@@ -29,13 +29,16 @@ def test_assign_bulk(
     optionally setting priority and due date. All or nothing: any problem raises and no
     test changes; errors name the item (``tests.3``; an unknown test is InvalidInput there). Pending tests become assigned;
     assigned and sent-back tests keep their state under the new assignee. Samples still
-    "received" move to "in_testing". Needs ``assign_test`` (lab manager, admin); the
-    assignee must be an active user who may enter results."""
+    "received" move to "in_testing". ``due_on`` may not be in the past. Needs
+    ``assign_test`` (lab manager, admin); the assignee must be an active user who may
+    enter results."""
     require_permission(actor, "assign_test", "assign tests")
     if isinstance(tests, (str, bytes)) or not isinstance(tests, Sequence) or not tests:
         raise InvalidInput.for_field("tests", "give at least one test")
     if priority is not None and priority not in Priority.values:
         raise InvalidInput.for_field("priority", f"must be one of {', '.join(map(str, Priority.values))}")
+    if due_on is not None and due_on < timezone.localdate():
+        raise InvalidInput.for_field("due_on", "must not be in the past")
     user_model = get_user_model()
     if not isinstance(assignee, user_model):
         assignee = user_model.objects.filter(pk=assignee).first()

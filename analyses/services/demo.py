@@ -205,7 +205,11 @@ def _lots(data: Mapping[str, Any], lab: _Lab, summary: DemoSummary, log: Log) ->
                 produced_on=timezone.localdate() - dt.timedelta(days=10),
             )
             for spec in entry["samples"]:
-                sample = sample_register(lab.manager, lot, label=spec["label"], kind=spec.get("kind", "routine"))
+                # registered when it arrived, so that its receipt is not before its registration
+                arrived = timezone.now() - dt.timedelta(days=int(spec.get("received_days_ago", 0)))
+                sample = sample_register(
+                    lab.manager, lot, label=spec["label"], kind=spec.get("kind", "routine"), registered_at=arrived
+                )
                 lab.run(spec["scenario"], sample, entry["product"], spec)
                 summary.created["samples"] += 1
             if entry.get("decision") == "release":

@@ -70,8 +70,10 @@ def _qc_series(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log) -> N
     lot = lot_create(users["manager"], code=spec["lot"], product=Product.objects.get(code=spec["product"]), origin="production")
     values = qc_values(spec)
     for index, value in enumerate(values):
-        sample = sample_register(users["manager"], lot, kind="qc_check", label=f"{lot.code}-QC{index + 1:02d}")
         received = timezone.now() - dt.timedelta(days=len(values) - index)
+        sample = sample_register(
+            users["manager"], lot, kind="qc_check", label=f"{lot.code}-QC{index + 1:02d}", registered_at=received
+        )
         sample_receive(users["manager"], sample, condition="reference oil, sealed ampoule", storage_place="QC fridge",
                        received_at=received, methods=[spec["method"]])
         _complete(users, sample.tests.get(), value)

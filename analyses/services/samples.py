@@ -37,6 +37,13 @@ RECEIPT_FIELDS = ("received_by", "received_at", "condition_on_receipt", "storage
 TEST_FIELDS = ("sample", "specification_line", "method_code", "replicates", "priority", "due_on", "state", "retest_of")
 # Retain samples are stored, not tested; the other kinds get the specification's tests.
 TESTED_KINDS = (SampleKind.ROUTINE, SampleKind.QC_CHECK, SampleKind.STABILITY_PULL)
+# how far ahead of our clock a client's clock may be (common practice, no source)
+CLOCK_SKEW = dt.timedelta(minutes=5)
+
+
+def _not_in_future(moment: dt.datetime, field: str) -> None:
+    if moment > timezone.now() + CLOCK_SKEW:
+        raise InvalidInput.for_field(field, "must not be in the future")
 
 
 def _check_lot_takes(lot: Lot, kind: str) -> None:
@@ -58,12 +65,17 @@ def sample_register(
     kind: str = SampleKind.ROUTINE,
     label: str | None = None,
     taken_at: dt.datetime | None = None,
+    registered_at: dt.datetime | None = None,
 ) -> Sample:
     """Register a sample taken from an open lot; ``label`` must be unique (default:
-    "<lot>-S<n>"). Needs ``register_sample`` (lab manager, admin)."""
+    "<lot>-S<n>"). ``registered_at`` (default now, never in the future) lets a sample
+    logged late keep the time it was logged on paper. Needs ``register_sample`` (lab
+    manager, admin)."""
     require_permission(actor, "register_sample", "register samples")
     if kind not in SampleKind.values:
         raise InvalidInput.for_field("kind", f"must be one of {', '.join(SampleKind.values)}")
+    if registered_at is not None:
+        _not_in_future(registered_at, "registered_at")
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
         _check_lot_takes(lot, kind)
@@ -71,7 +83,8 @@ def sample_register(
         if Sample.objects.filter(label=label).exists():
             raise InvalidInput.for_field("label", f"sample label {label!r} is already used")
         sample = Sample.objects.create(
-            lot=lot, label=label, kind=kind, taken_at=taken_at, registered_by=actor, registered_at=timezone.now()
+            lot=lot, label=label, kind=kind, taken_at=taken_at, registered_by=actor,
+            registered_at=registered_at or timezone.now(),
         )
         audit_append(actor, AuditAction.CREATE, sample, created(sample, SAMPLE_FIELDS), lot_ref=lot.pk, sample_ref=sample.pk)
     return sample
@@ -92,6 +105,8 @@ def sample_receive(
     create one test per line (or per line of ``methods`` only) of the product's approved specification in effect on the day
     of receipt (retain samples get none). Each test takes the plugin's replicate count,
     ``priority``, and ``due_on`` (default: receipt date + the line's turnaround days).
+    ``received_at`` may not be in the future (5 minutes' clock skew allowed) nor before
+    the sample's registration; ``due_on`` not before the receipt date.
     Conflict when no approved specification is in effect or a method is not installed.
     Needs ``receive_sample`` (lab manager, admin)."""
     require_permission(actor, "receive_sample", "receive samples")
@@ -100,15 +115,22 @@ def sample_receive(
     if priority not in Priority.values:
         raise InvalidInput.for_field("priority", f"must be one of {', '.join(map(str, Priority.values))}")
     received_at = received_at or timezone.now()
+    _not_in_future(received_at, "received_at")
+    receipt_day = timezone.localdate(received_at)
+    if due_on is not None and due_on < receipt_day:
+        raise InvalidInput.for_field("due_on", f"must not be before the receipt date {receipt_day.isoformat()}")
     with transaction.atomic():
         sample = fetch(Sample, sample, lock=True)
+        if received_at < sample.registered_at:
+            raise InvalidInput.for_field(
+                "received_at", f"must not be before the sample's registration ({sample.registered_at.isoformat()})"
+            )
         lot = Lot.objects.select_related("product").get(pk=sample.lot_id)
         _check_lot_takes(lot, sample.kind)
         sample_move_check(sample, SampleState.RECEIVED)
         specification = None
         lines = []
         if sample.kind in TESTED_KINDS:
-            receipt_day = timezone.localdate(received_at)
             specification = specification_effective(lot.product_id, receipt_day)
             if specification is None:
                 raise Conflict(
@@ -146,7 +168,7 @@ def sample_receive(
                 method_code=line.method_code,
                 replicates=max(1, get_registry().get(line.method_code).replicates),
                 priority=priority,
-                due_on=due_on or timezone.localdate(received_at) + dt.timedelta(days=line.turnaround_days),
+                due_on=due_on or receipt_day + dt.timedelta(days=line.turnaround_days),
                 created_at=now,
             )
             audit_append(actor, AuditAction.CREATE, test, created(test, TEST_FIELDS), lot_ref=lot.pk, sample_ref=sample.pk)

@@ -1,7 +1,11 @@
 """Samples over REST: registration, receipt creating the tests, hold, resume, cancel."""
 from __future__ import annotations
 
+import datetime as dt
+
 import pytest
+
+from analyses.services.samples import sample_register
 
 pytestmark = pytest.mark.django_db
 
@@ -27,8 +31,9 @@ def test_a_registered_sample_gets_a_label_and_receipt_creates_its_tests(lab, cli
 
 
 def test_receipt_without_an_approved_specification_in_effect_is_a_conflict(lab, clients):
-    """The approved specification is effective from 2020; a receipt dated 2019 has none."""
-    sample = clients["manager"].post("/api/samples/", {"lot": lab.lot.pk}, format="json").json()
+    """The approved specification is effective from 2020; a receipt dated 2019 has none.
+    (The sample was registered in 2019 too: a receipt before registration is bad input.)"""
+    sample = {"id": sample_register(lab.manager, lab.lot, registered_at=dt.datetime(2019, 6, 1, 8, tzinfo=dt.UTC)).pk}
     received = clients["manager"].post(
         f"/api/samples/{sample['id']}/receive/", {"condition": "ok", "storage_place": "A1", "received_at": "2019-06-01T09:00:00Z"},
         format="json",

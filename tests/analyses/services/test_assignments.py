@@ -4,6 +4,7 @@ from __future__ import annotations
 import datetime as dt
 
 import pytest
+from django.utils import timezone
 
 from analyses.errors import Conflict, InvalidInput
 from analyses.models import AuditEntry, Priority, SampleState, Test, TestState
@@ -27,6 +28,17 @@ def test_assign_sets_assignee_priority_and_due_date_and_starts_testing(users, re
     }
     received_sample.refresh_from_db()
     assert received_sample.state == SampleState.IN_TESTING
+
+
+def test_a_due_date_in_the_past_is_refused(users, received_sample):
+    tests = list(received_sample.tests.order_by("pk"))
+    before = _states(tests), AuditEntry.objects.count()
+    with pytest.raises(InvalidInput) as caught:
+        test_assign_bulk(users["manager"], tests, assignee=users["analyst"], due_on=timezone.localdate() - dt.timedelta(days=1))
+    assert list(caught.value.fields) == ["due_on"]
+    assert (_states(tests), AuditEntry.objects.count()) == before
+    assigned = test_assign_bulk(users["manager"], tests, assignee=users["analyst"], due_on=timezone.localdate())
+    assert {t.due_on for t in assigned} == {timezone.localdate()}
 
 
 def test_reassignment_keeps_the_state_and_is_recorded(users, assigned_tests):

@@ -104,8 +104,10 @@ def test_receipt_without_an_effective_approved_specification_is_a_conflict(users
     specification_approve(users["qa"], draft)
     received = sample_receive(users["manager"], sample, condition="ok", storage_place="shelf")
     assert received.specification == specification
-    # a sample received before v1 was effective finds no specification
-    other = sample_register(users["manager"], sample.lot, label="L-100-B")
+    # a sample received (and registered, on paper) before v1 was effective finds no specification
+    other = sample_register(
+        users["manager"], sample.lot, label="L-100-B", registered_at=dt.datetime(2019, 6, 1, tzinfo=dt.UTC)
+    )
     before = _frozen(other)
     with pytest.raises(Conflict, match="no approved specification"):
         sample_receive(
@@ -150,3 +152,48 @@ def test_a_released_lot_still_takes_stability_pulls_and_their_tests_but_no_routi
     assert test_accept(users["analyst2"], pv).state == TestState.ACCEPTED
     pull.refresh_from_db()
     assert pull.state == SampleState.TESTING_COMPLETE
+
+
+def test_receipt_times_are_not_in_the_future_nor_before_registration(users, sample):
+    before = _frozen(sample)
+    now = timezone.now()
+    for received_at in (now + dt.timedelta(minutes=6), dt.datetime(9999, 12, 30, tzinfo=dt.UTC)):
+        with pytest.raises(InvalidInput) as caught:
+            sample_receive(users["manager"], sample, condition="ok", storage_place="shelf", received_at=received_at)
+        assert list(caught.value.fields) == ["received_at"]
+    with pytest.raises(InvalidInput) as caught:
+        sample_receive(
+            users["manager"], sample, condition="ok", storage_place="shelf",
+            received_at=sample.registered_at - dt.timedelta(seconds=1),
+        )
+    assert list(caught.value.fields) == ["received_at"]
+    assert _frozen(sample) == before
+    # a client clock a few minutes ahead of ours is accepted (5 minutes' skew: common practice, no source)
+    received = sample_receive(
+        users["manager"], sample, condition="ok", storage_place="shelf", received_at=now + dt.timedelta(minutes=4)
+    )
+    assert received.state == SampleState.RECEIVED
+
+
+def test_a_due_date_before_the_receipt_date_is_refused(users, sample):
+    before = _frozen(sample)
+    received_at = timezone.now()
+    with pytest.raises(InvalidInput) as caught:
+        sample_receive(
+            users["manager"], sample, condition="ok", storage_place="shelf", received_at=received_at,
+            due_on=timezone.localdate(received_at) - dt.timedelta(days=1),
+        )
+    assert list(caught.value.fields) == ["due_on"]
+    assert _frozen(sample) == before
+    due = timezone.localdate(received_at)  # due the day it arrives: allowed
+    received = sample_receive(
+        users["manager"], sample, condition="ok", storage_place="shelf", received_at=received_at, due_on=due
+    )
+    assert set(received.tests.values_list("due_on", flat=True)) == {due}
+
+
+def test_registration_time_is_not_in_the_future(users, lot):
+    with pytest.raises(InvalidInput) as caught:
+        sample_register(users["manager"], lot, registered_at=timezone.now() + dt.timedelta(days=1))
+    assert list(caught.value.fields) == ["registered_at"]
+    assert not lot.samples.exists()
