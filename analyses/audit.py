@@ -114,10 +114,11 @@ def audit_append(
         raise ValueError(f"unknown audit action {action!r}")
     if not transaction.get_connection().in_atomic_block:
         raise RuntimeError("audit_append must run inside transaction.atomic()")
-    AuditChainHead.objects.select_for_update().get_or_create(id=1)
-    last = AuditEntry.objects.order_by("-sequence").values("sequence", "entry_hash").first()
-    sequence = last["sequence"] + 1 if last else 1
-    previous_hash = last["entry_hash"] if last else GENESIS_HASH
+    head, _ = AuditChainHead.objects.select_for_update().get_or_create(id=1)
+    # chain from the head, not from the last row found: after rows were deleted from the
+    # end, the next entry still points at the deleted one and the gap shows
+    sequence = head.last_sequence + 1
+    previous_hash = head.last_hash
     fields = {
         "sequence": sequence,
         "at": timezone.now(),
@@ -132,7 +133,10 @@ def audit_append(
         "sample_ref": sample_ref,
     }
     entry_hash = chain_hash(previous_hash, canonical_content(**fields))
-    return AuditEntry.objects.create(previous_hash=previous_hash, entry_hash=entry_hash, **fields)
+    entry = AuditEntry.objects.create(previous_hash=previous_hash, entry_hash=entry_hash, **fields)
+    head.last_sequence, head.last_hash = sequence, entry_hash
+    head.save(update_fields=["last_sequence", "last_hash"])
+    return entry
 
 
 @dataclass(frozen=True)
@@ -142,13 +146,29 @@ class ChainReport:
     broken_sequence: int | None = None
     broken_id: int | None = None
     problem: str = ""
+    # the last entry verified: record it outside the database to check against later
+    head_sequence: int = 0
+    head_hash: str = GENESIS_HASH
 
 
-def audit_chain_verify() -> ChainReport:
-    """Walk the whole chain in sequence order; report the first entry that does not hold."""
+def parse_head(text: str) -> tuple[int, str]:
+    """``"SEQUENCE:HASH"`` as printed by ``audit_verify``; ValueError when it is not one."""
+    sequence, _, digest = text.strip().partition(":")
+    if not sequence.isdigit() or len(digest) != 64 or any(c not in "0123456789abcdef" for c in digest):
+        raise ValueError(f"{text!r} is not SEQUENCE:HASH (a whole number, a colon, 64 lower-case hex digits)")
+    return int(sequence), digest
+
+
+def audit_chain_verify(expect_head: tuple[int, str] | None = None) -> ChainReport:
+    """Walk the whole chain in sequence order; report the first entry that does not hold.
+    Then compare the last entry with the recorded head (``AuditChainHead``), which catches
+    entries removed from the end, and with ``expect_head`` (a head recorded earlier outside
+    the database), which must still be in the chain with the same hash."""
     previous_hash = GENESIS_HASH
     expected_sequence = 1
     checked = 0
+    last: AuditEntry | None = None
+    expected_entry: AuditEntry | None = None
     for entry in AuditEntry.objects.order_by("sequence").iterator(chunk_size=2000):
         problem = ""
         if entry.sequence != expected_sequence:
@@ -162,4 +182,32 @@ def audit_chain_verify() -> ChainReport:
         previous_hash = entry.entry_hash
         expected_sequence += 1
         checked += 1
-    return ChainReport(True, checked)
+        last = entry
+        if expect_head is not None and entry.sequence == expect_head[0]:
+            expected_entry = entry
+    last_sequence = last.sequence if last else 0
+    head = AuditChainHead.objects.filter(id=1).values("last_sequence", "last_hash").first()
+    head = head or {"last_sequence": 0, "last_hash": GENESIS_HASH}
+    if (head["last_sequence"], head["last_hash"]) != (last_sequence, previous_hash):
+        return ChainReport(
+            False, checked, last_sequence + 1, None,
+            f"the chain ends at entry {last_sequence}, but its head records entry {head['last_sequence']} "
+            f"({head['last_hash'][:12]}...): entries were removed from its end, or the head was changed",
+            last_sequence, previous_hash,
+        )
+    if expect_head is not None:
+        sequence, digest = expect_head
+        if sequence > last_sequence:
+            return ChainReport(
+                False, checked, last_sequence + 1, None,
+                f"the chain ends at entry {last_sequence}, before the expected head {sequence}: entries were removed",
+                last_sequence, previous_hash,
+            )
+        recorded = expected_entry.entry_hash if expected_entry else GENESIS_HASH if sequence == 0 else None
+        if recorded != digest:
+            return ChainReport(
+                False, checked, sequence, expected_entry.pk if expected_entry else None,
+                "its hash is not the one recorded for the expected head: the chain was rewritten",
+                last_sequence, previous_hash,
+            )
+    return ChainReport(True, checked, head_sequence=last_sequence, head_hash=previous_hash)

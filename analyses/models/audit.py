@@ -3,7 +3,8 @@
 Each entry's ``entry_hash`` is SHA-256 over the previous entry's hash and the entry's own
 canonical content (see ``analyses.audit``), so a row changed behind the application's back
 breaks the chain at that row. ``AuditChainHead`` is a single row that writers lock
-(SELECT ... FOR UPDATE) so that appends are serialised on PostgreSQL.
+(SELECT ... FOR UPDATE) so that appends are serialised on PostgreSQL; it also records the
+last entry, so entries deleted from the end are detected too.
 """
 from __future__ import annotations
 
@@ -47,9 +48,13 @@ class AuditEntry(AppendOnlyModel):
 
 
 class AuditChainHead(models.Model):
-    """One row (pk=1) that every append locks, so appends never interleave."""
+    """One row (pk=1) that every append locks, so appends never interleave. It records the
+    chain's last entry (sequence and hash), written in the same transaction as the entry:
+    entries removed from the end of the chain leave the head pointing past them."""
 
     id = models.PositiveSmallIntegerField(primary_key=True, default=1)
+    last_sequence = models.PositiveBigIntegerField(default=0, help_text="sequence of the last entry; 0: none yet")
+    last_hash = models.CharField(max_length=64, default="0" * 64, help_text="entry_hash of the last entry")
 
     class Meta:
         verbose_name = "audit chain head"

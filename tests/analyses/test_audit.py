@@ -3,6 +3,8 @@ checked by ``manage.py audit_verify``; appends stay linear under concurrency on 
 from __future__ import annotations
 
 import threading
+from importlib import import_module
+from io import StringIO
 
 import pytest
 from django.contrib import admin
@@ -11,7 +13,7 @@ from django.db import connection, transaction
 from django.test import RequestFactory
 
 from analyses.audit import GENESIS_HASH, audit_append, audit_chain_verify
-from analyses.models import AuditEntry, ImmutableRowError, Product
+from analyses.models import AuditChainHead, AuditEntry, ImmutableRowError, Product
 from analyses.services.samples import sample_hold
 from tests.analyses.lab_setup import lot, product, received_sample, sample, specification, users  # noqa: F401
 from tests.conftest import service_missing
@@ -140,4 +142,67 @@ def test_concurrent_appends_keep_one_linear_chain_on_postgresql():
     assert errors == []
     sequences = list(AuditEntry.objects.order_by("sequence").values_list("sequence", flat=True))
     assert sequences == list(range(1, threads * per_thread + 1))
+    assert audit_chain_verify().ok
+
+
+def _delete_last(count: int) -> list[AuditEntry]:
+    """Remove the last ``count`` entries with raw SQL, as someone with database access might."""
+    doomed = list(AuditEntry.objects.order_by("-sequence")[:count])
+    with connection.cursor() as cursor:
+        for entry in doomed:
+            cursor.execute(f"DELETE FROM {AuditEntry._meta.db_table} WHERE id = %s", [entry.pk])
+    return doomed
+
+
+@pytest.mark.django_db
+def test_entries_deleted_from_the_end_are_found(received_sample):
+    last_kept = AuditEntry.objects.order_by("-sequence")[2]
+    doomed = _delete_last(2)
+    report = audit_chain_verify()
+    assert not report.ok
+    assert report.broken_sequence == last_kept.sequence + 1 == doomed[-1].sequence
+    assert "removed from its end" in report.problem
+    with pytest.raises(CommandError, match="removed from its end"):
+        _verify()
+
+
+@pytest.mark.django_db
+def test_an_append_after_a_deletion_at_the_end_does_not_hide_it(users, received_sample):
+    _delete_last(1)
+    sample_hold(users["qa"], received_sample, reason="seal broken")  # the next entry links to the deleted one
+    report = audit_chain_verify()
+    assert not report.ok and "missing" in report.problem
+
+
+@pytest.mark.django_db
+def test_the_head_is_printed_and_checked_against_a_recorded_one(users, received_sample):
+    last = AuditEntry.objects.order_by("sequence").last()
+    printed = _verify()
+    assert f"head: {last.sequence}:{last.entry_hash}" in printed
+    recorded = f"{last.sequence}:{last.entry_hash}"
+    sample_hold(users["qa"], received_sample, reason="seal broken")  # the chain grows past the recorded head
+    out = StringIO()
+    call_command("audit_verify", "--expect-head", recorded, stdout=out)
+    assert "intact" in out.getvalue()
+    # removing entries AND rewriting the head row passes the database's own check, not the recorded head
+    _delete_last(2)
+    survivor = AuditEntry.objects.order_by("sequence").last()
+    AuditChainHead.objects.filter(id=1).update(last_sequence=survivor.sequence, last_hash=survivor.entry_hash)
+    assert audit_chain_verify().ok
+    with pytest.raises(CommandError, match="before the expected head"):
+        call_command("audit_verify", "--expect-head", recorded, stdout=StringIO())
+    with pytest.raises(CommandError, match="rewritten"):
+        call_command("audit_verify", "--expect-head", f"{survivor.sequence}:{'a' * 64}", stdout=StringIO())
+    with pytest.raises(CommandError, match="SEQUENCE:HASH"):
+        call_command("audit_verify", "--expect-head", "yesterday", stdout=StringIO())
+
+
+@pytest.mark.django_db
+def test_the_migration_gives_an_existing_chain_its_head(received_sample):
+    from django.apps import apps
+
+    record_head = import_module("analyses.migrations.0006_audit_chain_head").record_head
+    AuditChainHead.objects.filter(id=1).update(last_sequence=0, last_hash=GENESIS_HASH)  # as before the head was kept
+    assert not audit_chain_verify().ok
+    record_head(apps, None)
     assert audit_chain_verify().ok
