@@ -39,6 +39,9 @@ PERMISSION_MODELS: dict[str, str] = {
     "acknowledge_alert": "alert",
 }
 
+# "Only QA approves specifications and releases or rejects lots" (issue 3): not even admins.
+QA_ONLY: tuple[str, ...] = ("approve_specification", "release_lot")
+
 ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
     LAB_MANAGER: (
         "add_product",
@@ -66,7 +69,7 @@ ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
         "set_control_baseline",
         "acknowledge_alert",
     ),
-    ADMIN: tuple(PERMISSION_MODELS),
+    ADMIN: tuple(codename for codename in PERMISSION_MODELS if codename not in QA_ONLY),
 }
 
 

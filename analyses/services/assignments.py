@@ -8,10 +8,10 @@ from django.contrib.auth import get_user_model
 from django.db import transaction
 from django.utils import timezone
 
-from analyses.errors import Conflict, InvalidInput
+from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import Priority, Sample, Test, TestState
 from analyses.roles import permission_label
-from analyses.services.access import ID_MAX, Actor, require_permission
+from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
 
 ASSIGNABLE_STATES = (TestState.PENDING, TestState.ASSIGNED, TestState.SENT_BACK)
@@ -31,7 +31,7 @@ def test_assign_bulk(
     assigned and sent-back tests keep their state under the new assignee. Samples still
     "received" move to "in_testing". ``due_on`` may not be in the past. Needs
     ``assign_test`` (lab manager, admin); the assignee must be an active user who may
-    enter results."""
+    enter results and is not a QA reviewer (``refuse_raw_data_edit_by_qa``)."""
     require_permission(actor, "assign_test", "assign tests")
     if isinstance(tests, (str, bytes)) or not isinstance(tests, Sequence) or not tests:
         raise InvalidInput.for_field("tests", "give at least one test")
@@ -46,6 +46,10 @@ def test_assign_bulk(
             raise InvalidInput.for_field("assignee", "no such user")
     if not assignee.is_active or not assignee.has_perm(permission_label("record_result")):
         raise InvalidInput.for_field("assignee", f"{assignee.username} may not enter results")
+    try:  # a QA reviewer never enters raw data, whatever other groups they are in
+        refuse_raw_data_edit_by_qa(assignee)
+    except NotAllowed as exc:
+        raise InvalidInput.for_field("assignee", exc.detail) from None
     ids = [t.pk if isinstance(t, Test) else t for t in tests]
     for index, pk in enumerate(ids):
         if isinstance(pk, bool) or not isinstance(pk, int):

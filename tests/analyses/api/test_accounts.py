@@ -52,4 +52,6 @@ def test_without_credentials_or_with_a_bad_token_it_is_401(db):
 def test_me_lists_every_role_of_the_admin(clients):
     me = clients["admin"].get("/api/me/").json()
     assert me["roles"] == ["admin"]
-    assert {"release_lot", "record_any_result", "close_investigation"} <= set(me["permissions"])
+    assert {"record_any_result", "close_investigation"} <= set(me["permissions"])
+    # only QA approves specifications and releases or rejects lots (issue 3)
+    assert not {"release_lot", "approve_specification"} & set(me["permissions"])

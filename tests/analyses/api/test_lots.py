@@ -65,7 +65,7 @@ def test_a_lot_without_samples_is_not_releasable(lab, clients):
 
 def test_a_released_lot_is_not_released_twice(lab, clients):
     lab.accepted()
-    assert clients["admin"].post(f"/api/lots/{lab.lot.pk}/release/", format="json").status_code == 201
+    assert clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json").status_code == 201
     again = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json")
     assert again.status_code == 409 and "released" in again.json()["detail"]
     assert clients["qa"].get(f"/api/lots/{lab.lot.pk}/readiness/").json()["missing"] == ["lot L-200 is released"]

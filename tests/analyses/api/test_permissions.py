@@ -7,6 +7,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import pytest
+from django.contrib.auth.models import Group
 
 from analyses.api.urls import urlpatterns
 from analyses.models import Result, SampleState
@@ -61,15 +62,16 @@ CASES = [
         lambda lab: Call("put", f"/api/specifications/{lab.draft.pk}/lines/", {"lines": [{"method": "pv", "maximum": "5"}]}),
         {"manager": 200, "qa": 200, "admin": 200},
     ),
-    Case("specification approve", lambda lab: Call("post", f"/api/specifications/{lab.draft.pk}/approve/"), QA_ADMIN_200),
+    # only QA approves specifications and releases or rejects lots (issue 3), admins included
+    Case("specification approve", lambda lab: Call("post", f"/api/specifications/{lab.draft.pk}/approve/"), {"qa": 200}),
     Case(
         "specification revise",
         lambda lab: Call("post", f"/api/specifications/{lab.specification.pk}/revise/", {"effective_from": "2031-01-01"}),
         DRAFTERS,
     ),
     Case("lot create", lambda lab: Call("post", "/api/lots/", {"code": "L-9", "product": lab.product.pk, "origin": "production"}), MANAGER_ADMIN),
-    Case("lot release", lambda lab: (lab.accepted(), Call("post", f"/api/lots/{lab.lot.pk}/release/"))[1], {"qa": 201, "admin": 201}),
-    Case("lot reject", lambda lab: Call("post", f"/api/lots/{lab.lot.pk}/reject/", {"reason": "tank contaminated"}), QA_ADMIN_200),
+    Case("lot release", lambda lab: (lab.accepted(), Call("post", f"/api/lots/{lab.lot.pk}/release/"))[1], {"qa": 201}),
+    Case("lot reject", lambda lab: Call("post", f"/api/lots/{lab.lot.pk}/reject/", {"reason": "tank contaminated"}), {"qa": 200}),
     Case("sample register", lambda lab: Call("post", "/api/samples/", {"lot": lab.lot.pk}), MANAGER_ADMIN),
     Case(
         "sample receive",
@@ -170,13 +172,25 @@ def test_every_state_changing_route_is_in_the_matrix():
 def test_qa_in_the_analyst_group_still_may_not_enter_results(users, lab, clients, client_for):
     """Segregation of duties (the project's rule, analyses/services/access.py): a QA reviewer
     never enters raw data, even when also in the analyst group."""
-    both = UserFactory(username="qa-analyst", roles=["qa_reviewer", "analyst"])
+    both = UserFactory(username="qa-analyst", roles=["analyst"])
     av_test, _ = lab.assigned("analyst")
     test_assign_bulk(lab.manager, [av_test], assignee=both)
+    both.groups.add(Group.objects.get(name="qa_reviewer"))  # joined QA after the assignment
     response = client_for(both).post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
     assert response.status_code == 403
     assert "QA reviewer" in response.json()["detail"]
     assert not Result.objects.exists()
+
+
+def test_qa_in_the_analyst_group_may_not_be_assigned_tests(lab, clients):
+    """The same segregation of duties, at assignment: work goes to someone who may do it."""
+    both = UserFactory(username="qa-analyst", roles=["qa_reviewer", "analyst"])
+    tests = list(lab.received().tests.values_list("pk", flat=True))
+    before = row_counts()
+    response = clients["manager"].post("/api/tests/assign/", {"tests": tests, "assignee": both.pk}, format="json")
+    assert response.status_code == 400
+    assert "QA reviewer" in response.json()["fields"]["assignee"][0]
+    assert row_counts() == before
 
 
 def test_four_eyes_the_enterer_may_not_accept(lab, clients):

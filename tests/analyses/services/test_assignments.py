@@ -11,6 +11,7 @@ from analyses.models import AuditEntry, Priority, SampleState, Test, TestState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, enter_duplicates
+from tests.factories import UserFactory
 
 pytestmark = pytest.mark.django_db
 
@@ -81,3 +82,15 @@ def test_the_assignee_must_be_able_to_enter_results(users, received_sample):
         test_assign_bulk(users["manager"], tests, assignee=users["analyst"], priority=9)
     assert list(caught.value.fields) == ["priority"]
     assert set(Test.objects.filter(sample=received_sample).values_list("state", flat=True)) == {TestState.PENDING}
+
+
+def test_a_qa_reviewer_is_not_assigned_work_even_in_the_analyst_group(users, received_sample):
+    # segregation of duties (the project's rule, analyses/services/access.py): QA never enters raw data
+    both = UserFactory(username="qa-analyst", roles=["qa_reviewer", "analyst"])
+    tests = list(received_sample.tests.order_by("pk"))
+    before = _states(tests), AuditEntry.objects.count()
+    with pytest.raises(InvalidInput) as caught:
+        test_assign_bulk(users["manager"], tests, assignee=both)
+    assert list(caught.value.fields) == ["assignee"]
+    assert "QA reviewer" in caught.value.fields["assignee"][0]
+    assert (_states(tests), AuditEntry.objects.count()) == before
