@@ -5,6 +5,8 @@ from __future__ import annotations
 import django_filters as filters
 from django.contrib.auth import get_user_model
 
+from analyses.roles import ROLES
+from analyses.selectors.users import users_holding
 from analyses.models import (
     Investigation,
     InvestigationState,
@@ -116,3 +118,17 @@ class InvestigationFilter(filters.FilterSet):
     class Meta:
         model = Investigation
         fields = ["state", "lot", "product", "method"]
+
+
+class UserFilter(filters.FilterSet):
+    role = filters.ChoiceFilter(
+        choices=[(role, role) for role in ROLES], method="filter_role",
+        help_text="Only users holding this role, e.g. analyst (whom tests can be assigned to)",
+    )
+
+    class Meta:
+        model = get_user_model()
+        fields = ["role"]
+
+    def filter_role(self, queryset, name, value):
+        return users_holding(queryset, value) if value else queryset

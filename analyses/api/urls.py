@@ -19,6 +19,7 @@ urlpatterns = [
     path("calculations/", methods.CalculationView.as_view(), name="calculation"),
     path("auth/token/", accounts.TokenObtainView.as_view(), name="auth-token"),
     path("me/", accounts.MeView.as_view(), name="me"),
+    path("users/", accounts.UserListView.as_view(), name="user-list"),
     path("products/", products.ProductListView.as_view(), name="product-list"),
     path("products/<int:pk>/", products.ProductDetailView.as_view(), name="product-detail"),
     path("specifications/", specifications.SpecificationListView.as_view(), name="specification-list"),

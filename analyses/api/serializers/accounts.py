@@ -3,6 +3,8 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
+from analyses.selectors.users import roles_of
+
 
 class CredentialsSerializer(serializers.Serializer):
     username = serializers.CharField()
@@ -21,3 +23,18 @@ class MeSerializer(serializers.Serializer):
     email = serializers.CharField()
     roles = serializers.ListField(child=serializers.CharField(), help_text="lab_manager, analyst, qa_reviewer, admin")
     permissions = serializers.ListField(child=serializers.CharField(), help_text="The analyses permissions the roles grant")
+
+
+class UserSerializer(serializers.Serializer):
+    """A user as a lab manager picks them, e.g. to assign tests (send ``id`` as ``assignee``)."""
+
+    id = serializers.IntegerField(read_only=True)
+    username = serializers.CharField(read_only=True)
+    name = serializers.SerializerMethodField(help_text="First and last name; empty when not set")
+    roles = serializers.SerializerMethodField(help_text="lab_manager, analyst, qa_reviewer, admin")
+
+    def get_name(self, user) -> str:
+        return user.get_full_name()
+
+    def get_roles(self, user) -> list[str]:
+        return roles_of(user)

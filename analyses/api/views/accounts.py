@@ -1,15 +1,20 @@
-"""Obtaining a token, and the signed-in user."""
+"""Obtaining a token, the signed-in user, and the list of users (for lab managers)."""
 from __future__ import annotations
 
-from drf_spectacular.utils import extend_schema
+from drf_spectacular.utils import extend_schema, extend_schema_view
 from rest_framework.authtoken.views import ObtainAuthToken
+from rest_framework.permissions import IsAuthenticated
 from rest_framework.request import Request
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
+from analyses.api.filters import UserFilter
+from analyses.api.permissions import IsLabManager
 from analyses.api.schema import errors
-from analyses.api.serializers.accounts import MeSerializer, CredentialsSerializer, TokenSerializer
+from analyses.api.serializers.accounts import CredentialsSerializer, MeSerializer, TokenSerializer, UserSerializer
+from analyses.api.views.common import PagedListView
 from analyses.selectors.api_accounts import user_summary
+from analyses.selectors.users import user_list
 
 
 class TokenObtainView(ObtainAuthToken):
@@ -29,3 +34,18 @@ class MeView(APIView):
     @extend_schema(responses={200: MeSerializer, **errors()}, summary="The signed-in user, roles and permissions")
     def get(self, request: Request) -> Response:
         return Response(MeSerializer(user_summary(request.user)).data)
+
+
+@extend_schema_view(
+    get=extend_schema(
+        summary="Active users with their roles, e.g. ?role=analyst to find whom to assign tests to (lab manager)",
+        responses={200: UserSerializer(many=True), **errors(400, 403)},
+    )
+)
+class UserListView(PagedListView):
+    permission_classes = [IsAuthenticated, IsLabManager]
+    serializer_class = UserSerializer
+    filterset_class = UserFilter
+
+    def get_queryset(self):
+        return user_list()

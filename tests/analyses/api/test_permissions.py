@@ -124,6 +124,7 @@ CASES = [
         {"manager": 200, "qa": 200, "admin": 200},
     ),
     Case("turnaround", lambda lab: Call("get", "/api/turnaround/"), {"manager": 200, "admin": 200}),
+    Case("users list", lambda lab: Call("get", "/api/users/?role=analyst"), {"manager": 200, "admin": 200}),
 ]
 
 

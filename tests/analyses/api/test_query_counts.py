@@ -100,6 +100,8 @@ LISTINGS = [
     Listing("investigations", lambda lab: "/api/investigations/", lambda lab: _investigation()),
     Listing("lot audit trail", lambda lab: f"/api/lots/{lab.lot.pk}/audit-trail/", lambda lab: _audit(lab, "lot")),
     Listing("sample audit trail", lambda lab: f"/api/samples/{lab.sample().pk}/audit-trail/", lambda lab: _audit(lab, "sample")),
+    Listing("users", lambda lab: "/api/users/", lambda lab: UserFactory(roles=["analyst", "qa_reviewer"])),
+    Listing("users by role", lambda lab: "/api/users/?role=analyst", lambda lab: UserFactory(roles=["analyst"])),
     Listing("result history", lambda lab: f"/api/tests/{lab.result_test.pk}/results/", _result),
 ]
 
