@@ -7,11 +7,13 @@ test arrives, the test gets the mean of its replicates (reported and judged the 
 and the plugin's duplicate check, and moves to ``result_entered``.
 
 Idempotency: a result entered with ``idempotency_key`` is returned, not entered again,
-when the same user sends the same key (a unique constraint backs this).
+when the same user sends the same key (a unique constraint backs this); the ``*_once``
+functions say whether a call was such a replay. A batch key gives item i the key "<key>#i".
 """
 from __future__ import annotations
 
 import dataclasses
+from dataclasses import dataclass
 from collections.abc import Mapping, Sequence
 from typing import Any
 
@@ -51,6 +53,7 @@ RESULT_FIELDS = (
 )
 AGGREGATE_FIELDS = ("value", "reported", "unit", "verdict", "duplicate_check")
 BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key"}
+KEY_MAX_CHARS = Result._meta.get_field("idempotency_key").max_length
 # the characters a reported value may take, in a result and in its test
 REPORTED_MAX_CHARS = min(Result._meta.get_field("reported").max_length, Test._meta.get_field("reported").max_length)
 
@@ -90,11 +93,26 @@ def _check_reportable(reported: Any, unit: str) -> None:
         )
 
 
+@dataclass(frozen=True)
+class Recorded:
+    """A result an entry or correction returns, and whether the call was a replay: the
+    result was recorded earlier under the same idempotency key and nothing was written."""
+
+    result: Result
+    replayed: bool
+
+
+@dataclass(frozen=True)
+class RecordedBatch:
+    results: list[Result]
+    replayed: bool  # every item was a replay
+
+
 def _clean_key(idempotency_key: str | None) -> str | None:
     if idempotency_key is None:
         return None
-    if not isinstance(idempotency_key, str) or not idempotency_key.strip() or len(idempotency_key) > 100:
-        raise InvalidInput.for_field("idempotency_key", "must be 1 to 100 characters")
+    if not isinstance(idempotency_key, str) or not idempotency_key.strip() or len(idempotency_key) > KEY_MAX_CHARS:
+        raise InvalidInput.for_field("idempotency_key", f"must be 1 to {KEY_MAX_CHARS} characters")
     return idempotency_key.strip()
 
 
@@ -199,20 +217,22 @@ def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Res
     return result
 
 
-def result_record(
+def result_record_once(
     actor: Actor,
     test: Test | int,
     *,
     inputs: Mapping[str, Any],
     replicate: int | None = None,
     idempotency_key: str | None = None,
-) -> Result:
-    """Enter one replicate of a test (the next free one, or ``replicate``).
+) -> Recorded:
+    """Enter one replicate of a test (the next free one, or ``replicate``), and say whether
+    this was a replay.
 
     Only the test's assignee may enter (admins: any test); QA reviewers never. The test
     must be assigned or sent back, its sample workable and its lot open. Plugin input
     errors become InvalidInput on ``inputs.<field>``; nothing is written on any error.
-    With ``idempotency_key``, a repeat by the same user returns the first result."""
+    With ``idempotency_key``, a repeat by the same user (same test and inputs) returns the
+    first result, ``replayed``; the key reused for anything else is a Conflict."""
     require_permission(actor, "record_result", "enter results")
     refuse_raw_data_edit_by_qa(actor)
     key = _clean_key(idempotency_key)
@@ -223,7 +243,7 @@ def result_record(
         if key:
             first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
             if first is not None:
-                return _replay(first, test, inputs, key)
+                return Recorded(_replay(first, test, inputs, key), replayed=True)
         _check_may_enter(actor, test)
         _check_workable(test)
         current = {r.replicate: r for r in test.results.filter(status=ResultStatus.CURRENT)}
@@ -246,8 +266,8 @@ def result_record(
             **_result_fields(actor, test, inputs, outcome, aggregate),
         )
         inserted = _insert(result, actor=actor, key=key, test=test)
-        if inserted is not result:
-            return inserted
+        if inserted is not result:  # a concurrent twin of this request won
+            return Recorded(inserted, replayed=True)
         audit_append(
             actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS),
             lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
@@ -256,7 +276,19 @@ def result_record(
             set_test_aggregate(actor, test, aggregate, reason="all replicates entered")
             record_test_move(actor, test, TestState.RESULT_ENTERED)
             test.save(update_fields=["state", *AGGREGATE_FIELDS])
-    return result
+    return Recorded(result, replayed=False)
+
+
+def result_record(
+    actor: Actor,
+    test: Test | int,
+    *,
+    inputs: Mapping[str, Any],
+    replicate: int | None = None,
+    idempotency_key: str | None = None,
+) -> Result:
+    """``result_record_once`` for callers that need only the result."""
+    return result_record_once(actor, test, inputs=inputs, replicate=replicate, idempotency_key=idempotency_key).result
 
 
 def _prefixed(exc: DomainError, index: int) -> DomainError:
@@ -272,15 +304,23 @@ def _prefixed(exc: DomainError, index: int) -> DomainError:
     return type(exc)(f"{prefix}: {exc.detail}")
 
 
-def result_record_bulk(actor: Actor, results: Sequence[Mapping[str, Any]]) -> list[Result]:
+def result_record_bulk_once(
+    actor: Actor, results: Sequence[Mapping[str, Any]], *, idempotency_key: str | None = None
+) -> RecordedBatch:
     """Enter many results in one transaction, each item ``{"test", "inputs", "replicate"?,
-    "idempotency_key"?}``. All or nothing: the first error rolls everything back and names
-    the item, e.g. InvalidInput with fields ``{"results.2.inputs.sample_mass": [...]}``; an
-    unknown test is InvalidInput on ``results.<i>.test``; refusals and conflicts keep their
-    type, with the detail starting "results.<i>: "."""
+    "idempotency_key"?}``. With the batch's ``idempotency_key``, item i without its own
+    key uses "<key>#i", so the whole batch can be retried. All or nothing: the first error
+    rolls everything back and names the item, e.g. InvalidInput with fields
+    ``{"results.2.inputs.sample_mass": [...]}``; an unknown test is InvalidInput on
+    ``results.<i>.test``; refusals and conflicts keep their type, with the detail starting
+    "results.<i>: ". ``replayed`` when every item was a replay (nothing was written)."""
     if isinstance(results, (str, bytes, Mapping)) or not isinstance(results, Sequence) or not results:
         raise InvalidInput.for_field("results", "give a list of at least one result")
-    recorded: list[Result] = []
+    batch_key = _clean_key(idempotency_key)
+    room = KEY_MAX_CHARS - len(f"#{len(results) - 1}")  # for the item keys "<key>#i"
+    if batch_key and len(batch_key) > room:
+        raise InvalidInput.for_field("idempotency_key", f"must be at most {room} characters for {len(results)} items")
+    recorded: list[Recorded] = []
     with transaction.atomic():
         for index, item in enumerate(results):
             try:
@@ -291,32 +331,39 @@ def result_record_bulk(actor: Actor, results: Sequence[Mapping[str, Any]]) -> li
                     raise InvalidInput.for_field(unknown[0], f"is not a result field (expected: {', '.join(sorted(BULK_ITEM_KEYS))})")
                 if item.get("test") is None:
                     raise InvalidInput.for_field("test", "is required")
+                key = item.get("idempotency_key")
+                if key is None and batch_key:
+                    key = f"{batch_key}#{index}"
                 recorded.append(
-                    result_record(
-                        actor,
-                        item["test"],
-                        inputs=item.get("inputs"),
-                        replicate=item.get("replicate"),
-                        idempotency_key=item.get("idempotency_key"),
+                    result_record_once(
+                        actor, item["test"], inputs=item.get("inputs"), replicate=item.get("replicate"), idempotency_key=key
                     )
                 )
             except DomainError as exc:
                 raise _prefixed(exc, index) from None
-    return recorded
+    return RecordedBatch([entry.result for entry in recorded], replayed=all(entry.replayed for entry in recorded))
 
 
-def result_correct(
+def result_record_bulk(
+    actor: Actor, results: Sequence[Mapping[str, Any]], *, idempotency_key: str | None = None
+) -> list[Result]:
+    """``result_record_bulk_once`` for callers that need only the results."""
+    return result_record_bulk_once(actor, results, idempotency_key=idempotency_key).results
+
+
+def result_correct_once(
     actor: Actor,
     result: Result | int,
     *,
     inputs: Mapping[str, Any],
     reason: str,
     idempotency_key: str | None = None,
-) -> Result:
+) -> Recorded:
     """Correct a current result: a new version with the new inputs and the mandatory
     ``reason`` is inserted and the old one marked superseded (it stays visible). Only
     before acceptance, by the test's assignee (admins: any). A complete test's mean,
-    verdict and duplicate check are recomputed."""
+    verdict and duplicate check are recomputed. With ``idempotency_key``, the same
+    correction repeated returns the first one, ``replayed``."""
     require_permission(actor, "record_result", "correct results")
     refuse_raw_data_edit_by_qa(actor)
     reason = required_text(reason, "reason")
@@ -330,7 +377,7 @@ def result_correct(
         if key:
             first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
             if first is not None:
-                return _replay(first, test, inputs, key, supersedes=pk, reason=reason)
+                return Recorded(_replay(first, test, inputs, key, supersedes=pk, reason=reason), replayed=True)
         old = fetch(Result, pk, lock=True)
         if old.status != ResultStatus.CURRENT:
             raise Conflict(f"result {old.pk} is {old.status}; only a current result can be corrected")
@@ -359,7 +406,7 @@ def result_correct(
         if inserted is not correction:
             # a concurrent twin of this very request won; undo the superseding above
             transaction.set_rollback(True)
-            return inserted
+            return Recorded(inserted, replayed=True)
         audit_append(
             actor, AuditAction.CREATE, correction, created(correction, RESULT_FIELDS),
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
@@ -367,4 +414,16 @@ def result_correct(
         if complete:
             set_test_aggregate(actor, test, aggregate, reason=f"result {old.pk} corrected: {reason}")
             test.save(update_fields=list(AGGREGATE_FIELDS))
-    return correction
+    return Recorded(correction, replayed=False)
+
+
+def result_correct(
+    actor: Actor,
+    result: Result | int,
+    *,
+    inputs: Mapping[str, Any],
+    reason: str,
+    idempotency_key: str | None = None,
+) -> Result:
+    """``result_correct_once`` for callers that need only the correction."""
+    return result_correct_once(actor, result, inputs=inputs, reason=reason, idempotency_key=idempotency_key).result

@@ -1,9 +1,6 @@
 """Result entry (one, or many all-or-nothing), corrections, and one result."""
 from __future__ import annotations
 
-from collections.abc import Iterable
-
-from django.utils import timezone
 from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
 from rest_framework import status
 from rest_framework.generics import RetrieveAPIView
@@ -22,9 +19,8 @@ from analyses.api.serializers.results import (
     ResultSerializer,
 )
 from analyses.api.views.common import validated
-from analyses.models import Result
 from analyses.selectors.api_results import result_rows
-from analyses.services.results import result_correct, result_record, result_record_bulk
+from analyses.services.results import result_correct_once, result_record_bulk_once, result_record_once
 
 RECORD = requires("record_result", "enter results")
 REPLAYED_HEADER = "Idempotent-Replayed"
@@ -34,9 +30,8 @@ REPLAY_NOTE = (
 )
 
 
-def _created(results: Iterable[Result], body, started) -> Response:
-    """201 with ``body``; flagged as a replay when every result existed before the request."""
-    replayed = all(result.entered_at < started for result in results)
+def _created(body, replayed: bool) -> Response:
+    """201 with ``body``; flagged when the service replayed an earlier request."""
     return Response(body, status=status.HTTP_201_CREATED, headers={REPLAYED_HEADER: "true"} if replayed else None)
 
 
@@ -52,12 +47,11 @@ class ResultRecordView(APIView):
     )
     def post(self, request: Request) -> Response:
         data = validated(ResultRecordSerializer, request)
-        key = idempotency_key(request)
-        started = timezone.now()
-        result = result_record(
-            request.user, data["test"], inputs=data["inputs"], replicate=data.get("replicate"), idempotency_key=key
+        recorded = result_record_once(
+            request.user, data["test"], inputs=data["inputs"], replicate=data.get("replicate"),
+            idempotency_key=idempotency_key(request),
         )
-        return _created([result], ResultSerializer(result).data, started)
+        return _created(ResultSerializer(recorded.result).data, recorded.replayed)
 
 
 class ResultRecordBulkView(APIView):
@@ -78,14 +72,10 @@ class ResultRecordBulkView(APIView):
     )
     def post(self, request: Request) -> Response:
         data = validated(ResultRecordBulkSerializer, request)
-        key = idempotency_key(request)
-        items = [dict(item) for item in data["results"]]
-        if key:
-            for index, item in enumerate(items):
-                item.setdefault("idempotency_key", f"{key}#{index}")
-        started = timezone.now()
-        results = result_record_bulk(request.user, items)
-        return _created(results, ResultSerializer(results, many=True).data, started)
+        batch = result_record_bulk_once(
+            request.user, [dict(item) for item in data["results"]], idempotency_key=idempotency_key(request)
+        )
+        return _created(ResultSerializer(batch.results, many=True).data, batch.replayed)
 
 
 @extend_schema_view(get=extend_schema(summary="One result", responses={200: ResultSerializer, **errors(404)}))
@@ -107,7 +97,7 @@ class ResultCorrectView(APIView):
     )
     def post(self, request: Request, pk: int) -> Response:
         data = validated(ResultCorrectSerializer, request)
-        key = idempotency_key(request)
-        started = timezone.now()
-        correction = result_correct(request.user, pk, inputs=data["inputs"], reason=data["reason"], idempotency_key=key)
-        return _created([correction], ResultSerializer(correction).data, started)
+        recorded = result_correct_once(
+            request.user, pk, inputs=data["inputs"], reason=data["reason"], idempotency_key=idempotency_key(request)
+        )
+        return _created(ResultSerializer(recorded.result).data, recorded.replayed)

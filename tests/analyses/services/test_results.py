@@ -5,7 +5,14 @@ import pytest
 
 from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import AuditEntry, Result, ResultStatus, Test, TestState
-from analyses.services.results import result_correct, result_record, result_record_bulk
+from analyses.services.results import (
+    result_correct,
+    result_correct_once,
+    result_record,
+    result_record_bulk,
+    result_record_bulk_once,
+    result_record_once,
+)
 from analyses.services.review import test_accept
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
 
@@ -163,6 +170,42 @@ def test_bulk_entry_and_its_idempotent_retry(users, av, pv):
     assert [r.pk for r in retried] == [r.pk for r in recorded]
     assert _written() == before
     assert set(Test.objects.filter(pk__in=[av.pk, pv.pk]).values_list("state", flat=True)) == {TestState.RESULT_ENTERED}
+
+
+def test_the_once_functions_say_whether_they_replayed(users, av):
+    analyst = users["analyst"]
+    first = result_record_once(analyst, av, inputs=AV_LOW, idempotency_key="k-1")
+    assert not first.replayed
+    again = result_record_once(analyst, av, inputs=AV_LOW, idempotency_key="k-1")
+    assert again.replayed and again.result.pk == first.result.pk
+    assert not result_record_once(analyst, av, inputs=AV_LOW_TWIN).replayed  # no key: never a replay
+    fixed = result_correct_once(analyst, first.result, inputs=AV_LOW_TWIN, reason="titre misread", idempotency_key="k-2")
+    assert not fixed.replayed
+    refixed = result_correct_once(analyst, first.result, inputs=AV_LOW_TWIN, reason="titre misread", idempotency_key="k-2")
+    assert refixed.replayed and refixed.result.pk == fixed.result.pk
+
+
+def test_a_batch_key_gives_each_item_its_own_key_and_a_retry_replays_the_batch(users, av, pv):
+    items = [
+        {"test": av.pk, "inputs": AV_LOW},
+        {"test": av.pk, "inputs": AV_LOW_TWIN},
+        {"test": pv.pk, "inputs": PV_LOW, "idempotency_key": "own-key"},  # an item's own key wins
+    ]
+    batch = result_record_bulk_once(users["analyst"], items, idempotency_key="tablet-7:batch-9")
+    assert not batch.replayed
+    assert [r.idempotency_key for r in batch.results] == ["tablet-7:batch-9#0", "tablet-7:batch-9#1", "own-key"]
+    before = _written()
+    retry = result_record_bulk_once(users["analyst"], items, idempotency_key="tablet-7:batch-9")
+    assert retry.replayed and [r.pk for r in retry.results] == [r.pk for r in batch.results]
+    assert _written() == before
+    # a batch that adds a new item is not a replay, though its first items are
+    grown = result_record_bulk_once(
+        users["analyst"], [*items, {"test": pv.pk, "inputs": PV_LOW_TWIN}], idempotency_key="tablet-7:batch-9"
+    )
+    assert not grown.replayed and grown.results[3].idempotency_key == "tablet-7:batch-9#3"
+    with pytest.raises(InvalidInput) as caught:  # no room left for "#<item>"
+        result_record_bulk_once(users["analyst"], items, idempotency_key="k" * 99)
+    assert list(caught.value.fields) == ["idempotency_key"]
 
 
 def test_a_correction_is_a_new_version_and_the_old_one_stays(users, av):
