@@ -3,17 +3,21 @@ restricted reads). The role rules are the project's own (analyses/roles.py and t
 four-eyes and segregation-of-duties rules of the services); no outside source."""
 from __future__ import annotations
 
+import datetime as dt
 from collections.abc import Callable
 from dataclasses import dataclass
 
 import pytest
 from django.contrib.auth.models import Group
+from django.utils import timezone
 
 from analyses.api.urls import urlpatterns
-from analyses.models import Result, SampleState
+from analyses.api.urls_monitoring import urlpatterns as monitoring_urlpatterns
+from analyses.models import Alert, Result, SampleState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.results import result_record
 from analyses.services.samples import sample_hold
+from analyses.services.stability import stability_study_create
 from tests.analyses.api.support import Call, Lab, row_counts
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN
 from tests.factories import UserFactory
@@ -40,6 +44,30 @@ def _correct(lab: Lab) -> Call:
     av_test, _ = lab.assigned("analyst")
     result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
     return Call("post", f"/api/results/{result.pk}/correct/", {"inputs": AV_LOW_TWIN, "reason": "burette misread"})
+
+
+def _study_protocol(lab: Lab, code: str = "STAB-PERM") -> dict:
+    """An invented protocol: refined soybean oil at 25 and 40 °C, PV monthly."""
+    return {
+        "code": code, "title": "Invented shelf-life study", "product": lab.product.pk, "lots": [lab.lot.pk],
+        "started_on": "2026-01-01", "storage_temperature_c": 25, "claimed_shelf_life_months": 12,
+        "conditions": [{"temperature_c": 25}, {"temperature_c": 40}],
+        "pull_points": [{"offset": m} for m in (0, 1, 2)], "attributes": [{"method_code": "pv", "maximum": 10}],
+    }
+
+
+def _study(lab: Lab) -> int:
+    body = _study_protocol(lab, "STAB-PERM-0")
+    body["started_on"] = dt.date.fromisoformat(body["started_on"])
+    return stability_study_create(lab.users["qa"], **body).pk
+
+
+def _alert(lab: Lab) -> int:
+    alert = Alert.objects.create(
+        source="trend", rule="westgard_1_3s", series_key=f"qc:{lab.lot.pk}:av", episode_key="perm-1",
+        message="invented alert", raised_at=timezone.now(), lot=lab.lot, product=lab.product,
+    )
+    return alert.pk
 
 
 MANAGER_ADMIN = {"manager": 201, "admin": 201}
@@ -116,6 +144,25 @@ CASES = [
         }),
         QA_ADMIN_200,
     ),
+    # monitoring (analyses/api/urls_monitoring.py)
+    Case("stability study create", lambda lab: Call("post", "/api/stability-studies/", _study_protocol(lab)), DRAFTERS),
+    Case(
+        "stability study evaluate", lambda lab: Call("post", f"/api/stability-studies/{_study(lab)}/evaluate/"),
+        {"manager": 200, "qa": 200, "admin": 200},
+    ),
+    Case(
+        "stability study close",
+        lambda lab: Call("post", f"/api/stability-studies/{_study(lab)}/close/", {"reason": "claim confirmed"}),
+        {"manager": 200, "qa": 200, "admin": 200},
+    ),
+    Case("alert acknowledge", lambda lab: Call("post", f"/api/alerts/{_alert(lab)}/acknowledge/", {"comment": "titrant restandardised"}), QA_ADMIN_200),
+    Case(
+        "control baseline create",
+        lambda lab: Call("post", "/api/trends/baselines/", {
+            "series_key": f"qc:{lab.lot.pk}:av", "mean": 0.35, "sd": 0.01, "reason": "reference oil certificate (invented)",
+        }),
+        {"qa": 201, "admin": 201},
+    ),
     # restricted reads
     Case("lot audit trail", lambda lab: Call("get", f"/api/lots/{lab.lot.pk}/audit-trail/"), {"manager": 200, "qa": 200, "admin": 200}),
     Case(
@@ -152,7 +199,7 @@ def test_every_state_changing_route_is_in_the_matrix():
     """A new write endpoint must be added to the matrix above."""
     covered = {case.name for case in CASES}
     writers = {
-        pattern.name for pattern in urlpatterns
+        pattern.name for pattern in [*urlpatterns, *monitoring_urlpatterns]
         if any(hasattr(pattern.callback.view_class, method) for method in ("post", "put", "patch", "delete"))
     }
     expected_names = {
@@ -164,10 +211,14 @@ def test_every_state_changing_route_is_in_the_matrix():
         "test-assign": "tests assign", "test-accept": "test accept", "test-send-back": "test send back",
         "result-record": "result record", "result-record-bulk": "result record bulk", "result-correct": "result correct",
         "investigation-close": "investigation close",
+        "study-list": "stability study create", "study-evaluate": "stability study evaluate",
+        "study-close": "stability study close", "alert-acknowledge": "alert acknowledge",
+        "baseline-list": "control baseline create",
     }
     # stateless or open to everyone: the calculator and the token endpoint
     assert writers - set(expected_names) == {"calculation", "auth-token"}
     assert {expected_names[name] for name in writers if name in expected_names} <= covered
+    assert set(expected_names) <= writers  # no stale names either
 
 
 def test_qa_in_the_analyst_group_still_may_not_enter_results(users, lab, clients, client_for):
