@@ -8,7 +8,8 @@ from analyses.models import Result, Test
 
 INPUTS_HELP = (
     'Input name to value, as the method plugin defines them (see /api/methods/{code}/): a number in the '
-    'default unit or a quantity string such as "2015 mg". Kept exactly as entered.'
+    'default unit or a quantity string such as "2015 mg". Kept exactly as received. Send strings to keep the '
+    'digits as written, e.g. "1.30": a JSON number 1.30 is read as 1.3 before it reaches the service.'
 )
 
 

@@ -60,3 +60,13 @@ def test_errors_and_the_idempotency_header_are_documented(schema):
     listing = schema["paths"]["/api/tests/"]["get"]
     assert {"state", "method", "lot", "product", "assignee", "due_on_after", "page_size"} <= {p["name"] for p in listing["parameters"]}
     assert components["TestStateEnum"]["enum"][0] == "pending"
+
+
+def test_result_inputs_say_how_to_keep_the_digits_as_written(schema):
+    """A JSON number loses trailing zeros in parsing (1.30 -> 1.3); the docs say to send strings."""
+    components = schema["components"]["schemas"]
+    described = sorted(
+        name for name, component in components.items()
+        if 'e.g. "1.30"' in component.get("properties", {}).get("inputs", {}).get("description", "")
+    )
+    assert described == ["BulkResultItemRequest", "ResultCorrectRequest", "ResultRecordRequest"]
