@@ -78,6 +78,12 @@ class StudyAttribute(models.Model):
     def __str__(self) -> str:
         return f"{self.method_code} [{self.minimum}, {self.maximum}]"
 
+    @property
+    def shelf_life_limit(self) -> tuple[float, str]:
+        """The limit shelf life is judged against and its side: the maximum if set (e.g. PV),
+        else the minimum."""
+        return (self.maximum, "upper") if self.maximum is not None else (self.minimum, "lower")
+
 
 class PullPoint(models.Model):
     """One pull: a lot under a condition at a nominal time after the study start."""

@@ -54,7 +54,7 @@ def study_plot(study_id: int, method_code: str, condition_id: int) -> dict[str, 
         raise InvalidInput.for_field("condition", f"{condition_id} is not a condition of study {study.code}")
     rows = study_results(study)
     rows = rows[(rows["method_code"] == method_code) & (rows["condition_id"] == condition.pk)]
-    limit, side = (attribute.maximum, "upper") if attribute.maximum is not None else (attribute.minimum, "lower")
+    limit, side = attribute.shelf_life_limit
     result = shelf_life_estimate(rows["months"], rows["value"], limit, limit_side=side, lots=rows["lot"].tolist())
     return stability_plot_data(
         rows["months"].tolist(), rows["value"].tolist(), result, lots=rows["lot"].tolist(),

@@ -9,7 +9,7 @@ from typing import Any
 from django.db import transaction
 from django.utils import timezone
 
-from analyses.audit import audit_append, snapshot
+from analyses.audit import audit_append, created
 from analyses.errors import Conflict
 from analyses.models import Alert, AlertSeverity, AlertState, AuditAction
 from analyses.services.access import Actor, fetch, require_permission, required_text
@@ -52,7 +52,7 @@ def alerts_raise(drafts: Sequence[AlertDraft], actor: Actor = None) -> list[Aler
     for start in range(0, len(keys), KEY_BATCH):
         known.update(Alert.objects.filter(episode_key__in=keys[start:start + KEY_BATCH]).values_list("episode_key", flat=True))
     now = timezone.now()
-    created = []
+    raised = []
     with transaction.atomic():
         for key in keys:
             if key in known:
@@ -60,10 +60,10 @@ def alerts_raise(drafts: Sequence[AlertDraft], actor: Actor = None) -> list[Aler
             # get_or_create, not insert: a scan running at the same time may have raised it first
             alert, made = Alert.objects.get_or_create(episode_key=key, defaults={"raised_at": now, **unique[key].__dict__})
             if made:
-                audit_append(actor, AuditAction.CREATE, alert, {k: [None, v] for k, v in snapshot(alert, ALERT_FIELDS).items()}, lot_ref=alert.lot_id)
+                audit_append(actor, AuditAction.CREATE, alert, created(alert, ALERT_FIELDS), lot_ref=alert.lot_id)
                 enqueue_on_commit(NOTIFY_TASK, alert.pk)
-                created.append(alert)
-    return created
+                raised.append(alert)
+    return raised
 
 
 def alert_acknowledge(actor: Actor, alert: Alert | int, *, comment: str) -> Alert:

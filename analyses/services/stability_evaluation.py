@@ -17,10 +17,6 @@ from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
 from analyses.stability.kinetics import kinetics_fit
 from analyses.stability.shelf_life import EXTRAPOLATION_FACTOR, EXTRAPOLATION_MONTHS, shelf_life_estimate
 
-def _limit(attribute) -> tuple[float, str]:
-    return (attribute.maximum, "upper") if attribute.maximum is not None else (attribute.minimum, "lower")
-
-
 def _beyond(value: float, attribute) -> bool:
     return (attribute.maximum is not None and value > attribute.maximum) or (
         attribute.minimum is not None and value < attribute.minimum
@@ -114,7 +110,7 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
     attributes_out = []
     predictions, supports = [], []
     for attribute in study.attributes.all():
-        limit, side = _limit(attribute)
+        limit, side = attribute.shelf_life_limit
         rows = results[results["method_code"] == attribute.method_code]
         per_condition = []
         for condition in conditions:
