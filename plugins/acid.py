@@ -7,6 +7,7 @@ c the titrant concentration (mol/L), m the test portion (g).
 from __future__ import annotations
 
 from collections.abc import Mapping
+from decimal import Decimal
 from typing import Any
 
 from plugins import codex
@@ -72,6 +73,6 @@ class AcidValue(MethodPlugin):
     def check(self, values: Mapping[str, Any]) -> None:
         direct_titration_volume(values)
 
-    def compute(self, values: Mapping[str, Any]) -> float:
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
         volume = direct_titration_volume(values)
         return volume * values["titrant_concentration"] * KOH_MOLAR_MASS / values["sample_mass"]

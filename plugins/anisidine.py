@@ -18,14 +18,15 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass
+from decimal import Decimal
 from typing import Any
 
 from plugins.contract import MethodInputError, MethodPlugin, QuantityInput, Repeatability, WorkedExample
 from plugins.titration import sample_mass
 from plugins.units import MAX_TEXT_LENGTH
 
-SOLUTION_VOLUME_ML = 25.0  # Cd 18-90: test portion made up to 25 mL with iso-octane (from memory)
-REAGENT_DILUTION = 1.2  # 5 mL of solution + 1 mL of reagent: 6 / 5 (from memory, with the formula)
+SOLUTION_VOLUME_ML = Decimal("25")  # Cd 18-90: test portion made up to 25 mL with iso-octane (from memory)
+REAGENT_DILUTION = Decimal("1.2")  # 5 mL of solution + 1 mL of reagent: 6 / 5 (from memory, with the formula)
 
 # Above about A = 2 less than 1 % of the light reaches the detector and a spectrophotometer is no
 # longer linear; such a solution is diluted or a smaller portion weighed (common practice, no source).
@@ -65,16 +66,16 @@ def totox(peroxide_value: Any, anisidine_value: Any) -> float:
     return 2 * _PEROXIDE_VALUE.parse(peroxide_value) + _ANISIDINE_VALUE.parse(anisidine_value)
 
 
-def corrected_absorbance(values: Mapping[str, Any]) -> float:
+def corrected_absorbance(values: Mapping[str, Any]) -> Decimal:
     """1.2 * As - Ab: what the reaction with p-anisidine added; refused when negative."""
     difference = REAGENT_DILUTION * values["absorbance_reacted"] - values["absorbance_unreacted"]
-    if difference < -1e-12:  # below float noise at 1.2 * As = Ab
+    if difference < 0:
         raise MethodInputError(
             "absorbance_reacted",
             f"1.2 x {values['absorbance_reacted']:g} is below the unreacted absorbance "
             f"{values['absorbance_unreacted']:g}, which would give a negative p-anisidine value",
         )
-    return max(difference, 0.0)
+    return difference
 
 
 class AnisidineValue(MethodPlugin):
@@ -122,5 +123,5 @@ class AnisidineValue(MethodPlugin):
     def check(self, values: Mapping[str, Any]) -> None:
         corrected_absorbance(values)
 
-    def compute(self, values: Mapping[str, Any]) -> float:
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
         return SOLUTION_VOLUME_ML * corrected_absorbance(values) / values["sample_mass"]

@@ -18,10 +18,22 @@ Static facts
     cautions        reagent hazards, for the docs and the API
 
 Computation
-    ``compute(values)`` receives the validated inputs as plain floats in each input's
-    default unit (and strings for choices) and returns the unrounded result in
-    ``result_unit``. Cross-field rules go in ``check(values)``, which raises
-    :class:`MethodInputError` naming the field.
+    ``compute(values)`` receives the validated inputs as exact ``Decimal`` values in each
+    input's default unit, as the analyst wrote them ("1.965" is 1.965, "2015 mg" is
+    exactly 2.015 g), and strings for choices. It returns the unrounded result in
+    ``result_unit`` as a ``Decimal``; write its constants as Decimals too
+    (``Decimal("56.1")``). It runs in a 60-digit decimal context, so a result that is a
+    limit on paper is that limit exactly, and the verdict and the reported value are
+    decided on it: never on float noise. A compute() that mixes in a float raises
+    TypeError, and the registry leaves such a plugin out at start-up.
+
+    Exception: a plugin whose formula needs transcendental functions (log, exp, powers
+    with fractional exponents) sets ``exact_arithmetic = False`` and says why in
+    ``inexact_reason``. It then receives and returns floats, and its result is judged
+    through :func:`float_as_decimal` (the float written to 15 significant digits).
+
+    Cross-field rules go in ``check(values)``, which raises :class:`MethodInputError`
+    naming the field; it receives the same values as ``compute``.
 
 Every public entry point (:meth:`MethodPlugin.calculate`) validates first, so a plugin
 never sees a value it cannot use. All input errors are one type,
@@ -36,15 +48,18 @@ Discovery: plugins are found through the ``oleotrace.methods`` entry-point group
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from decimal import ROUND_HALF_EVEN, Context, Decimal, localcontext
 from typing import Any, ClassVar
 
-from plugins.units import UnitProblem, to_magnitude
+from plugins.units import UnitProblem, to_decimal, to_magnitude
 
 ENTRY_POINT_GROUP = "oleotrace.methods"
 _ROUNDING_DIGITS = 320  # enough for any finite float written out in full
+# compute() runs in this context: 60 digits hold every product and quotient of inputs written
+# to a few places exactly where the true result is a finite decimal (a limit on paper is one).
+EXACT_DIGITS = 60
 
 
 class MethodInputError(ValueError):
@@ -84,6 +99,14 @@ class QuantityInput:
         if self.maximum is not None and value > self.maximum:
             raise MethodInputError(self.name, f"must be at most {self.maximum:g} {self.unit}, got {value:g}")
         return value
+
+    def parse_exact(self, raw: Any) -> Decimal:
+        """``raw`` checked as :meth:`parse` does, then as an exact Decimal in ``unit``."""
+        self.parse(raw)
+        try:
+            return to_decimal(raw, self.unit)
+        except UnitProblem as problem:
+            raise MethodInputError(self.name, str(problem)) from None
 
     def describe(self) -> dict[str, Any]:
         return {
@@ -145,6 +168,13 @@ class Repeatability:
             return abs(mean) * self.relative
         raise ValueError("a repeatability needs an absolute or a relative limit")
 
+    def exact_limit_for(self, mean: Decimal) -> Decimal:
+        if self.absolute is not None:
+            return float_as_decimal(self.absolute)
+        if self.relative is not None:
+            return abs(mean) * float_as_decimal(self.relative)
+        raise ValueError("a repeatability needs an absolute or a relative limit")
+
 
 @dataclass(frozen=True)
 class SpecLimit:
@@ -178,6 +208,10 @@ class DuplicateCheck:
 
 @dataclass(frozen=True)
 class MethodResult:
+    """A computed result. ``exact`` is the unrounded value the verdict is decided on: the
+    exact decimal result, or for a plugin without exact arithmetic its float written to 15
+    significant digits. ``value`` is the same as a float, for statistics and charts."""
+
     code: str
     version: str
     value: float
@@ -185,33 +219,53 @@ class MethodResult:
     unit: str
     decimals: int
     inputs: dict[str, Any] = field(default_factory=dict)
+    exact: Decimal | None = None
+
+    @property
+    def judged(self) -> Decimal:
+        return self.exact if self.exact is not None else float_as_decimal(self.value)
 
     def as_dict(self) -> dict[str, Any]:
         return {
             "method": self.code,
             "method_version": self.version,
             "value": self.value,
+            "exact": str(self.judged),
             "reported": str(self.reported),
             "unit": self.unit,
             "decimals": self.decimals,
-            "inputs": self.inputs,
+            # exact inputs as decimal strings, so that JSON keeps the digits as written
+            "inputs": {k: str(v) if isinstance(v, Decimal) else v for k, v in self.inputs.items()},
         }
 
 
-SIGNIFICANT_DIGITS = 12  # far beyond any titration's precision, far above float noise (~16 digits)
+FLOAT_DIGITS = 15  # a double always holds 15 significant digits (DBL_DIG); arithmetic noise lies beyond
 
 
-def round_half_even(value: float, decimals: int) -> Decimal:
+def float_as_decimal(value: float) -> Decimal:
+    """The documented guard for a float that must be judged or rounded: written to 15
+    significant digits. Noise from a few float operations sits in the 16th and 17th digits
+    (186.99999999999997 -> 187.000000000000), while a real near-tie written within 15
+    digits stays one (0.6149999999999 stays below 0.615)."""
+    return Decimal(f"{float(value):.{FLOAT_DIGITS}g}")
+
+
+def round_half_even(value: Decimal | float, decimals: int) -> Decimal:
     """ASTM E29 rounding: half to even (so 21.45 -> 21.4 at 1 place).
 
-    The value is first written to 12 significant digits: a result that is exactly a tie
-    on paper (5.02 g, 2.51 mL, 0.1 mol/L -> AV 2.805) comes out of float arithmetic as
-    2.8050000000000006, which must not decide the rounding, nor the unit it was entered in.
+    A Decimal is rounded exactly as it stands: plugins compute in exact decimal arithmetic,
+    so a result that is a tie on paper (5.02 g, 2.51 mL, 0.1 mol/L -> AV 2.805) is exactly
+    the tie. A float goes through :func:`float_as_decimal` first.
     """
     quantum = Decimal(1).scaleb(-decimals)
-    # The default 28 digits cannot hold a large float to ``decimals`` places (1e30 at 0.1).
+    number = value if isinstance(value, Decimal) else float_as_decimal(value)
+    # The default 28 digits cannot hold a large value to ``decimals`` places (1e30 at 0.1).
     with localcontext(Context(prec=_ROUNDING_DIGITS + decimals)):
-        return Decimal(f"{float(value):.{SIGNIFICANT_DIGITS}g}").quantize(quantum, rounding=ROUND_HALF_EVEN)
+        return number.quantize(quantum, rounding=ROUND_HALF_EVEN)
+
+
+def exact_context() -> Context:
+    return Context(prec=EXACT_DIGITS)
 
 
 class MethodPlugin:
@@ -229,13 +283,16 @@ class MethodPlugin:
     spec_limits: ClassVar[tuple[SpecLimit, ...]] = ()
     examples: ClassVar[tuple[WorkedExample, ...]] = ()
     cautions: ClassVar[str] = ""
+    # Exact decimal arithmetic is the default; see "Computation" in the module docstring.
+    exact_arithmetic: ClassVar[bool] = True
+    inexact_reason: ClassVar[str] = ""
 
     REQUIRED_ATTRIBUTES: ClassVar[tuple[str, ...]] = (
         "code", "title", "version", "standards", "inputs", "result_unit", "decimals",
     )
 
     # --- to override -------------------------------------------------------------
-    def compute(self, values: Mapping[str, Any]) -> float:
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
         raise NotImplementedError
 
     def check(self, values: Mapping[str, Any]) -> None:
@@ -267,36 +324,59 @@ class MethodPlugin:
                     raise MethodInputError(spec.name, "is required")
                 else:
                     continue
-            values[spec.name] = spec.parse(given)
-        self.check(values)
+            if isinstance(spec, QuantityInput) and self.exact_arithmetic:
+                values[spec.name] = spec.parse_exact(given)
+            else:
+                values[spec.name] = spec.parse(given)
+        with localcontext(exact_context()):
+            self.check(values)
         return values
 
     def calculate(self, raw: Mapping[str, Any]) -> MethodResult:
         values = self.validate(raw)
-        value = float(self.compute(values))
+        with localcontext(exact_context()):
+            outcome = self.compute(values)
+        if self.exact_arithmetic:
+            if not isinstance(outcome, Decimal):
+                raise TypeError(
+                    f"compute() of {self.code} returned {type(outcome).__name__}, not Decimal: write its constants "
+                    "as Decimal, or set exact_arithmetic = False and say why in inexact_reason"
+                )
+            if not outcome.is_finite():
+                raise MethodInputError("inputs", "give no finite result")
+            exact: Decimal | None = outcome
+            value = float(outcome)
+        else:
+            exact = None
+            value = float(outcome)
         if not math.isfinite(value):
             raise MethodInputError("inputs", "give no finite result")
         return MethodResult(
             code=self.code,
             version=self.version,
             value=value,
-            reported=round_half_even(value, self.decimals),
+            reported=round_half_even(exact if exact is not None else value, self.decimals),
             unit=self.unit_for(values),
             decimals=self.decimals,
             inputs=values,
+            exact=exact,
         )
 
-    def report(self, value: float) -> Decimal:
+    def report(self, value: Decimal | float) -> Decimal:
         return round_half_even(value, self.decimals)
 
-    def duplicate_check(self, values: tuple[float, ...] | list[float]) -> DuplicateCheck:
-        """Compare replicate results with the repeatability limit (max - min <= r)."""
-        values = tuple(float(v) for v in values)
-        spread = max(values) - min(values) if values else 0.0
-        if self.repeatability is None or len(values) < 2:
-            return DuplicateCheck(values, spread, None, None, None)
-        limit = self.repeatability.limit_for(sum(values) / len(values))
-        return DuplicateCheck(values, spread, limit, spread <= limit + 1e-12, self.repeatability.source)
+    def duplicate_check(self, values: Sequence[Decimal | float]) -> DuplicateCheck:
+        """Compare replicate results with the repeatability limit (max - min <= r), decided
+        in decimal arithmetic on the values as given (floats through float_as_decimal)."""
+        exact = [v if isinstance(v, Decimal) else float_as_decimal(v) for v in values]
+        floats = tuple(float(v) for v in exact)
+        with localcontext(exact_context()):
+            spread = max(exact) - min(exact) if exact else Decimal(0)
+            if self.repeatability is None or len(exact) < 2:
+                return DuplicateCheck(floats, float(spread), None, None, None)
+            mean = sum(exact) / len(exact)
+            limit = self.repeatability.exact_limit_for(mean)
+            return DuplicateCheck(floats, float(spread), float(limit), spread <= limit, self.repeatability.source)
 
     def limits_for(self, oil_type: str) -> SpecLimit | None:
         for limit in self.spec_limits:
@@ -333,4 +413,6 @@ class MethodPlugin:
                 for s in cls.spec_limits
             ],
             "cautions": cls.cautions,
+            "exact_arithmetic": cls.exact_arithmetic,
+            "inexact_reason": cls.inexact_reason,
         }

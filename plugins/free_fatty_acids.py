@@ -7,13 +7,14 @@ c the NaOH concentration (mol/L), m the test portion (g).
 from __future__ import annotations
 
 from collections.abc import Mapping
+from decimal import Decimal
 from typing import Any
 
 from plugins import codex
 from plugins.contract import ChoiceInput, MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import blank_volume, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
-BASIS_FACTORS = {"oleic": 28.2, "palmitic": 25.6, "lauric": 20.0}  # AOCS Ca 5a-40
+BASIS_FACTORS = {"oleic": Decimal("28.2"), "palmitic": Decimal("25.6"), "lauric": Decimal("20.0")}  # AOCS Ca 5a-40
 
 
 class FreeFattyAcids(MethodPlugin):
@@ -63,7 +64,7 @@ class FreeFattyAcids(MethodPlugin):
     def unit_for(self, values: Mapping[str, Any]) -> str:
         return f"% as {values['fatty_acid_basis']}"
 
-    def compute(self, values: Mapping[str, Any]) -> float:
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
         volume = direct_titration_volume(values)
         factor = BASIS_FACTORS[values["fatty_acid_basis"]]
         return volume * values["titrant_concentration"] * factor / values["sample_mass"]

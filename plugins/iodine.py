@@ -8,13 +8,14 @@ portion (g). 12.69 = 253.81 g/mol I2 / 2 (two thiosulfate per I2) / 1000 mL/L * 
 from __future__ import annotations
 
 from collections.abc import Mapping
+from decimal import Decimal
 from typing import Any
 
 from plugins import codex
 from plugins.contract import MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import back_titration_volume, blank_volume, sample_mass, sample_volume, titrant_concentration
 
-IODINE_FACTOR = 12.69  # AOCS Cd 1d-92 / ISO 3961
+IODINE_FACTOR = Decimal("12.69")  # AOCS Cd 1d-92 / ISO 3961
 
 
 class IodineValueWijs(MethodPlugin):
@@ -57,6 +58,6 @@ class IodineValueWijs(MethodPlugin):
     def check(self, values: Mapping[str, Any]) -> None:
         back_titration_volume(values)
 
-    def compute(self, values: Mapping[str, Any]) -> float:
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
         volume = back_titration_volume(values)
         return volume * values["titrant_concentration"] * IODINE_FACTOR / values["sample_mass"]

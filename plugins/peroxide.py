@@ -7,6 +7,7 @@ c the thiosulfate concentration (mol/L), m the test portion (g, about 5 g).
 from __future__ import annotations
 
 from collections.abc import Mapping
+from decimal import Decimal
 from typing import Any
 
 from plugins import codex
@@ -71,6 +72,6 @@ class PeroxideValue(MethodPlugin):
     def check(self, values: Mapping[str, Any]) -> None:
         direct_titration_volume(values)
 
-    def compute(self, values: Mapping[str, Any]) -> float:
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
         volume = direct_titration_volume(values)
         return volume * values["titrant_concentration"] * 1000 / values["sample_mass"]

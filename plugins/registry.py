@@ -124,6 +124,8 @@ def plugin_problem(plugin_class: object) -> str | None:
                 return f"input {spec.name!r} has unit {spec.unit!r}, which pint does not know"
     if plugin_class.compute is MethodPlugin.compute:
         return "does not implement compute()"
+    if not plugin_class.exact_arithmetic and not str(plugin_class.inexact_reason).strip():
+        return "sets exact_arithmetic = False without saying why in inexact_reason"
     for limit in plugin_class.spec_limits:
         if not getattr(limit, "source", None):
             return f"spec limit {limit!r} names no source"

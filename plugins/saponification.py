@@ -7,6 +7,7 @@ titres (mL), c the HCl concentration (mol/L), m the test portion (g).
 from __future__ import annotations
 
 from collections.abc import Mapping
+from decimal import Decimal
 from typing import Any
 
 from plugins import codex
@@ -60,6 +61,6 @@ class SaponificationValue(MethodPlugin):
     def check(self, values: Mapping[str, Any]) -> None:
         back_titration_volume(values)
 
-    def compute(self, values: Mapping[str, Any]) -> float:
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
         volume = back_titration_volume(values)
         return volume * values["titrant_concentration"] * KOH_MOLAR_MASS / values["sample_mass"]

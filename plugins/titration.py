@@ -2,11 +2,12 @@
 from __future__ import annotations
 
 from collections.abc import Mapping
+from decimal import Decimal
 from typing import Any
 
 from plugins.contract import MethodInputError, QuantityInput
 
-KOH_MOLAR_MASS = 56.1  # g/mol as the standards write it (AOCS Cd 3-25, Cd 3d-63; ISO 660, ISO 3657)
+KOH_MOLAR_MASS = Decimal("56.1")  # g/mol as the standards write it (AOCS Cd 3-25, Cd 3d-63; ISO 660, ISO 3657)
 
 
 def sample_mass(help: str = "Mass of the test portion") -> QuantityInput:
@@ -25,7 +26,7 @@ def titrant_concentration(help: str = "Concentration of the titrant") -> Quantit
     return QuantityInput("titrant_concentration", "mol/L", help, minimum=0.0, minimum_inclusive=False)
 
 
-def back_titration_volume(values: Mapping[str, Any]) -> float:
+def back_titration_volume(values: Mapping[str, Any]) -> Decimal:
     """B - S for methods that titrate back what the sample did not consume (SV, IV)."""
     difference = values["blank_volume"] - values["sample_volume"]
     if difference < 0:
@@ -37,9 +38,9 @@ def back_titration_volume(values: Mapping[str, Any]) -> float:
     return difference
 
 
-def direct_titration_volume(values: Mapping[str, Any]) -> float:
+def direct_titration_volume(values: Mapping[str, Any]) -> Decimal:
     """S - B for methods that titrate what the sample released (AV, FFA, PV)."""
-    difference = values["sample_volume"] - values.get("blank_volume", 0.0)
+    difference = values["sample_volume"] - values.get("blank_volume", 0)
     if difference < 0:
         raise MethodInputError(
             "sample_volume",

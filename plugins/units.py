@@ -33,8 +33,38 @@ def registry() -> pint.UnitRegistry:
     return pint.UnitRegistry()
 
 
+@lru_cache(maxsize=1)
+def exact_registry() -> pint.UnitRegistry:
+    """A registry whose conversion factors are Decimals, so "2015 mg" is exactly 2.015 g."""
+    return pint.UnitRegistry(non_int_type=Decimal)
+
+
 def dimensionality(unit: str) -> Any:
     return registry().Quantity(1, unit).dimensionality
+
+
+def to_decimal(raw: Any, unit: str) -> Decimal:
+    """``raw`` in ``unit`` as an exact Decimal: the number as written, converted exactly.
+
+    Call it on a value ``to_magnitude`` has accepted. A float (a JSON number) is taken as
+    its shortest decimal form: 1.30 sent as a JSON number arrives as 1.3 and is 1.3 here.
+    """
+    if isinstance(raw, Decimal):
+        return raw
+    if isinstance(raw, int):
+        return Decimal(raw)
+    if isinstance(raw, Real):
+        return Decimal(repr(float(raw)))
+    text = str(raw).strip()
+    try:
+        return Decimal(text)
+    except ArithmeticError:
+        pass
+    match = _QUANTITY.fullmatch(text)
+    if match is None:  # to_magnitude refuses what does not match; keep the two in step
+        raise UnitProblem(f"cannot read {raw!r} as a quantity in {unit}")
+    ureg = exact_registry()
+    return ureg.Quantity(Decimal(match["number"]), ureg.Unit(match["unit"])).to(unit).magnitude
 
 
 def to_magnitude(raw: Any, unit: str) -> float:

@@ -32,16 +32,40 @@ class CalculationRequestSerializer(serializers.Serializer):
     inputs = serializers.DictField(
         help_text='Input name to value: a number in the default unit, or a quantity string such as "2015 mg"'
     )
+    minimum = serializers.CharField(
+        required=False, allow_blank=True, help_text="Lower limit to judge the result against, as written (\"187\")"
+    )
+    maximum = serializers.CharField(
+        required=False, allow_blank=True, help_text="Upper limit to judge the result against, as written (\"0.6\")"
+    )
+    oil_type = serializers.CharField(
+        required=False, allow_blank=True, help_text="Judge against the method's Codex default limits for this oil type"
+    )
+    comparison = serializers.ChoiceField(
+        choices=["absolute", "rounding"], required=False, help_text="ASTM E29 comparison; absolute by default"
+    )
+
+
+class CalculationLimitsSerializer(serializers.Serializer):
+    minimum = serializers.CharField(allow_null=True)
+    maximum = serializers.CharField(allow_null=True)
+    comparison = serializers.CharField()
+    source = serializers.CharField(help_text="Where default limits came from; empty for limits given")
 
 
 class CalculationResultSerializer(serializers.Serializer):
     method = serializers.CharField()
     method_version = serializers.CharField()
-    value = serializers.FloatField(help_text="Unrounded result")
+    value = serializers.FloatField(help_text="Unrounded result, as a float (for statistics)")
+    exact = serializers.CharField(help_text="Unrounded result in exact decimal arithmetic; verdicts are decided on it")
     reported = serializers.CharField(help_text="Rounded to the reporting precision, ASTM E29 (half to even)")
     unit = serializers.CharField()
     decimals = serializers.IntegerField()
     inputs = serializers.DictField(help_text="Inputs as used, in each input's default unit")
+    limits = CalculationLimitsSerializer(allow_null=True, help_text="The limits judged against; null when none given")
+    verdict = serializers.ChoiceField(
+        choices=["pass", "oos"], allow_null=True, help_text="pass or oos against the limits; null when none given"
+    )
 
 
 class MethodListView(APIView):
@@ -71,5 +95,13 @@ class CalculationView(APIView):
     def post(self, request: Request) -> Response:
         serializer = CalculationRequestSerializer(data=request.data)
         serializer.is_valid(raise_exception=True)
-        result = calculation_run(serializer.validated_data["method"], serializer.validated_data["inputs"])
-        return Response(result.as_dict())
+        data = serializer.validated_data
+        calculation = calculation_run(
+            data["method"],
+            data["inputs"],
+            minimum=data.get("minimum"),
+            maximum=data.get("maximum"),
+            oil_type=data.get("oil_type"),
+            comparison=data.get("comparison"),
+        )
+        return Response(calculation.as_dict())

@@ -24,6 +24,9 @@ class Result(models.Model):
     status = models.CharField(max_length=16, choices=ResultStatus.choices, default=ResultStatus.CURRENT)
     inputs = models.JSONField(help_text="raw inputs exactly as entered")
     value = models.FloatField(help_text="computed by the plugin, unrounded")
+    value_exact = models.TextField(
+        blank=True, help_text="the unrounded value in exact decimal arithmetic, as a Decimal string; verdicts are decided on it"
+    )
     reported = models.CharField(max_length=40, help_text="ASTM E29 rounded, Decimal string")
     unit = models.CharField(max_length=40)
     method_code = models.CharField(max_length=40)

@@ -58,6 +58,9 @@ class Test(models.Model):
     retest_of = models.ForeignKey("self", null=True, blank=True, on_delete=models.PROTECT, related_name="retests")
     # Set when every replicate has a current result (and cleared by send-back / correction).
     value = models.FloatField(null=True, blank=True, help_text="mean of the replicates, unrounded")
+    value_exact = models.TextField(
+        blank=True, help_text="the mean in exact decimal arithmetic, as a Decimal string; the verdict is decided on it"
+    )
     reported = models.CharField(max_length=40, blank=True, help_text="ASTM E29 rounded mean, Decimal string")
     unit = models.CharField(max_length=40, blank=True)
     verdict = models.CharField(max_length=8, choices=Verdict.choices, blank=True)

@@ -1,21 +1,105 @@
-"""Stateless calculation of one determination, shared by the CLI and the API."""
+"""Stateless calculation of one determination, shared by the CLI and the API.
+
+Given limits (or a Codex oil type for the method's default limits), the result is also
+judged, exactly as a result entered against a specification line would be.
+"""
 from __future__ import annotations
 
 from collections.abc import Mapping
+from dataclasses import dataclass
+from decimal import Decimal
 from typing import Any
 
 from analyses.errors import InvalidInput, NotFound
-from plugins.contract import MethodInputError, MethodResult
+from analyses.models import Comparison
+from analyses.services.specifications import limit_as_written
+from analyses.services.verdicts import verdict_for
+from plugins.contract import MethodInputError, MethodPlugin, MethodResult
 from plugins.registry import UnknownMethod, get_registry
 
 
-def calculation_run(method_code: str, inputs: Mapping[str, Any]) -> MethodResult:
-    """Validate ``inputs`` for the method and compute one result; nothing is stored."""
+@dataclass(frozen=True)
+class CalculationLimits:
+    minimum: str  # as written, "" where none
+    maximum: str
+    comparison: str
+    source: str  # "" for limits the caller gave
+
+
+@dataclass(frozen=True)
+class Calculation:
+    result: MethodResult
+    limits: CalculationLimits | None
+    verdict: str | None
+
+    def as_dict(self) -> dict[str, Any]:
+        out = self.result.as_dict()
+        out["limits"] = None if self.limits is None else {
+            "minimum": self.limits.minimum or None,
+            "maximum": self.limits.maximum or None,
+            "comparison": self.limits.comparison,
+            "source": self.limits.source,
+        }
+        out["verdict"] = self.verdict
+        return out
+
+
+def _limits(
+    plugin: MethodPlugin, minimum: Any, maximum: Any, oil_type: str | None, comparison: str | None
+) -> CalculationLimits | None:
+    low = limit_as_written(minimum, "minimum")
+    high = limit_as_written(maximum, "maximum")
+    source = ""
+    if oil_type:
+        if low or high:
+            raise InvalidInput.for_field("oil_type", "give either limits or a Codex oil type, not both")
+        default = plugin.limits_for(oil_type)
+        if default is None:
+            known = ", ".join(sorted(limit.oil_type for limit in plugin.spec_limits)) or "none"
+            raise InvalidInput.for_field(
+                "oil_type", f"method {plugin.code} has no default limits for {oil_type!r} (known: {known})"
+            )
+        low = limit_as_written(default.minimum, "minimum")
+        high = limit_as_written(default.maximum, "maximum")
+        source = f"{default.source}; {oil_type}; {default.evidence}"
+    chosen = comparison or Comparison.ABSOLUTE
+    if chosen not in Comparison.values:
+        raise InvalidInput.for_field("comparison", f"must be one of {', '.join(Comparison.values)}")
+    if not low and not high:
+        if comparison:
+            raise InvalidInput.for_field("comparison", "needs a minimum, a maximum or an oil type to compare with")
+        return None
+    if low and high and Decimal(low) > Decimal(high):
+        raise InvalidInput.for_field("maximum", f"must not be below the minimum {low}")
+    return CalculationLimits(low, high, chosen, source)
+
+
+def calculation_run(
+    method_code: str,
+    inputs: Mapping[str, Any],
+    *,
+    minimum: Any = None,
+    maximum: Any = None,
+    oil_type: str | None = None,
+    comparison: str | None = None,
+) -> Calculation:
+    """Validate ``inputs`` for the method and compute one result; nothing is stored. With
+    limits, judge it as a specification line would (exact decimal arithmetic, ASTM E29)."""
     try:
         plugin = get_registry().get(method_code)
     except UnknownMethod as exc:
         raise NotFound(str(exc)) from None
+    limits = _limits(plugin, minimum, maximum, oil_type, comparison)
     try:
-        return plugin.calculate(inputs)
+        result = plugin.calculate(inputs)
     except MethodInputError as exc:
         raise InvalidInput.for_field(exc.field, exc.reason) from None
+    verdict = None
+    if limits is not None:
+        verdict = verdict_for(
+            result.judged,
+            minimum=Decimal(limits.minimum) if limits.minimum else None,
+            maximum=Decimal(limits.maximum) if limits.maximum else None,
+            comparison=limits.comparison,
+        )
+    return Calculation(result, limits, verdict)

@@ -17,7 +17,8 @@ from dataclasses import dataclass
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-import numpy as np
+from decimal import Decimal, localcontext
+
 from django.db import IntegrityError, transaction
 from django.utils import timezone
 
@@ -43,15 +44,15 @@ from analyses.services.access import (
 )
 from analyses.services.transitions import record_test_move, sample_require_workable
 from analyses.services.verdicts import line_verdict
-from plugins.contract import MethodInputError, MethodPlugin, MethodResult
+from plugins.contract import MethodInputError, MethodPlugin, MethodResult, exact_context, float_as_decimal
 from plugins.registry import UnknownMethod, get_registry
 
 RESULT_FIELDS = (
-    "test", "replicate", "version", "status", "inputs", "value", "reported", "unit",
+    "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
     "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
     "idempotency_key",
 )
-AGGREGATE_FIELDS = ("value", "reported", "unit", "verdict", "duplicate_check")
+AGGREGATE_FIELDS = ("value", "value_exact", "reported", "unit", "verdict", "duplicate_check")
 BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key"}
 KEY_MAX_CHARS = Result._meta.get_field("idempotency_key").max_length
 # the characters a reported value may take, in a result and in its test
@@ -138,15 +139,23 @@ def _check_workable(test: Test) -> None:
     sample_require_workable(test.sample)
 
 
-def _aggregate(plugin: MethodPlugin, test: Test, values: list[float], unit: str) -> dict[str, Any]:
-    """The test's result from its replicates: their mean, reported and judged like a
-    single result, and the plugin's duplicate check (repeatability)."""
-    mean = float(np.mean(values))
+def exact_value(result: Result) -> Decimal:
+    """The value a result is judged on: its exact decimal value, or for a row stored before
+    exact values were kept, its float through the documented 15-digit guard."""
+    return Decimal(result.value_exact) if result.value_exact else float_as_decimal(result.value)
+
+
+def _aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: str) -> dict[str, Any]:
+    """The test's result from its replicates: their mean in exact decimal arithmetic,
+    reported and judged like a single result, and the plugin's duplicate check."""
+    with localcontext(exact_context()):
+        mean = sum(values) / len(values)
     check = plugin.duplicate_check(values)
     reported = str(plugin.report(mean))
     _check_reportable(reported, unit)
     return {
-        "value": mean,
+        "value": float(mean),
+        "value_exact": str(mean),
         "reported": reported,
         "unit": unit,
         "verdict": line_verdict(mean, test.specification_line),
@@ -157,7 +166,7 @@ def _aggregate(plugin: MethodPlugin, test: Test, values: list[float], unit: str)
 def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | None, *, reason: str) -> None:
     """Store (or clear, with None) the test's aggregate fields, recording the change."""
     before = {name: getattr(test, name) for name in AGGREGATE_FIELDS}
-    cleared = {"value": None, "reported": "", "unit": "", "verdict": "", "duplicate_check": None}
+    cleared = {"value": None, "value_exact": "", "reported": "", "unit": "", "verdict": "", "duplicate_check": None}
     after = aggregate if aggregate is not None else cleared
     for name, value in after.items():
         setattr(test, name, value)
@@ -175,11 +184,12 @@ def _result_fields(actor: Actor, test: Test, inputs: Any, outcome: MethodResult,
         "test": test,
         "inputs": json_safe(dict(inputs)),
         "value": outcome.value,
+        "value_exact": str(outcome.judged),
         "reported": str(outcome.reported),
         "unit": outcome.unit,
         "method_code": outcome.code,
         "method_version": outcome.version,
-        "verdict": line_verdict(outcome.value, test.specification_line),
+        "verdict": line_verdict(outcome.judged, test.specification_line),
         "duplicate_check": aggregate["duplicate_check"] if aggregate else None,
         "entered_by": actor,
         "entered_at": timezone.now(),
@@ -258,7 +268,7 @@ def result_record_once(
             raise Conflict(f"test {test.pk} already has replicate {replicate} (result {current[replicate].pk}); correct it instead")
         plugin = _plugin(test)
         outcome = _calculate(plugin, test, inputs)
-        values = [r.value for r in current.values()] + [outcome.value]
+        values = [exact_value(r) for r in current.values()] + [outcome.judged]
         complete = len(values) == test.replicates
         aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
         result = Result(
@@ -394,8 +404,8 @@ def result_correct_once(
             actor, AuditAction.TRANSITION, old, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]},
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
         )
-        others = [r.value for r in test.results.filter(status=ResultStatus.CURRENT)]
-        values = others + [outcome.value]
+        others = [exact_value(r) for r in test.results.filter(status=ResultStatus.CURRENT)]
+        values = others + [outcome.judged]
         complete = len(values) == test.replicates
         aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
         correction = Result(

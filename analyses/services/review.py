@@ -88,7 +88,7 @@ def test_send_back(actor: Actor, test: Test | int, *, reason: str) -> Test:
         set_test_aggregate(actor, test, None, reason=reason)
         record_test_move(actor, test, TestState.SENT_BACK, reason=reason)
         test.review_note = reason
-        test.save(update_fields=["state", "review_note", "value", "reported", "unit", "verdict", "duplicate_check"])
+        test.save(update_fields=["state", "review_note", "value", "value_exact", "reported", "unit", "verdict", "duplicate_check"])
     return test
 
 

@@ -42,7 +42,7 @@ LINE_KEYS = {"method", "minimum", "maximum", "codex_oil_type", "release_critical
 LIMIT_MAX_CHARS = SpecificationLine._meta.get_field("maximum").max_length
 
 
-def _limit(raw: Any, field: str) -> str:
+def limit_as_written(raw: Any, field: str) -> str:
     """A limit as a Decimal string in plain notation, keeping the places it was written with
     ("0.60" stays "0.60", "0.0000001" stays so, not "1E-7"; "1E+1" is written out "10").
     InvalidInput on ``field`` when it is not a finite number or does not fit in
@@ -82,8 +82,8 @@ def _clean_line(raw: Any, index: int) -> dict[str, Any]:
         plugin = get_registry().get(code)
     except UnknownMethod as exc:
         raise InvalidInput.for_field(f"{prefix}.method", str(exc)) from None
-    minimum = _limit(raw.get("minimum"), f"{prefix}.minimum")
-    maximum = _limit(raw.get("maximum"), f"{prefix}.maximum")
+    minimum = limit_as_written(raw.get("minimum"), f"{prefix}.minimum")
+    maximum = limit_as_written(raw.get("maximum"), f"{prefix}.maximum")
     oil_type = str(raw.get("codex_oil_type") or "").strip()
     source = ""
     if oil_type:
@@ -95,8 +95,8 @@ def _clean_line(raw: Any, index: int) -> dict[str, Any]:
             raise InvalidInput.for_field(
                 f"{prefix}.codex_oil_type", f"method {code} has no default limits for {oil_type!r} (known: {known})"
             )
-        minimum = _limit(default.minimum, f"{prefix}.minimum")
-        maximum = _limit(default.maximum, f"{prefix}.maximum")
+        minimum = limit_as_written(default.minimum, f"{prefix}.minimum")
+        maximum = limit_as_written(default.maximum, f"{prefix}.maximum")
         source = f"{default.source}; {oil_type}; {default.evidence}"
     if not minimum and not maximum:
         raise InvalidInput.for_field(f"{prefix}.minimum", "give a minimum, a maximum, or a Codex oil type")

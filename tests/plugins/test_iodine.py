@@ -35,7 +35,7 @@ def test_weighed_example_with_unrounded_inputs():
 def test_factor_12_69_is_half_the_molar_mass_of_iodine_per_100_g():
     # Cd 1d-92 (found) writes 12.69; two thiosulfate per I2, mL -> L, per 100 g:
     # 253.81 / 2 / 1000 x 100 with I2 from molmass (computed).
-    assert IODINE_FACTOR == 12.69
+    assert IODINE_FACTOR == Decimal("12.69")
     assert Formula("I2").mass / 2 / 1000 * 100 == pytest.approx(12.69, abs=0.001)
 
 

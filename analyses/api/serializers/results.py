@@ -19,7 +19,7 @@ class ResultSerializer(serializers.ModelSerializer):
     class Meta:
         model = Result
         fields = [
-            "id", "test", "replicate", "version", "status", "inputs", "value", "reported", "unit",
+            "id", "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
             "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
             "status_reason", "entered_by", "entered_at",
         ]

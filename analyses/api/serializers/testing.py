@@ -30,7 +30,7 @@ class TestSerializer(serializers.ModelSerializer):
         fields = [
             "id", "sample", "sample_label", "lot", "lot_code", "product_code", "method_code", "replicates",
             "priority", "due_on", "is_overdue", "state", "assignee", "assigned_at", "retest_of",
-            "value", "reported", "unit", "verdict", "duplicate_check", "minimum", "maximum", "comparison",
+            "value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "minimum", "maximum", "comparison",
             "release_critical", "reviewed_by", "reviewed_at", "review_note", "created_at",
         ]
         read_only_fields = fields

@@ -71,3 +71,32 @@ def test_schema_and_docs_are_served(api, db):
     assert schema.status_code == 200
     assert "/api/calculations/" in schema.json()["paths"]
     assert api.get("/api/docs/").status_code == 200
+
+
+# The audit's five exact-at-limit reproducers (issue 7), sent as a user would: limits as the
+# Codex defaults (CXS 210 maize SV min 187, palm IV min 50.0, refined AV max 0.6 and PV max 10;
+# found) or, for FFA, our own test limit 0.3.
+EXACT_AT_LIMIT = [
+    ("sv", {"sample_mass": "1.965", "sample_volume": "11.90", "blank_volume": "25.00", "titrant_concentration": "0.5"}, {"oil_type": "maize"}),
+    ("av", {"sample_mass": "9.35", "sample_volume": "1.00", "titrant_concentration": "0.1"}, {"oil_type": "refined"}),
+    ("iv", {"sample_mass": "0.2538", "sample_volume": "40.0", "blank_volume": "50.0", "titrant_concentration": "0.1"}, {"oil_type": "palm"}),
+    ("pv", {"sample_mass": "4.97", "sample_volume": "4.97", "titrant_concentration": "0.01"}, {"oil_type": "refined"}),
+    ("ffa", {"sample_mass": "9.4", "sample_volume": "1.00", "titrant_concentration": "0.1"}, {"maximum": "0.3"}),
+]
+
+
+@pytest.mark.parametrize(("method", "inputs", "limits"), EXACT_AT_LIMIT)
+@pytest.mark.parametrize("as_json_numbers", [False, True])
+def test_calculation_passes_every_exact_at_limit_case(api, db, method, inputs, limits, as_json_numbers):
+    sent = {k: float(v) for k, v in inputs.items()} if as_json_numbers else inputs
+    response = api.post("/api/calculations/", {"method": method, "inputs": sent, **limits}, format="json")
+    assert response.status_code == 200, response.json()
+    body = response.json()
+    assert body["verdict"] == "pass"
+    assert body["limits"]["comparison"] == "absolute"
+
+
+def test_calculation_without_limits_has_no_verdict(api, db):
+    response = api.post("/api/calculations/", {"method": EXACT_AT_LIMIT[1][0], "inputs": EXACT_AT_LIMIT[1][1]}, format="json")
+    assert response.json()["verdict"] is None
+    assert response.json()["limits"] is None

@@ -107,3 +107,20 @@ def test_results_of_an_accepted_test_cannot_be_corrected(lab, clients):
     response = clients["admin"].post(f"/api/results/{result.pk}/correct/", {"inputs": AV_LOW, "reason": "late"}, format="json")
     assert response.status_code == 409
     assert Result.objects.filter(test=av_test).count() == 2
+
+
+def test_results_exactly_at_the_limit_pass_over_rest(lab, clients):
+    # The audit's AV and PV reproducers (issue 7) against the lab's Codex refined-oil limits, AV max 0.6
+    # by the absolute method and PV max 10 by the rounding method (CXS 210 appendix, found). On paper
+    # AV = 1.00 x 0.1 x 56.1 / 9.35 = 0.6 and PV = 4.97 x 0.01 x 1000 / 4.97 = 10 exactly.
+    av_test, pv_test = lab.assigned("analyst")
+    av = {"sample_mass": "9.35", "sample_volume": "1.00", "titrant_concentration": "0.1"}
+    pv = {"sample_mass": "4.97", "sample_volume": "4.97", "titrant_concentration": "0.01"}
+    for test, inputs in ((av_test, av), (pv_test, pv)):
+        as_text = clients["analyst"].post("/api/results/", {"test": test.pk, "inputs": inputs}, format="json")
+        as_numbers = clients["analyst"].post(
+            "/api/results/", {"test": test.pk, "inputs": {k: float(v) for k, v in inputs.items()}}, format="json"
+        )
+        assert as_text.status_code == as_numbers.status_code == 201, as_text.json()
+        assert as_text.json()["verdict"] == as_numbers.json()["verdict"] == "pass"
+        assert clients["analyst"].get(f"/api/tests/{test.pk}/").json()["verdict"] == "pass"

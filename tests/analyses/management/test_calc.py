@@ -73,3 +73,55 @@ def test_calc_rejects_an_argument_without_equals_sign():
 def test_calc_refuses_an_input_given_twice():
     with pytest.raises(CommandError, match="sample_mass: given twice"):
         call_command("calc", "pv", "sample_mass=5", "sample_mass=6", "sample_volume=1", "titrant_concentration=0.01")
+
+
+# The audit's five exact-at-limit reproducers (issue 7). Limits: Codex CXS 210 maize SV min 187 and palm
+# IV min 50.0 (found); CXS 210 appendix AV max 0.6 and PV max 10 for refined oils (found); FFA max 0.3
+# is our own test limit. Each result is the limit exactly on paper.
+EXACT_AT_LIMIT = [
+    (["sv", "sample_mass=1.965", "sample_volume=11.90", "blank_volume=25.00", "titrant_concentration=0.5", "--oil-type", "maize"], "187.0"),
+    (["av", "sample_mass=9.35", "sample_volume=1.00", "titrant_concentration=0.1", "--oil-type", "refined"], "0.60"),
+    (["iv", "sample_mass=0.2538", "sample_volume=40.0", "blank_volume=50.0", "titrant_concentration=0.1", "--oil-type", "palm"], "50.0"),
+    (["pv", "sample_mass=4.97", "sample_volume=4.97", "titrant_concentration=0.01", "--oil-type", "refined"], "10.0"),
+    (["ffa", "sample_mass=9.4", "sample_volume=1.00", "titrant_concentration=0.1", "--maximum", "0.3"], "0.30"),
+]
+
+
+@pytest.mark.parametrize(("args", "reported"), EXACT_AT_LIMIT)
+@pytest.mark.parametrize("comparison", ["absolute", "rounding"])
+def test_calc_passes_every_exact_at_limit_case(capsys, args, reported, comparison):
+    call_command("calc", *args, "--comparison", comparison, "--json")
+    out = json.loads(capsys.readouterr().out)
+    assert out["reported"] == reported
+    assert out["verdict"] == "pass"
+    assert out["limits"]["comparison"] == comparison
+
+
+def test_calc_plain_output_names_the_verdict_and_the_limit():
+    # as a user runs it: the audit's SV case against the Codex maize minimum
+    done = run_manage("calc", *EXACT_AT_LIMIT[0][0])
+    assert done.returncode == 0, done.stderr
+    assert "187.0 mg KOH/g" in done.stdout
+    assert "verdict: pass  (min 187 to max 195, ASTM E29 absolute)" in done.stdout
+
+
+def test_calc_judges_just_beyond_the_limit_as_oos(capsys):
+    # 9.34 g instead of 9.35 g: AV = 5.61 / 9.34 = 0.6006... > 0.6 (ISO 660 formula)
+    call_command("calc", "av", "sample_mass=9.34", "sample_volume=1.00", "titrant_concentration=0.1", "--maximum", "0.6", "--json")
+    assert json.loads(capsys.readouterr().out)["verdict"] == "oos"
+
+
+@pytest.mark.parametrize(
+    ("extra", "field"),
+    [
+        (["--oil-type", "olive_lampante"], "oil_type"),
+        (["--maximum", "abc"], "maximum"),
+        (["--minimum", "2", "--maximum", "1"], "maximum"),
+        (["--maximum", "1", "--comparison", "nearest"], "comparison"),
+        (["--comparison", "rounding"], "comparison"),
+        (["--maximum", "1", "--oil-type", "refined"], "oil_type"),
+    ],
+)
+def test_calc_bad_limits_name_the_field(extra, field):
+    with pytest.raises(CommandError, match=field):
+        call_command("calc", "av", "sample_mass=9.35", "sample_volume=1.00", "titrant_concentration=0.1", *extra)

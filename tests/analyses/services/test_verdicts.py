@@ -126,3 +126,60 @@ def test_results_take_the_comparison_their_specification_line_names(users):
     assert first.verdict == PASS
     result_record(analyst, tests["pv"], inputs=pv_inputs)
     assert Test.objects.get(pk=tests["pv"].pk).verdict == PASS
+
+
+# The audit's five exact-at-limit reproducers (issue 7), entered as results against specification
+# lines that carry the Codex defaults (CXS 210 maize SV min 187, palm IV min 50.0, refined AV max 0.6
+# and PV max 10; found) and, for FFA, our own test limit of 0.3 % as oleic.
+EXACT_AT_LIMIT = {
+    "sv": ({"codex_oil_type": "maize"}, {"sample_mass": "1.965", "sample_volume": "11.90", "blank_volume": "25.00", "titrant_concentration": "0.5"}, "187.0"),
+    "av": ({"codex_oil_type": "refined"}, {"sample_mass": "9.35", "sample_volume": "1.00", "titrant_concentration": "0.1"}, "0.60"),
+    "iv": ({"codex_oil_type": "palm"}, {"sample_mass": "0.2538", "sample_volume": "40.0", "blank_volume": "50.0", "titrant_concentration": "0.1"}, "50.0"),
+    "pv": ({"codex_oil_type": "refined"}, {"sample_mass": "4.97", "sample_volume": "4.97", "titrant_concentration": "0.01"}, "10.0"),
+    "ffa": ({"maximum": "0.3"}, {"sample_mass": "9.4", "sample_volume": "1.00", "titrant_concentration": "0.1"}, "0.30"),
+}
+
+
+@pytest.mark.django_db
+@pytest.mark.parametrize("comparison", ["absolute", "rounding"])
+def test_results_exactly_at_a_limit_pass_and_their_test_passes(users, comparison):
+    manager, qa, analyst = users["manager"], users["qa"], users["analyst"]
+    product = product_create(manager, code="XAL", name="Invented exact-limit oil", oil_type="maize")
+    draft = specification_create(
+        manager, product, effective_from="2020-01-01",
+        lines=[{"method": code, "comparison": comparison, **limits} for code, (limits, _, _) in EXACT_AT_LIMIT.items()],
+    )
+    specification_approve(qa, draft)
+    lot = lot_create(manager, code="XAL-1", product=product, origin="production")
+    sample = sample_receive(manager, sample_register(manager, lot), condition="ok", storage_place="shelf")
+    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
+    test_assign_bulk(manager, list(tests.values()), assignee=analyst)
+    for code, (_, inputs, reported) in EXACT_AT_LIMIT.items():
+        first = result_record(analyst, tests[code], inputs=inputs)
+        assert (first.reported, first.verdict) == (reported, PASS), code
+        assert Decimal(first.value_exact) == Decimal(reported), code
+        result_record(analyst, tests[code], inputs={k: float(v) for k, v in inputs.items()})  # as JSON numbers
+        test = Test.objects.get(pk=tests[code].pk)
+        assert (test.reported, test.verdict) == (reported, PASS), code
+        assert Decimal(test.value_exact) == Decimal(reported), code
+
+
+@pytest.mark.django_db
+def test_duplicates_whose_mean_is_the_limit_pass_exactly(users):
+    """Two replicates either side of the limit average to it exactly: 0.59 and 0.61 -> 0.6 (ISO 660)."""
+    manager, qa, analyst = users["manager"], users["qa"], users["analyst"]
+    product = product_create(manager, code="XAM", name="Invented mean-at-limit oil", oil_type="soybean")
+    specification_approve(qa, specification_create(
+        manager, product, effective_from="2020-01-01", lines=[{"method": "av", "maximum": "0.6"}]
+    ))
+    lot = lot_create(manager, code="XAM-1", product=product, origin="production")
+    sample = sample_receive(manager, sample_register(manager, lot), condition="ok", storage_place="shelf")
+    test = Test.objects.get(sample=sample)
+    test_assign_bulk(manager, [test], assignee=analyst)
+    # AV = V x 0.1 x 56.1 / m: 0.59 from 1.00 mL on 9.508474... is not writable; use the mass 5.61 g:
+    # 0.59 mL -> 0.59, 0.61 mL -> 0.61 (ISO 660 formula, 0.1 x 56.1 / 5.61 = 1 per mL)
+    assert result_record(analyst, test, inputs={"sample_mass": "5.61", "sample_volume": "0.59", "titrant_concentration": "0.1"}).verdict == PASS
+    assert result_record(analyst, test, inputs={"sample_mass": "5.61", "sample_volume": "0.61", "titrant_concentration": "0.1"}).verdict == OOS
+    test.refresh_from_db()
+    assert Decimal(test.value_exact) == Decimal("0.6")
+    assert test.verdict == PASS
