@@ -9,6 +9,7 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from analyses.api.schema import errors
+from analyses.models import Comparison, Verdict
 from analyses.selectors.methods import method_detail, method_list
 from analyses.services.calculation import calculation_run
 
@@ -42,7 +43,7 @@ class CalculationRequestSerializer(serializers.Serializer):
         required=False, allow_blank=True, help_text="Judge against the method's Codex default limits for this oil type"
     )
     comparison = serializers.ChoiceField(
-        choices=["absolute", "rounding"], required=False, help_text="ASTM E29 comparison; absolute by default"
+        choices=Comparison.choices, required=False, help_text="ASTM E29 comparison; absolute by default"
     )
 
 
@@ -64,7 +65,7 @@ class CalculationResultSerializer(serializers.Serializer):
     inputs = serializers.DictField(help_text="Inputs as used, in each input's default unit")
     limits = CalculationLimitsSerializer(allow_null=True, help_text="The limits judged against; null when none given")
     verdict = serializers.ChoiceField(
-        choices=["pass", "oos"], allow_null=True, help_text="pass or oos against the limits; null when none given"
+        choices=Verdict.choices, allow_null=True, help_text="pass or oos against the limits; null when none given"
     )
 
 
