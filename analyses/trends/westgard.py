@@ -2,6 +2,8 @@
 
 Rule definitions as in /work/shared/references.md (Westgard multirules, "found").
 "Beyond ±k s" is strict: |z| > k, so a point at exactly 2.0 s does not trigger 1-2s.
+These rules look at one control material; ``across_materials`` compares the materials
+(levels) measured in the same run.
 """
 from __future__ import annotations
 
