@@ -3,6 +3,8 @@
 A QC series is one method on the check samples of one reference lot ("qc:<lot>:<method>");
 a production series is one method on the routine samples of one product
 ("production:<product>:<method>"). Only accepted tests count, in order of receipt.
+Each reference lot is one control material (level); the QC series of one method checked
+on the same day form one run, and alerts comparing them carry the key "qc-runs:<method>".
 """
 from __future__ import annotations
 
@@ -14,6 +16,7 @@ from django.db.models import Q
 
 from analyses.models import SampleKind, SeriesKind, Test, TestState
 
+QC_RUNS_PREFIX = "qc-runs"
 SERIES_COLUMNS = [
     "test_id", "series_id", "kind", "method_code", "lot_id", "product_id", "received_at", "value", "verdict", "run_id", "sequence",
 ]
@@ -21,6 +24,11 @@ SERIES_COLUMNS = [
 
 def series_key(kind: str, owner_id: int, method_code: str) -> str:
     return f"{kind}:{owner_id}:{method_code}"
+
+
+def qc_runs_key(method_code: str) -> str:
+    """The key of the alerts that compare the control materials of one method in a run."""
+    return f"{QC_RUNS_PREFIX}:{method_code}"
 
 
 def _series_filter(series_keys: Iterable[str]) -> Q:
@@ -38,17 +46,22 @@ def _series_filter(series_keys: Iterable[str]) -> Q:
     return wanted
 
 
-def trend_series_frame(series_keys: Iterable[str] | None = None) -> pd.DataFrame:
-    """Accepted QC-check and routine results (of ``series_keys``, or all), one row per test,
-    ordered by series and receipt. A QC check's run is its day of receipt (the batch it was
-    run with), which the Westgard R-4s rule compares within."""
+def trend_series_frame(series_keys: Iterable[str] | None = None, qc_methods: Iterable[str] = ()) -> pd.DataFrame:
+    """Accepted QC-check and routine results (of ``series_keys`` and of every QC series of
+    ``qc_methods``, or all), one row per test, ordered by series and receipt. A QC check's
+    run is its day of receipt: every control material of a method checked that day is in
+    the same run, which the Westgard R-4s, 2-2s and 2 of 3 2s rules compare within."""
     rows = Test.objects.filter(
         state=TestState.ACCEPTED,
         value__isnull=False,
         sample__kind__in=(SampleKind.QC_CHECK, SampleKind.ROUTINE),
     )
     if series_keys is not None:
-        rows = rows.filter(_series_filter(series_keys))
+        wanted = _series_filter(series_keys)
+        methods = sorted(set(qc_methods))
+        if methods:
+            wanted |= Q(sample__kind=SampleKind.QC_CHECK, method_code__in=methods)
+        rows = rows.filter(wanted)
     rows = rows.values_list(
         "id", "method_code", "value", "verdict", "sample__kind", "sample__lot_id", "sample__lot__product_id", "sample__received_at",
     )

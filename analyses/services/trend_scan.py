@@ -1,6 +1,7 @@
 """The periodic trend scan: every series against its rules, one alert per episode.
 
-QC check series get the Westgard multirules; production series the Nelson rules, an
+QC check series get the Westgard multirules, each control material on its own and the
+materials of one method against each other within a run; production series the Nelson rules, an
 EWMA chart and the out-of-trend rule. Each series' mean and SD come from a baseline
 entered by QA or, failing that, are established once from its first
 ``MINIMUM_BASELINE_POINTS`` results and stored.
@@ -18,10 +19,11 @@ from django.utils import timezone
 from analyses.audit import audit_append, created
 from analyses.errors import InvalidInput
 from analyses.models import Alert, AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind, Verdict
-from analyses.selectors.trend_series import trend_series_frame
+from analyses.selectors.trend_series import qc_runs_key, trend_series_frame
 from analyses.services.access import Actor, require_permission
 from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.system import scheduler_actor
+from analyses.trends.across_materials import across_materials_scan
 from analyses.trends.rules import RULES
 from analyses.trends.scan import series_scan
 from analyses.trends.westgard import MINIMUM_BASELINE_POINTS
@@ -65,8 +67,10 @@ def control_baseline_set(actor: Actor, *, series_key: str, mean: float, sd: floa
 
 
 def trend_scan(series_keys: Iterable[str] | None = None) -> ScanSummary:
-    """Scan the given series (default: all) and raise one alert per new episode."""
-    frame = trend_series_frame(series_keys)
+    """Scan the given series (default: all) and raise one alert per new episode. A QC
+    series brings in every QC series of its method, whose runs it is compared within."""
+    keys = None if series_keys is None else [str(key) for key in series_keys]
+    frame = trend_series_frame(keys, qc_methods=_qc_methods(keys or []))
     summary = ScanSummary(results_scanned=len(frame), series_scanned=int(frame["series_id"].nunique()))
     if frame.empty:
         return summary
@@ -84,6 +88,8 @@ def trend_scan(series_keys: Iterable[str] | None = None) -> ScanSummary:
         )
         summary.episodes += len(episodes)
         drafts += _drafts(part, episodes)
+        if kind == SeriesKind.QC_CHECK:
+            drafts += _across_material_drafts(part, limits, summary)
     summary.alerts_raised = len(alerts_raise(_not_yet_alerted(drafts)))
     return summary
 
@@ -106,6 +112,11 @@ def _not_yet_alerted(drafts: list[AlertDraft]) -> list[AlertDraft]:
             fresh.append(draft)
             alerted |= tests
     return fresh
+
+
+def _qc_methods(series_keys: list[str]) -> list[str]:
+    parts = [key.split(":") for key in series_keys]
+    return sorted({p[2] for p in parts if len(p) == 3 and p[0] == SeriesKind.QC_CHECK and p[2]})
 
 
 def _parse_key(series_key: str) -> tuple[str, str]:
@@ -170,13 +181,43 @@ def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:
                 series_key=episode.series_id,
                 episode_key=f"{episode.series_id}|{episode.rule}|{episode.side}|test{first_test}",
                 message=f"{rule.title} on series {episode.series_id}: {len(involved)} point(s) from test {first_test}",
-                points=[
-                    {"test_id": int(row.test_id), "value": float(row.value), "received_at": row.received_at.isoformat()}
-                    for row in involved.itertuples(index=False)
-                ],
+                points=[_point(row) for row in involved.itertuples(index=False)],
                 method_code=method_code,
                 product_id=int(first_row["product_id"]),
                 lot_id=int(first_row["lot_id"]) if kind == SeriesKind.QC_CHECK else None,
             )
         )
     return drafts
+
+
+def _across_material_drafts(part: pd.DataFrame, limits: pd.DataFrame, summary: ScanSummary) -> list[AlertDraft]:
+    """Alerts of the rules comparing a method's control materials within a run; an
+    alert names the method's runs ("qc-runs:<method>"), not one lot."""
+    ordered = part.sort_values(["method_code", "sequence"], kind="stable").reset_index(drop=True)
+    runs = ordered[["series_id", "sequence", "value", "run_id"]].assign(run_group=ordered["method_code"])
+    episodes = across_materials_scan(runs, limits.reset_index())
+    summary.episodes += len(episodes)
+    by_method = {code: group.reset_index(drop=True) for code, group in ordered.groupby("method_code", sort=False)}
+    drafts = []
+    for episode in episodes.itertuples(index=False):
+        involved = by_method[episode.series_id].iloc[list(episode.points)]
+        rule, key = RULES[episode.rule], qc_runs_key(episode.series_id)
+        first_test = int(involved["test_id"].iloc[0])
+        materials = ", ".join(sorted(involved["series_id"].unique()))
+        drafts.append(
+            AlertDraft(
+                source=AlertSource.TREND,
+                rule=episode.rule,
+                severity=AlertSeverity.WARNING if rule.warning_only else AlertSeverity.ALARM,
+                series_key=key,
+                episode_key=f"{key}|{episode.rule}|{episode.side}|test{first_test}",
+                message=f"{rule.title} on {key}: {len(involved)} control(s) of {materials} from test {first_test}",
+                points=[{**_point(row), "series_key": row.series_id} for row in involved.itertuples(index=False)],
+                method_code=str(episode.series_id),
+            )
+        )
+    return drafts
+
+
+def _point(row) -> dict:
+    return {"test_id": int(row.test_id), "value": float(row.value), "received_at": row.received_at.isoformat()}

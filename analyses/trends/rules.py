@@ -25,6 +25,14 @@ WESTGARD_RULES: tuple[TrendRule, ...] = (
     TrendRule("westgard_10_x", "westgard", "10-x: ten consecutive points on one side of the mean"),
 )
 
+# Across the control materials (levels) of one method measured in the same run; see
+# analyses/trends/across_materials.py for the sources.
+ACROSS_MATERIAL_RULES: tuple[TrendRule, ...] = (
+    TrendRule("westgard_r_4s_across", "westgard", "R-4s across materials: in one run, one control above +2 s and another below −2 s"),
+    TrendRule("westgard_2_2s_across", "westgard", "2-2s across materials: in one run, two controls beyond the same ±2 s"),
+    TrendRule("westgard_2of3_2s", "westgard", "2 of 3 2s: in a run of three levels, two controls beyond the same ±2 s"),
+)
+
 NELSON_RULES: tuple[TrendRule, ...] = (
     TrendRule("nelson_1", "nelson", "Nelson 1: one point beyond 3 σ"),
     TrendRule("nelson_2", "nelson", "Nelson 2: nine points in a row on one side of the centre line"),
@@ -41,5 +49,5 @@ EWMA_RULE = TrendRule("ewma", "ewma", "EWMA statistic beyond its control limits"
 OUT_OF_TREND_RULE = TrendRule("out_of_trend", "out_of_trend", "Result outside the prediction interval of its recent trend")
 
 RULES: dict[str, TrendRule] = {
-    rule.code: rule for rule in (*WESTGARD_RULES, *NELSON_RULES, EWMA_RULE, OUT_OF_TREND_RULE)
+    rule.code: rule for rule in (*WESTGARD_RULES, *ACROSS_MATERIAL_RULES, *NELSON_RULES, EWMA_RULE, OUT_OF_TREND_RULE)
 }

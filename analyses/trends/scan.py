@@ -60,7 +60,7 @@ def series_scan(
     if limits is None:
         mean, sd = _baseline_limits(values, layout, series_ids, baseline_points)
     else:
-        mean, sd = _given_limits(limits, series_ids)
+        mean, sd = given_limits(limits, series_ids)
     z = (values - mean[layout.group]) / sd[layout.group]
 
     marks: list[RuleMarks] = []
@@ -75,7 +75,7 @@ def series_scan(
         window, level = check_trend_parameters(trend_window, trend_level)
         times = _elapsed(ordered["sequence"], layout)
         marks += out_of_trend_marks(times, values, layout, window, level)
-    return _scan_table(episode_table(marks, layout), ordered["sequence"].to_numpy(), series_ids)
+    return scan_table(episode_table(marks, layout), ordered["sequence"].to_numpy(), series_ids)
 
 
 def _ordered(results: pd.DataFrame) -> tuple[pd.DataFrame, np.ndarray]:
@@ -128,7 +128,8 @@ def _baseline_limits(
     return _checked(stats["mean"].to_numpy(), stats["std"].to_numpy(), series_ids)
 
 
-def _given_limits(limits: pd.DataFrame, series_ids: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def given_limits(limits: pd.DataFrame, series_ids: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Mean and SD of each of ``series_ids`` from ``limits``; InvalidInput if one is missing or unusable."""
     table = limits.set_index("series_id") if "series_id" in limits.columns else limits
     if not {"mean", "sd"} <= set(table.columns):
         raise InvalidInput.for_field("limits", "needs columns mean and sd")
@@ -146,7 +147,8 @@ def _checked(mean: np.ndarray, sd: np.ndarray, series_ids: np.ndarray) -> tuple[
     return mean, sd
 
 
-def _scan_table(table: pd.DataFrame, sequence: np.ndarray, series_ids: np.ndarray) -> pd.DataFrame:
+def scan_table(table: pd.DataFrame, sequence: np.ndarray, series_ids: np.ndarray) -> pd.DataFrame:
+    """An ``episode_table`` as ``SCAN_COLUMNS``: series ids, sequence values and keys."""
     first_index = table["first_index"].to_numpy(dtype=np.int64)
     out = pd.DataFrame(
         {

@@ -2,6 +2,8 @@
 
 Rule definitions as in /work/shared/references.md (Westgard multirules, "found").
 "Beyond ±k s" is strict: |z| > k, so a point at exactly 2.0 s does not trigger 1-2s.
+These rules look at one control material; ``across_materials`` compares the materials
+(levels) measured in the same run.
 """
 from __future__ import annotations
 
@@ -22,7 +24,7 @@ from analyses.trends.episodes import (
 )
 from analyses.trends.inputs import finite_number, finite_vector, positive_number, same_length
 from analyses.trends.layout import SeriesLayout, layout_single
-from analyses.trends.windows import covered
+from analyses.trends.windows import covered, runs_covered
 
 # Westgard's advice is to set mean and SD from at least 20 control results (from memory).
 MINIMUM_BASELINE_POINTS = 20
@@ -112,10 +114,4 @@ def _range_marks(z: np.ndarray, layout: SeriesLayout, runs: np.ndarray | None) -
     )
     in_broken = broken[runs]
     # A broken run covers the stretch from its first to its last point.
-    index = np.flatnonzero(in_broken)
-    spans = pd.Series(index).groupby(runs[index]).agg(["min", "max"])
-    steps = np.zeros(len(z) + 1, dtype=np.int64)
-    np.add.at(steps, spans["min"].to_numpy(), 1)
-    np.add.at(steps, spans["max"].to_numpy() + 1, -1)
-    cover = np.cumsum(steps[:-1]) > 0
-    return RuleMarks("westgard_r_4s", "", (above | below) & in_broken, cover)
+    return RuleMarks("westgard_r_4s", "", (above | below) & in_broken, runs_covered(runs, in_broken))

@@ -28,3 +28,19 @@ def covered(trigger: np.ndarray, width: int) -> np.ndarray:
     totals = np.concatenate(([0], np.cumsum(trigger, dtype=np.int64)))
     start = np.arange(n)
     return (totals[np.minimum(start + width, n)] - totals[start]) > 0
+
+
+def runs_covered(runs: np.ndarray, member: np.ndarray) -> np.ndarray:
+    """True for every point from the first to the last point of each run that has a
+    ``member`` point (``runs``: one integer code per point)."""
+    index = np.flatnonzero(member)
+    steps = np.zeros(len(runs) + 1, dtype=np.int64)
+    if len(index):
+        code = runs[index]
+        order = np.argsort(code, kind="stable")
+        code, index = code[order], index[order]
+        begins = np.concatenate(([True], code[1:] != code[:-1]))
+        ends = np.concatenate((code[1:] != code[:-1], [True]))
+        np.add.at(steps, index[begins], 1)
+        np.add.at(steps, index[ends] + 1, -1)
+    return np.cumsum(steps[:-1]) > 0

@@ -4,6 +4,7 @@ import pytest
 from analyses.models import Alert, ControlBaseline, SampleKind
 from analyses.services.trend_scan import trend_scan
 from tests.analyses.series_setup import accepted_series
+from tests.factories import LotFactory
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), file signature
 MEAN, SD = 0.35, 0.01
@@ -90,3 +91,18 @@ def test_chart_errors_are_4xx(clients, lot):
     short = clients["qa"].get(f"/api/trends/series/production:{lot.product_id}:av/chart/")
     assert short.status_code == 400 and "series_key" in short.json()["fields"]
     assert clients["qa"].get(f"/api/trends/series/production:{lot.product_id}:av/chart/", {"chart": "pie"}).json()["fields"].keys() == {"chart"}
+
+
+def test_an_across_material_alert_is_listed_under_its_method_runs(clients):
+    # Westgard R-4s across the levels of one run (LabCE "Westgard Multi-Rule Approach", found):
+    # the low level at +2.5 s and the high level at −2.5 s on the same day.
+    levels = {"low": (LotFactory(code="REF-LOW"), 0.30, 0.01), "high": (LotFactory(code="REF-HIGH"), 2.00, 0.05)}
+    for lot, mean, sd in levels.values():
+        response = clients["qa"].post("/api/trends/baselines/", {"series_key": f"qc:{lot.pk}:av", "mean": mean, "sd": sd}, format="json")
+        assert response.status_code == 201, response.json()
+    for (lot, mean, sd), z in zip(levels.values(), (2.5, -2.5)):
+        accepted_series(lot, [mean + z * sd])
+    trend_scan()
+    listed = clients["analyst"].get("/api/alerts/", {"series_key": "qc-runs:av"}).json()
+    assert [a["rule"] for a in listed["results"]] == ["westgard_r_4s_across"]
+    assert {p["series_key"] for p in listed["results"][0]["points"]} == {f"qc:{lot.pk}:av" for lot, _, _ in levels.values()}

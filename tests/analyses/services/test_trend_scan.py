@@ -182,3 +182,88 @@ def test_a_named_series_is_read_alone(db, qc_lot):
     accepted_series(other, [MEAN] * 4)
     frame = trend_series_frame([f"qc:{other.pk}:av", "nonsense", "qc:999999999999999999999:av"])
     assert set(frame["series_id"]) == {f"qc:{other.pk}:av"} and len(frame) == 4
+
+
+# Across control materials within a run. Westgard (LabCE "Westgard Multi-Rule Approach",
+# labce.com/spg113780 and spg574557, found): R-4s and 2-2s compare the levels measured in the
+# same run; with three levels, 2 of 3 beyond the same 2 s. A run is one method on one day.
+LEVELS = {"low": (0.30, 0.01), "high": (2.00, 0.05), "third": (4.00, 0.10)}
+RUN_DAY = dt.datetime(2026, 4, 6, 8, tzinfo=dt.timezone.utc)
+
+
+@pytest.fixture
+def levels(db, users):
+    """Three invented control oils, each with its own baseline for the acid value and the peroxide value."""
+    lots = {name: LotFactory(code=f"REF-{name.upper()}") for name in LEVELS}
+    for name, (mean, sd) in LEVELS.items():
+        for method in ("av", "pv"):
+            control_baseline_set(users["qa"], series_key=f"qc:{lots[name].pk}:{method}", mean=mean, sd=sd)
+    return lots
+
+
+def check(lots, name: str, z: float, day: int = 0, method: str = "av"):
+    """One accepted QC check of level ``name`` at ``z`` s, received on RUN_DAY + ``day``."""
+    mean, sd = LEVELS[name]
+    return accepted_series(lots[name], [mean + z * sd], method_code=method, start=RUN_DAY + dt.timedelta(days=day), first_index=day)[0]
+
+
+def test_r_4s_fires_on_a_two_level_run_once(levels):
+    low, high = check(levels, "low", 2.5), check(levels, "high", -2.5)
+    first = trend_scan()
+    alert = Alert.objects.get(rule="westgard_r_4s_across")
+    assert alert.series_key == "qc-runs:av" and alert.method_code == "av" and alert.lot_id is None
+    assert alert.severity == AlertSeverity.ALARM
+    assert sorted((p["test_id"], p["series_key"]) for p in alert.points) == sorted(
+        [(low.pk, f"qc:{levels['low'].pk}:av"), (high.pk, f"qc:{levels['high'].pk}:av")]
+    )
+    assert first.alerts_raised >= 1
+    assert not Alert.objects.filter(rule="westgard_r_4s").exists()  # one check per level: the within-material rule cannot see it
+    assert trend_scan().alerts_raised == 0
+
+
+def test_r_4s_does_not_compare_different_days_or_methods(levels):
+    check(levels, "low", 2.5, day=0)
+    check(levels, "high", -2.5, day=1)
+    check(levels, "low", 2.5, day=2, method="av")
+    check(levels, "high", -2.5, day=2, method="pv")
+    check(levels, "high", 1.9, day=3)
+    check(levels, "low", -2.5, day=3)
+    trend_scan()
+    assert not Alert.objects.filter(rule__endswith="_across").exists()
+
+
+def test_rescanning_one_level_brings_in_the_other_levels_of_its_run(levels):
+    check(levels, "low", 2.5)
+    check(levels, "high", -2.5)
+    # what an accepted result queues: a rescan of its own series only
+    trend_scan([f"qc:{levels['low'].pk}:av"])
+    assert Alert.objects.filter(rule="westgard_r_4s_across", series_key="qc-runs:av").count() == 1
+
+
+def test_2_2s_across_fires_when_both_levels_are_beyond_the_same_2s(levels):
+    check(levels, "low", 2.5)
+    check(levels, "high", 2.2)
+    check(levels, "low", -2.2, day=1)
+    check(levels, "high", 1.5, day=1)
+    trend_scan()
+    alert = Alert.objects.get(rule="westgard_2_2s_across")
+    assert alert.episode_key.split("|")[2] == "+" and len(alert.points) == 2
+    assert not Alert.objects.filter(rule__in=["westgard_r_4s_across", "westgard_2of3_2s", "westgard_2_2s"]).exists()
+
+
+def test_2_of_3_2s_fires_on_a_three_level_run(levels):
+    check(levels, "low", -2.3)
+    check(levels, "high", 0.4)
+    check(levels, "third", -2.7)
+    trend_scan()
+    alert = Alert.objects.get(rule="westgard_2of3_2s")
+    assert alert.episode_key.split("|")[2] == "-" and len(alert.points) == 2
+    assert not Alert.objects.filter(rule="westgard_2_2s_across").exists()  # a three-level run is judged by 2 of 3
+
+
+def test_one_of_three_levels_beyond_2s_raises_only_the_warning(levels):
+    check(levels, "low", 2.3)
+    check(levels, "high", 0.4)
+    check(levels, "third", 1.9)
+    trend_scan()
+    assert list(Alert.objects.values_list("rule", flat=True)) == ["westgard_1_2s"]
