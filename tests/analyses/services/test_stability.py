@@ -177,12 +177,15 @@ def test_q1e_shelf_life_at_storage_matches_scipy(evaluated_study):
     crossing = optimize.brentq(lambda x: upper_bound(x) - 10, 0, 100)
     shelf = at_25["shelf_life"]
     assert shelf["estimate_months"] == pytest.approx(crossing, rel=1e-6)
-    # ICH Q1E extrapolation cap: min(2 x 6, 6 + 12) months (references.md: memory)
-    assert shelf["extrapolation_cap_months"] == 12
-    assert shelf["capped"] and shelf["months"] == 12
+    # 35 °C is the intermediate condition (10 °C above storage) and PV passes 10 there at 6 months
+    # (k = 1.6 per month): significant change at intermediate, so ICH Q1E allows no extrapolation
+    # (Q1E 2.4.2.2; found in a summary of Appendix A): the cap is X = 6 months.
+    assert outcome.evaluation["extrapolation"]["branch"] == "room_temperature.intermediate_change"
+    assert shelf["extrapolation_cap_months"] == 6
+    assert shelf["capped"] and shelf["months"] == 6
     # the prediction is the crossing itself; what 6 months of data support so far is the cap
     assert outcome.evaluation["predicted_shelf_life_months"] == pytest.approx(crossing, rel=1e-6)
-    assert outcome.evaluation["supported_shelf_life_months"] == 12
+    assert outcome.evaluation["supported_shelf_life_months"] == 6
 
 
 def test_short_shelf_life_and_out_of_limit_pulls_raise_alerts_once(evaluated_study):
@@ -213,8 +216,9 @@ def test_a_missing_specification_line_fails_that_pull_only(users, lot):
 
 
 def test_a_young_study_whose_trend_clears_the_claim_raises_no_shelf_life_alert(users, lot):
-    """Three months of slow growth: ICH Q1E caps what the data support at 6 months, but the
-    predicted crossing lies beyond the 12-month claim, so no alert (the cap is not a prediction)."""
+    """Three months of slow growth at 25 °C only: with no accelerated condition the ICH Q1E
+    tree allows no extrapolation, so the data support 3 months, but the predicted crossing
+    lies beyond the 12-month claim, so no alert (the cap is not a prediction)."""
     study = stability_study_create(users["manager"], **protocol(
         lot, code="STAB-SLOW", conditions=[{"temperature_c": 25}], pull_points=[{"offset": m} for m in (0, 1, 2, 3)],
         attributes=[{"method_code": "pv", "maximum": 10}],
@@ -225,7 +229,8 @@ def test_a_young_study_whose_trend_clears_the_claim_raises_no_shelf_life_alert(u
         pull.save(update_fields=["sample"])
         TestFactory(sample=pull.sample, specification_line=line, method_code="pv", state=TestState.ACCEPTED, value=value)
     outcome = stability_study_evaluate(study)
-    assert outcome.evaluation["supported_shelf_life_months"] == 6  # min(2 x 3, 3 + 12), ICH Q1E (references.md: memory)
+    assert outcome.evaluation["extrapolation"]["branch"] == "room_temperature.accelerated_not_shown"
+    assert outcome.evaluation["supported_shelf_life_months"] == 3  # X = 3, no extrapolation (project rule)
     assert outcome.evaluation["predicted_shelf_life_months"] > 12
     assert not Alert.objects.filter(rule="shelf_life_short").exists()
 
@@ -233,6 +238,8 @@ def test_a_young_study_whose_trend_clears_the_claim_raises_no_shelf_life_alert(u
 def test_an_arrhenius_shelf_life_far_beyond_the_data_is_flagged_as_a_time_extrapolation(evaluated_study):
     _, outcome = evaluated_study
     arrhenius = outcome.evaluation["attributes"][0]["arrhenius"]
-    # (10 - 1.0) / 0.5 = 18 months from 6 months of data: beyond min(2 x 6, 6 + 12) = 12 (ICH Q1E, memory)
+    # (10 - 1.0) / 0.5 = 18 months from 6 months of long-term data, which the branch (significant
+    # change at the intermediate 35 °C) does not let reach beyond X = 6 months (ICH Q1E 2.4.2.2)
     assert arrhenius["shelf_life_months"] == pytest.approx((10 - PV0) / K25, rel=0.1)
+    assert (arrhenius["long_term_months"], arrhenius["allowed_months"]) == (6, 6)
     assert arrhenius["time_extrapolated"] is True
