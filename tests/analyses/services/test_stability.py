@@ -243,3 +243,122 @@ def test_an_arrhenius_shelf_life_far_beyond_the_data_is_flagged_as_a_time_extrap
     assert arrhenius["shelf_life_months"] == pytest.approx((10 - PV0) / K25, rel=0.1)
     assert (arrhenius["long_term_months"], arrhenius["allowed_months"]) == (6, 6)
     assert arrhenius["time_extrapolated"] is True
+
+
+# --- storage category and the ICH Q1E branch ---------------------------------------------
+@pytest.mark.parametrize(
+    "override, field",
+    [
+        ({"storage_category": "ambient"}, "storage_category"),
+        # room temperature is more permissive than 5 °C storage allows (refrigerated)
+        ({"storage_category": "room_temperature", "storage_temperature_c": 5}, "storage_category"),
+        ({"attributes": [{"method_code": "pv", "maximum": 10, "significant_change": 0}]}, "attributes.0.significant_change"),
+        ({"attributes": [{"method_code": "pv", "maximum": 10, "significant_change": "a lot"}]}, "attributes.0.significant_change"),
+    ],
+)
+def test_bad_categories_and_amounts_name_the_field(users, lot, override, field):
+    with pytest.raises(InvalidInput) as caught:
+        stability_study_create(users["manager"], **protocol(lot, **override))
+    assert field in caught.value.fields
+    assert not StabilityStudy.objects.exists()
+
+
+@pytest.mark.parametrize(
+    "storage, declared, stored",
+    [(25, None, "room_temperature"), (5, None, "refrigerated"), (-20, None, "frozen"), (15, "refrigerated", "refrigerated")],
+)
+def test_the_storage_category_is_declared_or_taken_from_the_temperature(users, lot, storage, declared, stored):
+    study = stability_study_create(
+        users["manager"], **protocol(lot, storage_temperature_c=storage, storage_category=declared,
+                                     attributes=[{"method_code": "pv", "maximum": 10, "significant_change": 3}]),
+    )
+    assert study.storage_category == stored
+    assert study.attributes.get().significant_change == 3
+
+
+def study_with_rates(users, lot, *, code, storage_c, category, rates, months, amount, long_term_months=None):
+    """A one-lot PV study: results 1.0 + rate · t (± 0.05) under each condition {°C: rate per month};
+    the long-term condition tested only up to ``long_term_months`` if given (invented data)."""
+    study = stability_study_create(users["manager"], **protocol(
+        lot, code=code, storage_temperature_c=storage_c, storage_category=category, claimed_shelf_life_months=6,
+        conditions=[{"temperature_c": t} for t in rates], pull_points=[{"offset": m} for m in months],
+        attributes=[{"method_code": "pv", "maximum": 10, "significant_change": amount}],
+    ))
+    line = SpecificationLineFactory(method_code="pv", maximum="1000")
+    for pull in PullPoint.objects.filter(study=study).select_related("condition"):
+        at_storage = pull.condition.temperature_c == storage_c
+        if at_storage and long_term_months is not None and pull.elapsed_months > long_term_months:
+            continue
+        value = 1.0 + rates[pull.condition.temperature_c] * pull.elapsed_months + (0.05 if pull.offset % 2 else -0.05)
+        pull.sample = SampleFactory(lot=lot, kind=SampleKind.STABILITY_PULL, label=f"{code}-{pull.pk}")
+        pull.save(update_fields=["sample"])
+        TestFactory(sample=pull.sample, specification_line=line, method_code="pv", state=TestState.ACCEPTED, value=value)
+    return stability_study_evaluate(study).evaluation
+
+
+def test_branch_room_temperature_accelerated_change_no_intermediate_change_caps_supported_at_1_5x(users, lot):
+    """PV at 40 °C rises 1.2 per month: more than the study's 3 meq/kg by 3 months. At 30 °C
+    (0.1 per month) no change in 6 months. ICH Q1E 2.4.2.1: up to 1.5X, at most X + 6 (1.5X: memory)."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-RT-ACC", storage_c=25, category="room_temperature",
+        rates={25: 0.05, 30: 0.1, 40: 1.2}, months=[0, 1, 2, 3, 6], amount=3,
+    )
+    extrapolation = evaluation["extrapolation"]
+    assert extrapolation["branch"] == "room_temperature.accelerated_change_no_intermediate_change"
+    assert extrapolation["accelerated"]["found"] and extrapolation["accelerated"]["first_months"] == 3
+    assert extrapolation["intermediate"]["temperatures_c"] == [30] and not extrapolation["intermediate"]["found"]
+    pv = evaluation["attributes"][0]
+    assert (pv["long_term_months"], pv["extrapolation_limit_months"]) == (6, 9)  # min(1.5 x 6, 6 + 6)
+    # PV 1.0 + 0.05 t reaches 10 far beyond 9 months: the supported shelf life is the cap, not 12 (2X)
+    assert evaluation["predicted_shelf_life_months"] > 12
+    assert evaluation["supported_shelf_life_months"] == 9
+    at_40 = next(c for c in pv["conditions"] if c["temperature_c"] == 40)
+    assert at_40["role"] == "accelerated" and at_40["significant_change"]["found"]
+
+
+def test_branch_room_temperature_no_accelerated_change_caps_supported_at_2x(users, lot):
+    """The same oil with a study amount of 10: no significant change at 40 °C in 6 months
+    (PV 8.2 < 10): ICH Q1E 2.4.1, up to 2X, at most X + 12."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-RT-OK", storage_c=25, category="room_temperature",
+        rates={25: 0.05, 40: 1.2}, months=[0, 1, 2, 3, 6], amount=10,
+    )
+    assert evaluation["extrapolation"]["branch"] == "room_temperature.no_accelerated_change"
+    assert evaluation["supported_shelf_life_months"] == 12  # min(2 x 6, 6 + 12)
+
+
+def test_branch_refrigerated_no_accelerated_change_caps_supported_at_1_5x(users, lot):
+    """Refrigerated at 5 °C with accelerated 25 °C (Q1A(R2), found) and no significant change
+    there: ICH Q1E 2.5.1.1, up to 1.5X, at most X + 6 (1.5X: memory), never 2X."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-FRIDGE", storage_c=5, category="refrigerated",
+        rates={5: 0.02, 25: 0.2}, months=[0, 1, 2, 3, 6], amount=3,
+    )
+    assert evaluation["storage_category"] == "refrigerated"
+    assert evaluation["extrapolation"]["branch"] == "refrigerated.no_accelerated_change"
+    assert evaluation["supported_shelf_life_months"] == 9
+
+
+def test_branch_frozen_supports_no_extrapolation(users, lot):
+    evaluation = study_with_rates(
+        users, lot, code="STAB-FROZEN", storage_c=-20, category="frozen",
+        rates={-20: 0.01, 5: 0.05}, months=[0, 1, 2, 3, 6], amount=3,
+    )
+    assert evaluation["extrapolation"]["branch"] == "frozen"
+    assert evaluation["supported_shelf_life_months"] == 6  # X itself (ICH Q1E 2.5.2)
+
+
+def test_arrhenius_takes_x_from_the_long_term_condition_not_the_last_accelerated_pull(users, lot):
+    """25 °C tested to 3 months, 40 and 50 °C to 6: X is 3, so the Arrhenius shelf life is
+    judged against the branch's limit on 3 months, not on 6."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-ARR-X", storage_c=25, category="room_temperature",
+        rates={25: 0.3, 40: 0.9, 50: 2.0}, months=[0, 1, 2, 3, 6], amount=20, long_term_months=3,
+    )
+    pv = evaluation["attributes"][0]
+    # PV at 50 °C passes 10 at 6 months: a stress condition, not accelerated; 40 °C shows no change
+    assert evaluation["extrapolation"]["branch"] == "room_temperature.no_accelerated_change"
+    assert pv["arrhenius"]["long_term_months"] == 3
+    assert pv["arrhenius"]["allowed_months"] == 6  # min(2 x 3, 3 + 12); it was 12 with X from the 6-month pulls
+    assert pv["arrhenius"]["shelf_life_months"] > 6 and pv["arrhenius"]["time_extrapolated"] is True
+    assert pv["long_term_months"] == 3 and pv["supported_shelf_life_months"] <= 6
