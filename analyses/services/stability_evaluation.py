@@ -144,6 +144,8 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
         arrhenius = arrhenius_evaluation(per_condition, study.storage_temperature_c, limit, side, branch)
         predicted, supported, basis = _predicted_shelf_life(per_condition, arrhenius, study.storage_temperature_c)
         long_term = max((c["last_months"] for c in per_condition if c["role"] == "long_term" and c["n"]), default=None)
+        if supported is not None:  # already capped by the regression; stated here as the rule it is
+            supported = min(supported, branch.limit(long_term))
         attributes_out.append({
             "method_code": attribute.method_code, "limit": limit, "limit_side": side,
             "significant_change_amount": attribute.significant_change,
