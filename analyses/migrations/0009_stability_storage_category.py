@@ -16,7 +16,7 @@ def categorise(apps, schema_editor):
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("analyses", "0007_admin_without_qa_decisions"),
+        ("analyses", "0008_exact_values"),
     ]
 
     operations = [
