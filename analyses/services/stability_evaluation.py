@@ -20,11 +20,14 @@ from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
 from analyses.stability.extrapolation import ExtrapolationBranch
 from analyses.stability.kinetics import kinetics_fit
 from analyses.stability.shelf_life import shelf_life_estimate
+from plugins.contract import float_as_decimal
 
 
 def _beyond(value: float, attribute) -> bool:
-    return (attribute.maximum is not None and value > attribute.maximum) or (
-        attribute.minimum is not None and value < attribute.minimum
+    """Whether a pull result is beyond the attribute's limits, decided in decimal arithmetic
+    (both through the documented 15-digit guard), so a result at the limit is at it."""
+    return (attribute.maximum is not None and float_as_decimal(value) > float_as_decimal(attribute.maximum)) or (
+        attribute.minimum is not None and float_as_decimal(value) < float_as_decimal(attribute.minimum)
     )
 
 

@@ -41,6 +41,7 @@ import numpy as np
 
 from analyses.errors import InvalidInput
 from analyses.trends.inputs import finite_vector, same_length
+from plugins.contract import float_as_decimal
 
 StorageCategory = Literal["room_temperature", "refrigerated", "frozen"]
 ConditionRole = Literal["long_term", "intermediate", "accelerated", "stress", "other"]
@@ -144,11 +145,17 @@ def significant_change(
         start, start_value = initial.get(li, (0.0, None))
         if ti <= start:
             continue
-        if maximum is not None and yi > maximum:
+        # decided in decimal arithmetic through the documented 15-digit guard: a result at a
+        # limit, or a change of exactly the amount, is not beyond it
+        value = float_as_decimal(yi)
+        if maximum is not None and value > float_as_decimal(maximum):
             found.append((ti, f"lot {li} at {ti:g} months: {yi:.4g} is above the limit {maximum:g}"))
-        elif minimum is not None and yi < minimum:
+        elif minimum is not None and value < float_as_decimal(minimum):
             found.append((ti, f"lot {li} at {ti:g} months: {yi:.4g} is below the limit {minimum:g}"))
-        elif amount is not None and start_value is not None and abs(yi - start_value) > amount:
+        elif (
+            amount is not None and start_value is not None
+            and abs(value - float_as_decimal(start_value)) > float_as_decimal(amount)
+        ):
             found.append((ti, f"lot {li} at {ti:g} months: changed by {yi - start_value:+.4g} from {start_value:.4g}, "
                               f"more than {amount:g}"))
     return SignificantChange(

@@ -212,3 +212,12 @@ def test_the_reported_shelf_life_never_exceeds_what_the_branch_allows(slope, las
     )
     assert result.shelf_life <= branch.limit(last) + 1e-12
     assert result.extrapolation_cap == branch.limit(last)
+
+
+def test_a_change_of_exactly_the_amount_or_a_result_at_the_limit_is_not_significant():
+    # Decided in decimal arithmetic (issue 7): in floats 1.1 + 3.0 - ... noise would decide. 4.1 - 1.1 is
+    # 2.9999999999999996 and 7.3 - 4.3 is 3.0000000000000004 in binary; on paper both are exactly 3.0.
+    assert not change_at([1.1, 2.0, 3.0, 4.1, 4.1]).found
+    assert not change_at([4.3, 5.0, 6.0, 7.3, 7.3]).found
+    # PV 10.000000000000002 is 4.97 x 0.01 x 1000 / 4.97 in floats; exactly the limit 10 on paper
+    assert not change_at([1.0, 2.0, 3.0, 4.0, 10.000000000000002], amount=None).found
