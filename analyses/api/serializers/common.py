@@ -23,12 +23,24 @@ class StrictSerializer(serializers.Serializer):
         return super().to_internal_value(data)
 
 
+class TextField(serializers.CharField):
+    """A CharField that takes only a JSON string: DRF's own turns 0 or 1.5 into "0" and "1.5",
+    so ``{"reason": 0}`` would pass for a reason. The schema says string; so does this."""
+
+    default_error_messages = {"not_text": "Must be text (a JSON string)."}
+
+    def to_internal_value(self, data):
+        if not isinstance(data, str):
+            self.fail("not_text")
+        return super().to_internal_value(data)
+
+
 class ReasonSerializer(StrictSerializer):
-    reason = serializers.CharField(help_text="Why; kept in the audit trail")
+    reason = TextField(help_text="Why; kept in the audit trail")
 
 
 class NoteSerializer(StrictSerializer):
-    note = serializers.CharField(required=False, allow_blank=True, default="", help_text="Optional remark")
+    note = TextField(required=False, allow_blank=True, default="", help_text="Optional remark")
 
 
 class IdempotencyKeySerializer(serializers.Serializer):

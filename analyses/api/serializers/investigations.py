@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.api.serializers.states import InvestigationStateField
 from analyses.models import Conclusion, Investigation, InvestigationState
 
@@ -37,4 +37,4 @@ class InvestigationCloseSerializer(StrictSerializer):
         choices=Conclusion.choices,
         help_text="confirmed: the lot is rejected; lab_error: the result is invalidated and a retest created",
     )
-    findings = serializers.CharField(help_text="What the investigation found; kept in the audit trail")
+    findings = TextField(help_text="What the investigation found; kept in the audit trail")
