@@ -63,15 +63,26 @@ def username_field(source: str, **kwargs) -> serializers.CharField:
     return serializers.CharField(source=f"{source}.username", read_only=True, allow_null=True, **kwargs)
 
 
-def enum_field_class(component_name: str, choices, *, blank: bool = False) -> type[serializers.ChoiceField]:
+class _BlankAsNull:
+    """A value not set yet is "" in the database and null in the API, as the schema says."""
+
+    def to_representation(self, value):
+        return None if value == "" else super().to_representation(value)
+
+
+def enum_field_class(
+    component_name: str, choices, *, blank: bool = False, blank_as_null: bool = False
+) -> type[serializers.ChoiceField]:
     """A ChoiceField whose choice set is one named component of the OpenAPI schema, so
     fields named alike ("state" of lots, samples, tests) do not collide in generated
-    clients. ``blank`` adds "" (a value not set)."""
+    clients. ``blank`` adds "" (a value not set); ``blank_as_null`` shows "" as null
+    instead (declare the field with ``allow_null=True``)."""
     values = [value for value, _ in choices] + ([""] if blank else [])
     schema = {
         "type": "string",
         "enum": values,
         "description": "\n".join(f"* `{value}` - {label}" for value, label in choices),
     }
-    field_class = type(f"{component_name}Field", (serializers.ChoiceField,), {"__module__": __name__})
+    bases = (_BlankAsNull, serializers.ChoiceField) if blank_as_null else (serializers.ChoiceField,)
+    field_class = type(f"{component_name}Field", bases, {"__module__": __name__})
     return extend_schema_field(schema, component_name=component_name)(field_class)

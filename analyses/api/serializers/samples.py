@@ -4,14 +4,15 @@ from __future__ import annotations
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
-from analyses.api.serializers.states import SampleResumeStateField, SampleStateField, TestStateField
-from analyses.models import Lot, Priority, Sample, SampleKind, SampleState, Test, TestState
+from analyses.api.serializers.states import SampleResumeStateField, SampleStateField, TestStateField, VerdictField
+from analyses.models import Lot, Priority, Sample, SampleKind, SampleState, Test, TestState, Verdict
 
 
 class SampleTestSerializer(serializers.ModelSerializer):
     """A test as a line of its sample."""
 
     state = TestStateField(choices=TestState.choices, read_only=True)
+    verdict = VerdictField(choices=Verdict.choices, read_only=True, allow_null=True, help_text="null until a result is in")
     assignee = username_field("assignee")
 
     class Meta:
