@@ -120,6 +120,8 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_DIST": "SIDECAR",
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
+    # the enum hook is drf-spectacular's default; ours documents the 401s and 404s the framework gives
+    "POSTPROCESSING_HOOKS": ["drf_spectacular.hooks.postprocess_schema_enums", "analyses.api.schema.default_responses"],
 }
 
 # Celery: Redis when REDIS_URL is set, otherwise a filesystem broker that needs no server.
