@@ -13,6 +13,7 @@ from collections.abc import Callable
 
 import pytest
 import schemathesis
+from django.contrib.auth import get_user_model
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 from rest_framework.authtoken.models import Token
@@ -60,14 +61,8 @@ def credentials_for(username: str | None) -> dict[str, str]:
     The one place that knows how a caller signs in, to adapt when tokens change."""
     if username is None:
         return {}
-    token, _ = Token.objects.get_or_create(user__username=username, defaults={"user": _user(username)})
+    token, _ = Token.objects.get_or_create(user=get_user_model().objects.get(username=username))
     return {"Authorization": f"Token {token.key}"}
-
-
-def _user(username: str):
-    from django.contrib.auth import get_user_model
-
-    return get_user_model().objects.get(username=username)
 
 
 def path_values(path: str) -> dict[str, st.SearchStrategy]:
@@ -129,7 +124,11 @@ def test_every_operation_answers_as_the_schema_says(demo, live_server):
     for operation in operations:
         try:
             run_operation(operation, live_server.url, headers.__getitem__, statuses.setdefault(operation.label, []))
-        except Exception as exc:  # collect them all, so one run shows every drift
+        except (Exception, BaseExceptionGroup) as exc:  # schemathesis raises a group; show every drift
             failures[operation.label] = str(exc)
     assert not failures, "\n\n".join(f"{label}:\n{message}" for label, message in failures.items())
-    import json; print(json.dumps(statuses, indent=0))
+    # a run that met only refusals (say, credentials that stopped working) would check little
+    answered = sorted(label for label, codes in statuses.items() if any(200 <= code < 300 for code in codes))
+    print(f"{sum(map(len, statuses.values()))} requests; {len(answered)} of {len(operations)} operations answered 2xx")
+    assert len(answered) >= len(operations) // 2, answered  # 41 of 64 when written
+    assert any(401 in codes for codes in statuses.values())  # the anonymous caller was refused somewhere
