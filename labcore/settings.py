@@ -53,6 +53,7 @@ INSTALLED_APPS = [
 ]
 
 MIDDLEWARE = [
+    "labcore.request_id.RequestIdMiddleware",  # first: every layer below logs with the request id
     "django.middleware.security.SecurityMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
@@ -119,6 +120,8 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_DIST": "SIDECAR",
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
+    # the enum hook is drf-spectacular's default; ours documents the 401s and 404s the framework gives
+    "POSTPROCESSING_HOOKS": ["drf_spectacular.hooks.postprocess_schema_enums", "analyses.api.schema.default_responses"],
 }
 
 # Celery: Redis when REDIS_URL is set, otherwise a filesystem broker that needs no server.
@@ -175,12 +178,32 @@ DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")
 ALERT_EMAIL_RECIPIENTS = [a for a in os.environ.get("ALERT_EMAIL_RECIPIENTS", "qa@localhost").split(",") if a]
 ALERT_WEBHOOK_URL = os.environ.get("ALERT_WEBHOOK_URL", "")
 
+# One format on standard error for every line, tagged with the request id ("-" outside a request).
+# Django sends unhandled exceptions (django.request, ERROR, with the traceback) only to mail_admins
+# when DEBUG is off; the "errors" handler writes them, and any other django ERROR, to stderr too.
+LOG_FORMAT = "%(asctime)s %(levelname)s %(name)s [request %(request_id)s] %(message)s"
 LOGGING = {
     "version": 1,
     "disable_existing_loggers": False,
-    "handlers": {"console": {"class": "logging.StreamHandler"}},
+    "filters": {
+        "request_id": {"()": "labcore.request_id.RequestIdFilter"},
+        "require_debug_false": {"()": "django.utils.log.RequireDebugFalse"},
+    },
+    "formatters": {"service": {"format": LOG_FORMAT}},
+    "handlers": {
+        "console": {"class": "logging.StreamHandler", "stream": "ext://sys.stderr", "formatter": "service", "filters": ["request_id"]},
+        "errors": {"class": "logging.StreamHandler", "stream": "ext://sys.stderr", "level": "ERROR", "formatter": "service", "filters": ["request_id"]},
+        "mail_admins": {"class": "django.utils.log.AdminEmailHandler", "level": "ERROR", "filters": ["require_debug_false"]},
+    },
     "loggers": {
         "plugins": {"handlers": ["console"], "level": "INFO"},
         "analyses": {"handlers": ["console"], "level": "INFO"},
+        "labcore": {"handlers": ["console"], "level": "INFO"},
+        "django": {"handlers": ["errors", "mail_admins"], "level": "INFO"},
+        # the filter here too, so that the id is on the record itself for any handler (pytest's caplog)
+        "django.request": {"filters": ["request_id"], "level": "INFO"},
     },
 }
+
+# After a session login (/api/auth/login/) without ?next=: the API root, not Django's /accounts/profile/.
+LOGIN_REDIRECT_URL = "api-root"

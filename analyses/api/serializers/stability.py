@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, enum_field_class, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, enum_field_class, username_field
 from analyses.models import Light, Lot, OffsetUnit, Product, PullPoint, StabilityStudy, StorageCategory, StudyState
 
 LightField = enum_field_class("LightEnum", Light.choices)
@@ -23,7 +23,7 @@ class PullInSerializer(StrictSerializer):
 
 
 class AttributeInSerializer(StrictSerializer):
-    method_code = serializers.CharField(max_length=40)
+    method_code = TextField(max_length=40)
     minimum = serializers.FloatField(required=False, allow_null=True, default=None)
     maximum = serializers.FloatField(required=False, allow_null=True, default=None, help_text="e.g. PV 10 meq O2/kg")
     significant_change = serializers.FloatField(
@@ -34,8 +34,8 @@ class AttributeInSerializer(StrictSerializer):
 
 
 class StudyCreateSerializer(StrictSerializer):
-    code = serializers.CharField(max_length=60)
-    title = serializers.CharField(max_length=200)
+    code = TextField(max_length=60)
+    title = TextField(max_length=200)
     product = serializers.PrimaryKeyRelatedField(queryset=Product.objects.all())
     lots = serializers.PrimaryKeyRelatedField(queryset=Lot.objects.all(), many=True, allow_empty=False)
     started_on = serializers.DateField()

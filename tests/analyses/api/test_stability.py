@@ -142,6 +142,10 @@ def test_plot_queries_are_checked(clients, study_with_results, query, field):
 def test_closing_needs_a_reason(clients, study_with_results):
     url = f"/api/stability-studies/{study_with_results}/close/"
     assert clients["qa"].post(url, {}, format="json").json()["fields"].keys() == {"reason"}
+    for not_text in (0, 1.5, True, ["why"]):  # a reason is text; DRF's CharField alone took 0 as "0"
+        refused = clients["qa"].post(url, {"reason": not_text}, format="json")
+        assert refused.status_code == 400 and refused.json()["fields"].keys() == {"reason"}
+    assert StabilityStudy.objects.get(pk=study_with_results).state == "running"
     closed = clients["qa"].post(url, {"reason": "claim confirmed"}, format="json")
     assert closed.status_code == 200 and closed.json()["state"] == "closed"
 
