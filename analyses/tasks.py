@@ -6,6 +6,7 @@ are keyed by episode, pulls are created once, notifications remember what was se
 from __future__ import annotations
 
 from celery import shared_task
+from django.conf import settings
 from django.db import InterfaceError, OperationalError
 
 from analyses.services.alert_delivery import alert_notify, alerts_pending_notification
@@ -14,7 +15,10 @@ from analyses.services.trend_scan import trend_scan
 
 # Retry what may pass (a database that is restarting); a domain error would only repeat.
 TRANSIENT = (OperationalError, InterfaceError)
-RETRY = {"acks_late": True, "autoretry_for": TRANSIENT, "retry_backoff": 5, "retry_backoff_max": 600, "max_retries": 8}
+# A worker holds a retry unacknowledged until its countdown ends; on Redis a countdown longer than
+# the visibility timeout would have the message delivered again meanwhile (Celery's Redis caveats).
+BACKOFF_MAX = max(1, min(600, int(settings.BROKER_VISIBILITY_TIMEOUT * 0.8)))
+RETRY = {"acks_late": True, "autoretry_for": TRANSIENT, "retry_backoff": 5, "retry_backoff_max": BACKOFF_MAX, "max_retries": 8}
 
 
 @shared_task(name="analyses.tasks.trend_scan_task", **RETRY)
