@@ -176,7 +176,14 @@ CELERY_BEAT_SCHEDULE = {
     "stability-pulls": {"task": "analyses.tasks.stability_pulls_schedule_task", "schedule": float(os.environ.get("PULL_SCHEDULE_SECONDS", 600))},
     "stability-evaluate": {"task": "analyses.tasks.stability_studies_evaluate_task", "schedule": 3600.0},
     "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 60.0},
+    "audit-anchor": {"task": "analyses.tasks.audit_anchor_task", "schedule": float(os.environ.get("AUDIT_ANCHOR_SECONDS", 300))},
 }
+
+# The audit chain's head is appended to a file here (analyses/services/audit_anchors.py); audit_verify
+# checks the chain against it. Put it where the database's administrators cannot write.
+AUDIT_ANCHOR_DIR = Path(os.environ.get("AUDIT_ANCHOR_DIR", VAR_DIR / "audit-anchors"))
+# Optional: each new anchor (and a refusal to write one) is also posted here, e.g. ALERT_WEBHOOK_URL.
+AUDIT_ANCHOR_WEBHOOK_URL = os.environ.get("AUDIT_ANCHOR_WEBHOOK_URL", "")
 
 # EWMA chart of production series: smoothing λ and limit width L (NIST/SEMATECH typical: 0.2-0.3, 3).
 TREND_EWMA_SMOOTHING = float(os.environ.get("TREND_EWMA_SMOOTHING", 0.2))
