@@ -149,6 +149,9 @@ class ChainReport:
     # the last entry verified: record it outside the database to check against later
     head_sequence: int = 0
     head_hash: str = GENESIS_HASH
+    # found against a head recorded outside the database, not within the chain: the entries
+    # checked link up among themselves, as a rewrite that recomputed the hashes also does
+    against_record: bool = False
 
 
 @dataclass(frozen=True)
@@ -230,7 +233,7 @@ def _against_records(walk: _Walk, records: Sequence[RecordedHead]) -> ChainRepor
             f"the chain ends at entry {walk.last_sequence}, before {record.label} ({record.sequence}:"
             f"{record.hash[:12]}...): entries were removed from its end, or the database was restored from a "
             f"backup older than that record{', ' + record.or_else if record.or_else else ''}",
-            walk.last_sequence, walk.last_hash,
+            walk.last_sequence, walk.last_hash, against_record=True,
         )
     holding: RecordedHead | None = None
     for record in sorted(records, key=lambda r: r.sequence):
@@ -241,7 +244,7 @@ def _against_records(walk: _Walk, records: Sequence[RecordedHead]) -> ChainRepor
                 False, walk.checked, record.sequence, entry_id,
                 f"its hash is not the one recorded by {record.label}: the chain was rewritten at or before this "
                 f"entry{since}{', ' + record.or_else if record.or_else else ''}",
-                walk.last_sequence, walk.last_hash,
+                walk.last_sequence, walk.last_hash, against_record=True,
             )
         holding = record
     return None

@@ -49,3 +49,22 @@ def delete_last(count: int) -> list[AuditEntry]:
 
 def move_head(sequence: int, digest: str) -> None:
     tamper("UPDATE {head} SET last_sequence = %s, last_hash = %s WHERE id = 1", [sequence, digest])
+
+
+def rehash_from(sequence: int) -> None:
+    """Recompute the link and hash of entry ``sequence`` and every later one, then move the
+    head to the new last hash: what someone who knows the algorithm does to hide a rewrite."""
+    from analyses.audit import GENESIS_HASH, chain_hash, entry_content
+
+    before = AuditEntry.objects.filter(sequence__lt=sequence).order_by("-sequence").first()
+    previous_hash = before.entry_hash if before else GENESIS_HASH
+    for entry in AuditEntry.objects.filter(sequence__gte=sequence).order_by("sequence"):
+        entry_hash = chain_hash(previous_hash, entry_content(entry))
+        tamper("UPDATE {entries} SET previous_hash = %s, entry_hash = %s WHERE id = %s", [previous_hash, entry_hash, entry.pk])
+        previous_hash = entry_hash
+    last = AuditEntry.objects.order_by("-sequence").first()
+    move_head(last.sequence if last else 0, previous_hash)
+
+
+def renumber(entry_id: int, sequence: int) -> None:
+    tamper("UPDATE {entries} SET sequence = %s WHERE id = %s", [sequence, entry_id])

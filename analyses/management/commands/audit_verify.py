@@ -35,9 +35,11 @@ class Command(BaseCommand):
         report = result.chain
         if not report.ok:
             where = f"entry {report.broken_sequence}" + (f" (id {report.broken_id})" if report.broken_id else "")
-            raise CommandError(
-                f"audit chain broken at {where}: {report.problem}; {report.checked} entries before it are intact"
+            checked = (
+                f"the {report.checked} entries in the database link up among themselves"
+                if report.against_record else f"{report.checked} entries before it are intact"
             )
+            raise CommandError(f"audit chain broken at {where}: {report.problem}; {checked}")
         if result.anchor_problem:
             raise CommandError(
                 f"audit chain not proven: {result.anchor_problem}; the {report.checked} entries link up, "
