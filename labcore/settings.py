@@ -5,6 +5,7 @@ REDIS_URL      Celery broker and result backend; default: a filesystem broker in
 DJANGO_SECRET_KEY  default: a key generated once into var/secret_key, never committed.
 DEBUG          off unless set to 1/true/yes.
 BROKER_VISIBILITY_TIMEOUT  seconds before Redis redelivers a task whose worker died (default 300).
+AUDIT_ANCHOR_DIR   where the audit chain's head is anchored (default var/audit-anchors/).
 """
 from __future__ import annotations
 
