@@ -4,6 +4,8 @@ DATABASE_URL   default: SQLite file in var/ (git-ignored); PostgreSQL when set.
 REDIS_URL      Celery broker and result backend; default: a filesystem broker in var/ (no server).
 DJANGO_SECRET_KEY  default: a key generated once into var/secret_key, never committed.
 DEBUG          off unless set to 1/true/yes.
+BROKER_VISIBILITY_TIMEOUT  seconds before Redis redelivers a task whose worker died (default 300).
+AUDIT_ANCHOR_DIR   where the audit chain's head is anchored (default var/audit-anchors/).
 """
 from __future__ import annotations
 
@@ -127,10 +129,21 @@ SPECTACULAR_SETTINGS = {
 # Celery: Redis when REDIS_URL is set, otherwise a filesystem broker that needs no server.
 REDIS_URL = os.environ.get("REDIS_URL", "")
 BROKER_DIR = VAR_DIR / "broker"
+# Seconds before Redis hands a message that a worker took but never acknowledged (acks_late: the
+# worker was killed outright) to another worker. kombu's default is an hour. Keep it well above the
+# longest task (a trend scan of 1,000,000 results takes seconds, README) and above the longest retry
+# countdown (analyses/tasks.py caps it below this), or a message still in hand is delivered twice.
+BROKER_VISIBILITY_TIMEOUT = float(os.environ.get("BROKER_VISIBILITY_TIMEOUT", 300))
 if REDIS_URL:
     CELERY_BROKER_URL = REDIS_URL
     CELERY_RESULT_BACKEND = REDIS_URL
-    CELERY_BROKER_TRANSPORT_OPTIONS: dict = {"socket_connect_timeout": 2}
+    CELERY_BROKER_TRANSPORT_OPTIONS: dict = {
+        "socket_connect_timeout": 2,
+        "visibility_timeout": BROKER_VISIBILITY_TIMEOUT,
+        # each worker looks for overdue messages every 10 s (kombu's default throttle makes it ~100 s)
+        "unacked_restore_interval": 10,
+        "unacked_restore_throttle": 1,
+    }
     # Give up on a Redis that is down in about a second (the default retries for ~19 s)
     CELERY_RESULT_BACKEND_TRANSPORT_OPTIONS = {
         "retry_policy": {"max_retries": 2, "interval_start": 0, "interval_step": 0.2, "interval_max": 0.5},
@@ -167,7 +180,14 @@ CELERY_BEAT_SCHEDULE = {
     "stability-pulls": {"task": "analyses.tasks.stability_pulls_schedule_task", "schedule": float(os.environ.get("PULL_SCHEDULE_SECONDS", 600))},
     "stability-evaluate": {"task": "analyses.tasks.stability_studies_evaluate_task", "schedule": 3600.0},
     "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 60.0},
+    "audit-anchor": {"task": "analyses.tasks.audit_anchor_task", "schedule": float(os.environ.get("AUDIT_ANCHOR_SECONDS", 300))},
 }
+
+# The audit chain's head is appended to a file here (analyses/services/audit_anchors.py); audit_verify
+# checks the chain against it. Put it where the database's administrators cannot write.
+AUDIT_ANCHOR_DIR = Path(os.environ.get("AUDIT_ANCHOR_DIR", VAR_DIR / "audit-anchors"))
+# Optional: each new anchor (and a refusal to write one) is also posted here, e.g. ALERT_WEBHOOK_URL.
+AUDIT_ANCHOR_WEBHOOK_URL = os.environ.get("AUDIT_ANCHOR_WEBHOOK_URL", "")
 
 # EWMA chart of production series: smoothing λ and limit width L (NIST/SEMATECH typical: 0.2-0.3, 3).
 TREND_EWMA_SMOOTHING = float(os.environ.get("TREND_EWMA_SMOOTHING", 0.2))
