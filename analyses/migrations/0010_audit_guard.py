@@ -66,7 +66,7 @@ class PostgreSQLOnly(migrations.RunSQL):
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("analyses", "0007_admin_without_qa_decisions"),
+        ("analyses", "0009_stability_storage_category"),
     ]
 
     operations = [PostgreSQLOnly(FORWARD, BACKWARD)]
