@@ -10,7 +10,7 @@ from rest_framework.views import APIView
 
 from analyses.api.schema import errors
 from analyses.selectors.methods import method_detail, method_list
-from analyses.services.calculation import calculation_run
+from analyses.services.calculation import calculation_review_warnings, calculation_run
 
 
 class MethodSerializer(serializers.Serializer):
@@ -25,6 +25,14 @@ class MethodSerializer(serializers.Serializer):
     repeatability = serializers.DictField(allow_null=True)
     spec_limits = serializers.ListField(child=serializers.DictField())
     cautions = serializers.CharField()
+    scope = serializers.ListField(
+        child=serializers.DictField(),
+        help_text="Ranges the method's sources validate, each with its source; a result outside one gets a review warning",
+    )
+    blank = serializers.DictField(allow_null=True, help_text="Whether the method prescribes a blank, with its source and limit")
+    basis = serializers.DictField(
+        allow_null=True, help_text="The input that says what the result is expressed as, with the conventional choice per oil type"
+    )
 
 
 class CalculationRequestSerializer(serializers.Serializer):
@@ -42,6 +50,10 @@ class CalculationResultSerializer(serializers.Serializer):
     unit = serializers.CharField()
     decimals = serializers.IntegerField()
     inputs = serializers.DictField(help_text="Inputs as used, in each input's default unit")
+    review_warnings = serializers.ListField(
+        child=serializers.CharField(),
+        help_text="What a reviewer would be warned of: outside the method's validated range, a prescribed blank not run",
+    )
 
 
 class MethodListView(APIView):
@@ -72,4 +84,4 @@ class CalculationView(APIView):
         serializer = CalculationRequestSerializer(data=request.data)
         serializer.is_valid(raise_exception=True)
         result = calculation_run(serializer.validated_data["method"], serializer.validated_data["inputs"])
-        return Response(result.as_dict())
+        return Response({**result.as_dict(), "review_warnings": calculation_review_warnings(result)})

@@ -29,7 +29,7 @@ def test_hand_worked_example():
 def test_refined_oil_limit_with_the_weaker_titrant():
     # Codex CXS 210 appendix (found): refined oils PV <= 10; below PV 12 Cd 8b-90 uses 0.002 mol/L,
     # and PV 10 on 5 g takes 10 x 5 / (0.002 x 1000) = 25 mL, within one 25 mL burette.
-    at_limit = {"sample_mass": 5.0, "sample_volume": 25.0, "titrant_concentration": 0.002}
+    at_limit = {"sample_mass": 5.0, "sample_volume": 25.0, "titrant_concentration": 0.002, "blank_not_run": True}
     assert PV.calculate(at_limit).value == pytest.approx(10.0, abs=1e-12)
 
 

@@ -6,7 +6,7 @@ import json
 from django.core.management.base import BaseCommand, CommandError
 
 from analyses.errors import DomainError
-from analyses.services.calculation import calculation_run
+from analyses.services.calculation import calculation_review_warnings, calculation_run
 
 
 class Command(BaseCommand):
@@ -30,7 +30,10 @@ class Command(BaseCommand):
             result = calculation_run(options["code"], inputs)
         except DomainError as exc:
             raise CommandError(exc.detail) from None
+        warnings = calculation_review_warnings(result)
         if options["json"]:
-            self.stdout.write(json.dumps(result.as_dict()))
+            self.stdout.write(json.dumps({**result.as_dict(), "review_warnings": warnings}))
         else:
             self.stdout.write(f"{result.reported} {result.unit}  (unrounded {result.value!r})")
+            for warning in warnings:
+                self.stdout.write(f"review warning: {warning}")

@@ -28,7 +28,7 @@ def test_calc_json_gives_value_reported_and_unit(capsys):
 
 def test_calc_plain_output_shows_reported_value_and_unit(capsys):
     # AOCS Cd 8b-90: PV = (S - B) * c * 1000 / m = 5.0 * 0.01 * 1000 / 5.0 = 10.0
-    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "titrant_concentration=0.01")
+    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "blank_volume=0", "titrant_concentration=0.01")
     assert capsys.readouterr().out.strip().startswith("10.0 meq O2/kg")
 
 
