@@ -77,7 +77,7 @@ def _limit(raw: Any, field: str) -> str:
 
 def _line_basis(plugin: MethodPlugin, raw: Any, prefix: str, oil_types: Sequence[str]) -> tuple[str, str]:
     """The line's basis and the unit that follows from it: ("", result_unit) for a method
-    without a basis. ``oil_types`` are tried in order for the conventional basis."""
+    without a basis. The first of ``oil_types`` given names the conventional basis."""
     given = str(raw.get("basis") or "").strip().lower()
     if plugin.basis is None:
         if given:
@@ -89,8 +89,9 @@ def _line_basis(plugin: MethodPlugin, raw: Any, prefix: str, oil_types: Sequence
             raise InvalidInput.for_field(f"{prefix}.basis", f"must be one of {', '.join(choice.choices)}, got {given!r}")
         basis = given
     else:
-        conventional = (plugin.basis.by_oil_type.get(oil_type) for oil_type in oil_types if oil_type)
-        basis = next((word for word in conventional if word), None) or choice.default
+        # the first oil type given decides: a Codex oil type before the product's
+        oil_type = next((name for name in oil_types if name), "")
+        basis = plugin.basis.by_oil_type.get(oil_type) or choice.default
     return basis, plugin.unit_for({plugin.basis.input_name: basis})
 
 

@@ -73,3 +73,13 @@ def test_calc_rejects_an_argument_without_equals_sign():
 def test_calc_refuses_an_input_given_twice():
     with pytest.raises(CommandError, match="sample_mass: given twice"):
         call_command("calc", "pv", "sample_mass=5", "sample_mass=6", "sample_volume=1", "titrant_concentration=0.01")
+
+
+def test_calc_prints_review_warnings_and_puts_them_in_json(capsys):
+    # PV without a blank (Reg. (EEC) 2568/91 Annex III prescribes one, found): 5.0 x 0.01 x 1000 / 5.0 = 10.0
+    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "blank_not_run=true", "titrant_concentration=0.01")
+    lines = capsys.readouterr().out.strip().splitlines()
+    assert lines[0].startswith("10.0 meq O2/kg")
+    assert lines[1].startswith("review warning: no blank was run")
+    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "blank_volume=0", "titrant_concentration=0.01", "--json")
+    assert json.loads(capsys.readouterr().out)["review_warnings"] == []

@@ -120,7 +120,7 @@ def test_results_take_the_comparison_their_specification_line_names(users):
 
     # PV = 5.02 mL * 0.01 mol/L * 1000 / 5.0 g = 10.04 meq/kg (AOCS Cd 8b-90 formula by hand): by the
     # rounding method it is rounded to the limit's one place, 10.0, which conforms.
-    pv_inputs = {"sample_mass": "5.0", "sample_volume": "5.02", "titrant_concentration": "0.01"}
+    pv_inputs = {"sample_mass": "5.0", "sample_volume": "5.02", "blank_volume": "0", "titrant_concentration": "0.01"}
     first = result_record(analyst, tests["pv"], inputs=pv_inputs)
     assert first.reported == "10.0"
     assert first.verdict == PASS
