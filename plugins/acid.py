@@ -60,6 +60,8 @@ class AcidValue(MethodPlugin):
         ),
         evidence="found",
     )
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 20.0, "sample_volume": 1.30, "blank_volume": 0.05, "titrant_concentration": 0.1},

@@ -56,6 +56,8 @@ class FreeFattyAcids(MethodPlugin):
         evidence=codex.FFA_BASIS_EVIDENCE,
         by_oil_type=codex.FFA_BASIS_BY_OIL_TYPE,
     )
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 28.2, "sample_volume": 5.0, "titrant_concentration": 0.1, "fatty_acid_basis": "oleic"},

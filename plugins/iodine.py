@@ -43,6 +43,8 @@ class IodineValueWijs(MethodPlugin):
     )
     # A back-titration has no result without its blank: blank_volume is a required input.
     blank = BlankRule(prescribed=True, source="AOCS Cd 1d-92 / ISO 3961 (IV = (B - S) x c x 12.69 / m)")
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 0.2, "sample_volume": 31.0, "blank_volume": 45.0, "titrant_concentration": 0.1},

@@ -79,6 +79,8 @@ class PeroxideValue(MethodPlugin):
         limit_mmol=0.0005,  # 0.05 mL x 0.01 mol/L
         limit_source=f"{EU_2568_91_ANNEX_III} (more means impure reagents, to be replaced)",
     )
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 5.0, "sample_volume": 12.5, "blank_volume": 0.05, "titrant_concentration": 0.002},

@@ -3,6 +3,8 @@
 The table below is copied from references.md, row by row, with its tag: "found" rows were read
 in copies of the standard, "memory" rows were recalled and not confirmed. The plugin must carry
 the same value and say the same about its evidence.
+
+A transcription guard: it checks the copy of references.md, not the standard itself.
 """
 from __future__ import annotations
 
