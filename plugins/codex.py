@@ -86,10 +86,5 @@ FFA_BASIS_SOURCE = (
 FFA_BASIS_EVIDENCE = MEMORY
 
 
-def conventional_ffa_basis(oil_type: str) -> str:
-    """The acid free fatty acids of ``oil_type`` are conventionally expressed as."""
-    return FFA_BASIS_BY_OIL_TYPE.get(oil_type, "oleic")
-
-
 def limits_for(method_code: str) -> tuple[SpecLimit, ...]:
     return _QUALITY.get(method_code, ())
