@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import MethodPlugin, Repeatability, WorkedExample
+from plugins.contract import BlankRule, MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import (
     KOH_MOLAR_MASS,
     blank_volume,
@@ -51,6 +51,18 @@ class AcidValue(MethodPlugin):
         source="ISO 660 precision data; value from memory, not confirmed", relative=0.05
     )
     spec_limits = codex.limits_for("av")
+    # No scope: no numeric range was found in ISO 660 or AOCS Cd 3d-63.
+    blank = BlankRule(
+        prescribed=False,
+        source=(
+            "ISO 660 neutralises the solvent mixture with the titrant just before use (found, ISO 660:2020 5.3 "
+            "and the hot-ethanol method 9.3), so it prescribes no separate blank; a solvent blank in "
+            "AOCS Cd 3d-63 is from memory, not confirmed"
+        ),
+        evidence="found",
+    )
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 20.0, "sample_volume": 1.30, "blank_volume": 0.05, "titrant_concentration": 0.1},

@@ -96,6 +96,9 @@ class AnisidineValue(MethodPlugin):
     )
     # Codex sets no AnV limit: the CXS 210 appendix quality limits (found) cover AV, PV and volatile matter only.
     spec_limits = ()
+    # No scope: no range of AnV was found in AOCS Cd 18-90; the absorbances are bounded as inputs.
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 0.25, "absorbance_unreacted": 0.100, "absorbance_reacted": 0.300},

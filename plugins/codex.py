@@ -70,5 +70,21 @@ _QUALITY: dict[str, tuple[SpecLimit, ...]] = {
 }
 
 
+# What free fatty acids are expressed as, by oil type; every other oil type as oleic.
+FFA_BASIS_BY_OIL_TYPE: dict[str, str] = {
+    "palm": "palmitic",
+    "virgin_palm": "palmitic",
+    "palm_olein": "palmitic",
+    "palm_kernel": "lauric",
+    "coconut": "lauric",
+}
+FFA_BASIS_SOURCE = (
+    "AOCS Ca 5a-40: FFA as oleic, as lauric for coconut and palm kernel oils, as palmitic for palm oil (from memory); "
+    "seen in a copy of the Codex CXS 210 palm oil entry (free acids of virgin palm oil as palmitic acid) and in a "
+    "coconut oil trade specification (free fatty acids as lauric acid); palm olein as palmitic: common practice, no source"
+)
+FFA_BASIS_EVIDENCE = MEMORY
+
+
 def limits_for(method_code: str) -> tuple[SpecLimit, ...]:
     return _QUALITY.get(method_code, ())

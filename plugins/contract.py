@@ -286,6 +286,10 @@ class MethodPlugin:
     # Exact decimal arithmetic is the default; see "Computation" in the module docstring.
     exact_arithmetic: ClassVar[bool] = True
     inexact_reason: ClassVar[str] = ""
+    # declared facts that review warnings and specification lines read (block at the end of this module)
+    scope: ClassVar[tuple[MethodScope, ...]] = ()
+    blank: ClassVar[BlankRule | None] = None
+    basis: ClassVar[ResultBasis | None] = None
 
     REQUIRED_ATTRIBUTES: ClassVar[tuple[str, ...]] = (
         "code", "title", "version", "standards", "inputs", "result_unit", "decimals",
@@ -415,4 +419,122 @@ class MethodPlugin:
             "cautions": cls.cautions,
             "exact_arithmetic": cls.exact_arithmetic,
             "inexact_reason": cls.inexact_reason,
+            **describe_declarations(cls),
         }
+
+
+# --- Method scope, blank and result basis ------------------------------------------
+# Three optional class attributes of MethodPlugin, each declared with its source:
+#   scope   tuple of MethodScope: the ranges over which the method's source says it works;
+#           a result outside one is kept and judged, and carries a review warning
+#   blank   BlankRule: whether the method prescribes a blank determination; when it does,
+#           the plugin takes the blank titre or an explicit "blank_not_run" (a review warning)
+#   basis   ResultBasis: the input that says what the result is expressed as, and so its
+#           unit (FFA "% as palmitic"); a specification line carries it
+# plugins.review_warnings turns them into the words a reviewer reads.
+
+
+@dataclass(frozen=True)
+class MethodScope:
+    """A range of results the method is validated for, in ``result_unit``, with its source.
+
+    ``note`` says what the source says of results outside it (e.g. "erratic")."""
+
+    source: str
+    minimum: float | None = None
+    maximum: float | None = None
+    maximum_inclusive: bool = True
+    evidence: str = "found"
+    note: str = ""
+
+    def contains(self, value: Any) -> bool:
+        """Decided in decimal arithmetic, like verdicts: a result at a bound is at it."""
+        value = value if isinstance(value, Decimal) else float_as_decimal(float(value))
+        if self.minimum is not None and value < float_as_decimal(self.minimum):
+            return False
+        if self.maximum is None:
+            return True
+        maximum = float_as_decimal(self.maximum)
+        return value <= maximum if self.maximum_inclusive else value < maximum
+
+    def describe(self) -> dict[str, Any]:
+        return {
+            "minimum": self.minimum,
+            "maximum": self.maximum,
+            "maximum_inclusive": self.maximum_inclusive,
+            "source": self.source,
+            "evidence": self.evidence,
+            "note": self.note,
+        }
+
+
+@dataclass(frozen=True)
+class BlankRule:
+    """Whether the method prescribes a blank determination, and the most a blank may take.
+
+    ``limit_mmol`` is the blank's largest amount of titrant (mL x mol/L), so the limit holds
+    whatever titrant strength is used; None where the source sets none."""
+
+    prescribed: bool
+    source: str
+    evidence: str = "found"
+    limit_mmol: float | None = None
+    limit_source: str = ""
+
+    def describe(self) -> dict[str, Any]:
+        return {
+            "prescribed": self.prescribed,
+            "source": self.source,
+            "evidence": self.evidence,
+            "limit_mmol": self.limit_mmol,
+            "limit_source": self.limit_source,
+        }
+
+
+@dataclass(frozen=True)
+class ResultBasis:
+    """The choice input that says what a result is expressed as; ``unit_for`` must depend
+    on it alone. ``by_oil_type`` gives the conventional choice per oil type; other oil
+    types take the input's default."""
+
+    input_name: str
+    source: str
+    evidence: str = "found"
+    by_oil_type: Mapping[str, str] = field(default_factory=dict)
+
+    def describe(self) -> dict[str, Any]:
+        return {
+            "input": self.input_name,
+            "source": self.source,
+            "evidence": self.evidence,
+            "by_oil_type": dict(self.by_oil_type),
+        }
+
+
+_FLAG_WORDS = {"true": "true", "yes": "true", "1": "true", "false": "false", "no": "false", "0": "false"}
+
+
+@dataclass(frozen=True)
+class FlagInput(ChoiceInput):
+    """A yes/no input, kept as the word "true" or "false" (JSON true, "yes" and 1 read as
+    "true"). Make one with :func:`flag_input`."""
+
+    def parse(self, raw: Any) -> str:
+        word = _FLAG_WORDS.get(str(raw).strip().lower())
+        if word is None:
+            raise MethodInputError(self.name, f"must be true or false, got {raw!r}")
+        return word
+
+
+def flag_input(name: str, help: str) -> FlagInput:
+    """An optional yes/no input that is "false" unless given."""
+    return FlagInput(name, ("false", "true"), help, required=False, default="false")
+
+
+def describe_declarations(plugin: type[MethodPlugin] | MethodPlugin) -> dict[str, Any]:
+    """The scope, blank and basis of a plugin, for ``describe`` and the API."""
+    return {
+        "scope": [scope.describe() for scope in plugin.scope],
+        "blank": None if plugin.blank is None else plugin.blank.describe(),
+        "basis": None if plugin.basis is None else plugin.basis.describe(),
+    }

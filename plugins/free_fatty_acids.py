@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import ChoiceInput, MethodPlugin, Repeatability, WorkedExample
+from plugins.contract import BlankRule, ChoiceInput, MethodPlugin, MethodScope, Repeatability, ResultBasis, WorkedExample
 from plugins.titration import blank_volume, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
 BASIS_FACTORS = {"oleic": Decimal("28.2"), "palmitic": Decimal("25.6"), "lauric": Decimal("20.0")}  # AOCS Ca 5a-40
@@ -40,6 +40,25 @@ class FreeFattyAcids(MethodPlugin):
         source="AOCS Ca 5a-40 precision data; value from memory, not confirmed", relative=0.05
     )
     spec_limits = codex.limits_for("ffa")
+    scope = (
+        MethodScope(
+            source="AOCS Ca 5a-40 (its sample-mass table runs from 0 to 100 % FFA)", minimum=0.0, maximum=100.0,
+            note="more than 100 % free fatty acids points to a wrong basis, mass or titrant strength",
+        ),
+    )
+    blank = BlankRule(
+        prescribed=False,
+        source="AOCS Ca 5a-40 titrates in alcohol neutralised beforehand, so it prescribes no separate blank",
+        evidence="from memory",
+    )
+    basis = ResultBasis(
+        input_name="fatty_acid_basis",
+        source=codex.FFA_BASIS_SOURCE,
+        evidence=codex.FFA_BASIS_EVIDENCE,
+        by_oil_type=codex.FFA_BASIS_BY_OIL_TYPE,
+    )
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 28.2, "sample_volume": 5.0, "titrant_concentration": 0.1, "fatty_acid_basis": "oleic"},

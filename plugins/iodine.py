@@ -12,7 +12,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import MethodPlugin, Repeatability, WorkedExample
+from plugins.contract import BlankRule, MethodPlugin, MethodScope, Repeatability, WorkedExample
 from plugins.titration import back_titration_volume, blank_volume, sample_mass, sample_volume, titrant_concentration
 
 IODINE_FACTOR = Decimal("12.69")  # AOCS Cd 1d-92 / ISO 3961
@@ -35,6 +35,17 @@ class IodineValueWijs(MethodPlugin):
         source="ISO 3961 precision data; value from memory, not confirmed", relative=0.01
     )
     spec_limits = codex.limits_for("iv")
+    scope = (
+        MethodScope(
+            source="AOCS Cd 1d-92 (scope: normal fats and oils with iodine values of 18 to 165, no conjugated double bonds)",
+            minimum=18.0, maximum=165.0,
+            note="ISO 3961 states no such range; check that the laboratory's procedure covers this value",
+        ),
+    )
+    # A back-titration has no result without its blank: blank_volume is a required input.
+    blank = BlankRule(prescribed=True, source="AOCS Cd 1d-92 / ISO 3961 (IV = (B - S) x c x 12.69 / m)")
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 0.2, "sample_volume": 31.0, "blank_volume": 45.0, "titrant_concentration": 0.1},

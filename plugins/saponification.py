@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import MethodPlugin, Repeatability, WorkedExample
+from plugins.contract import BlankRule, MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import (
     KOH_MOLAR_MASS,
     back_titration_volume,
@@ -39,6 +39,11 @@ class SaponificationValue(MethodPlugin):
         source="ISO 3657 precision data; value from memory, not confirmed", absolute=2.0
     )
     spec_limits = codex.limits_for("sv")
+    # No scope: no numeric range was found in AOCS Cd 3-25 or ISO 3657.
+    # A back-titration has no result without its blank: blank_volume is a required input.
+    blank = BlankRule(prescribed=True, source="AOCS Cd 3-25 / ISO 3657 (SV = (B - S) x c x 56.1 / m)")
+    # worked examples restate the formula (transcription guards); the independent checks are in
+    # tests/plugins/test_independent_checks.py
     examples = (
         WorkedExample(
             {"sample_mass": 2.0, "sample_volume": 11.5, "blank_volume": 25.0, "titrant_concentration": 0.5},

@@ -28,6 +28,14 @@ class MethodSerializer(serializers.Serializer):
     repeatability = serializers.DictField(allow_null=True)
     spec_limits = serializers.ListField(child=serializers.DictField())
     cautions = serializers.CharField()
+    scope = serializers.ListField(
+        child=serializers.DictField(),
+        help_text="Ranges the method's sources validate, each with its source; a result outside one gets a review warning",
+    )
+    blank = serializers.DictField(allow_null=True, help_text="Whether the method prescribes a blank, with its source and limit")
+    basis = serializers.DictField(
+        allow_null=True, help_text="The input that says what the result is expressed as, with the conventional choice per oil type"
+    )
 
 
 class CalculationRequestSerializer(serializers.Serializer):
@@ -68,6 +76,10 @@ class CalculationResultSerializer(serializers.Serializer):
     limits = CalculationLimitsSerializer(allow_null=True, help_text="The limits judged against; null when none given")
     verdict = VerdictField(
         choices=Verdict.choices, allow_null=True, help_text="pass or oos against the limits; null when none given"
+    )
+    review_warnings = serializers.ListField(
+        child=serializers.CharField(),
+        help_text="What a reviewer would be warned of: outside the method's validated range, a prescribed blank not run",
     )
 
 

@@ -84,6 +84,9 @@ class SpecificationLine(models.Model):
     release_critical = models.BooleanField(default=True)
     turnaround_days = models.PositiveIntegerField(default=3)
     limits_source = models.CharField(max_length=300, blank=True)
+    # what the result is expressed as, where the method has a basis (FFA: oleic, palmitic, lauric);
+    # ``unit`` follows it ("% as palmitic")
+    basis = models.CharField(max_length=40, blank=True)
 
     class Meta:
         ordering = ["specification_id", "position", "id"]

@@ -65,6 +65,10 @@ class Test(models.Model):
     unit = models.CharField(max_length=40, blank=True)
     verdict = models.CharField(max_length=8, choices=Verdict.choices, blank=True)
     duplicate_check = models.JSONField(null=True, blank=True)
+    review_warnings = models.JSONField(
+        default=list, blank=True,
+        help_text="What the reviewer should weigh (result outside the method's scope, blank not run); never a block",
+    )
     reviewed_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.PROTECT, related_name="+"
     )

@@ -78,11 +78,14 @@ def investigation_list(*, state: str | None = None, lot=None) -> QuerySet[Invest
 def lot_readiness(lot: Lot | int) -> dict[str, object]:
     """Whether a lot could be released now, and if not, what is missing (as ``lot_release``
     would report it)."""
-    from analyses.services.release import release_blockers
+    from analyses.services.release import release_blockers, release_warnings
 
     lot_id = lot.pk if isinstance(lot, Lot) else lot
     lot = Lot.objects.filter(pk=lot_id).first()
     if lot is None:
         raise NotFound(f"lot {lot_id} not found")
     missing = release_blockers(lot) if lot.state == "open" else [f"lot {lot.code} is {lot.state}"]
-    return {"lot": lot.code, "state": lot.state, "releasable": not missing, "missing": missing}
+    return {
+        "lot": lot.code, "state": lot.state, "releasable": not missing, "missing": missing,
+        "warnings": release_warnings(lot),
+    }

@@ -16,6 +16,7 @@ from analyses.services.specifications import limit_as_written
 from analyses.services.verdicts import verdict_for
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult
 from plugins.registry import UnknownMethod, get_registry
+from plugins.review_warnings import review_warnings
 
 
 @dataclass(frozen=True)
@@ -31,6 +32,7 @@ class Calculation:
     result: MethodResult
     limits: CalculationLimits | None
     verdict: str | None
+    review_warnings: list[str]  # scope, blank: what a reviewer would be warned of; never a refusal
 
     def as_dict(self) -> dict[str, Any]:
         out = self.result.as_dict()
@@ -41,6 +43,7 @@ class Calculation:
             "source": self.limits.source,
         }
         out["verdict"] = self.verdict
+        out["review_warnings"] = self.review_warnings
         return out
 
 
@@ -102,4 +105,5 @@ def calculation_run(
             maximum=Decimal(limits.maximum) if limits.maximum else None,
             comparison=limits.comparison,
         )
-    return Calculation(result, limits, verdict)
+    warnings = review_warnings(plugin, result.inputs, result.judged, result.unit)
+    return Calculation(result, limits, verdict, warnings)

@@ -35,6 +35,17 @@ def release_samples(lot: Lot) -> list[Sample]:
     )
 
 
+def release_warnings(lot: Lot) -> list[str]:
+    """The review warnings of the lot's release tests, one line each, naming sample and test.
+    They inform the decision and never block it."""
+    return [
+        f"sample {sample.label}: {test.method_code} test {test.pk}: {warning}"
+        for sample in release_samples(lot)
+        for test in sample.live_tests
+        for warning in test.review_warnings or ()
+    ]
+
+
 def release_blockers(lot: Lot) -> list[str]:
     """Every reason the lot cannot be released now, one line each; empty when it can."""
     missing: list[str] = []

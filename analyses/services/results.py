@@ -42,6 +42,7 @@ from analyses.services.access import (
     require_permission,
     required_text,
 )
+from analyses.services.review_warnings import line_inputs, test_review_warnings
 from analyses.services.transitions import record_test_move, sample_require_workable
 from analyses.services.verdicts import line_verdict
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult, exact_context, float_as_decimal
@@ -52,7 +53,7 @@ RESULT_FIELDS = (
     "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
     "idempotency_key",
 )
-AGGREGATE_FIELDS = ("value", "value_exact", "reported", "unit", "verdict", "duplicate_check")
+AGGREGATE_FIELDS = ("value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "review_warnings")
 BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key"}
 KEY_MAX_CHARS = Result._meta.get_field("idempotency_key").max_length
 # the characters a reported value may take, in a result and in its test
@@ -72,7 +73,7 @@ def _calculate(plugin: MethodPlugin, test: Test, inputs: Any) -> MethodResult:
     if not isinstance(inputs, Mapping):
         raise InvalidInput.for_field("inputs", "must be an object of name=value pairs")
     try:
-        outcome = plugin.calculate(inputs)
+        outcome = plugin.calculate(line_inputs(plugin, test.specification_line, inputs))
     except MethodInputError as exc:
         field = "inputs" if exc.field == "inputs" else f"inputs.{exc.field}"
         raise InvalidInput.for_field(field, exc.reason) from None
@@ -164,10 +165,18 @@ def _aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: st
 
 
 def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | None, *, reason: str) -> None:
-    """Store (or clear, with None) the test's aggregate fields, recording the change."""
+    """Store (or clear, with None) the test's aggregate fields, recording the change. The
+    review warnings are worked out here, from the current replicates as stored."""
     before = {name: getattr(test, name) for name in AGGREGATE_FIELDS}
-    cleared = {"value": None, "value_exact": "", "reported": "", "unit": "", "verdict": "", "duplicate_check": None}
-    after = aggregate if aggregate is not None else cleared
+    cleared = {
+        "value": None, "value_exact": "", "reported": "", "unit": "", "verdict": "", "duplicate_check": None,
+        "review_warnings": [],
+    }
+    if aggregate is None:
+        after = cleared
+    else:
+        mean = Decimal(aggregate["value_exact"])
+        after = {**aggregate, "review_warnings": test_review_warnings(_plugin(test), test, mean)}
     for name, value in after.items():
         setattr(test, name, value)
     changes = {name: [before[name], after[name]] for name in AGGREGATE_FIELDS if before[name] != after[name]}

@@ -14,7 +14,7 @@ from analyses.errors import Conflict, NotAllowed
 from analyses.models import AuditAction, Investigation, ResultStatus, Test, TestState, Verdict
 from analyses.services.access import Actor, actor_name, require_permission, required_text
 from analyses.services.follow_up import test_accepted_follow_up
-from analyses.services.results import lock_test_row, set_test_aggregate
+from analyses.services.results import AGGREGATE_FIELDS, lock_test_row, set_test_aggregate
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
 
 INVESTIGATION_FIELDS = ("lot", "test", "state")
@@ -88,7 +88,7 @@ def test_send_back(actor: Actor, test: Test | int, *, reason: str) -> Test:
         set_test_aggregate(actor, test, None, reason=reason)
         record_test_move(actor, test, TestState.SENT_BACK, reason=reason)
         test.review_note = reason
-        test.save(update_fields=["state", "review_note", "value", "value_exact", "reported", "unit", "verdict", "duplicate_check"])
+        test.save(update_fields=["state", "review_note", *AGGREGATE_FIELDS])
     return test
 
 

@@ -8,7 +8,13 @@ A line is given as a mapping::
      "codex_oil_type": "refined",    # instead of limits: the plugin's Codex default
      "release_critical": True,       # default True
      "comparison": "absolute",       # or "rounding" (ASTM E29); default absolute
-     "turnaround_days": 3}           # default due date offset from receipt
+     "turnaround_days": 3,           # default due date offset from receipt
+     "basis": "palmitic"}            # where the method has one (FFA): what the result is
+                                     # expressed as; the line's unit follows ("% as palmitic")
+
+Without ``basis``, a line of such a method takes the conventional basis of its Codex oil
+type, else of the product's oil type (``ResultBasis.by_oil_type``: palm oils as palmitic,
+lauric oils as lauric), else the method's default (oleic).
 
 Errors name the line and field: ``lines.2.maximum``. An approved specification is never
 edited; ``specification_revise`` starts a new draft version from it.
@@ -28,14 +34,15 @@ from analyses.audit import audit_append, created, snapshot
 from analyses.errors import Conflict, InvalidInput
 from analyses.models import AuditAction, Comparison, Product, Specification, SpecificationLine, SpecificationStatus
 from analyses.services.access import Actor, fetch, require_permission
+from plugins.contract import MethodPlugin
 from plugins.registry import UnknownMethod, get_registry
 
 SPECIFICATION_FIELDS = ("product", "version", "status", "effective_from", "note", "revised_from")
 LINE_FIELDS = (
     "position", "method_code", "unit", "minimum", "maximum", "comparison",
-    "release_critical", "turnaround_days", "limits_source",
+    "release_critical", "turnaround_days", "limits_source", "basis",
 )
-LINE_KEYS = {"method", "minimum", "maximum", "codex_oil_type", "release_critical", "comparison", "turnaround_days"}
+LINE_KEYS = {"method", "minimum", "maximum", "codex_oil_type", "release_critical", "comparison", "turnaround_days", "basis"}
 
 
 # what a SpecificationLine keeps of a limit, written out
@@ -68,7 +75,27 @@ def limit_as_written(raw: Any, field: str) -> str:
     return plain
 
 
-def _clean_line(raw: Any, index: int) -> dict[str, Any]:
+def _line_basis(plugin: MethodPlugin, raw: Any, prefix: str, oil_types: Sequence[str]) -> tuple[str, str]:
+    """The line's basis and the unit that follows from it: ("", result_unit) for a method
+    without a basis. The first of ``oil_types`` given names the conventional basis."""
+    given = str(raw.get("basis") or "").strip().lower()
+    if plugin.basis is None:
+        if given:
+            raise InvalidInput.for_field(f"{prefix}.basis", f"method {plugin.code} has no basis to choose")
+        return "", plugin.result_unit
+    choice = next(spec for spec in plugin.inputs if spec.name == plugin.basis.input_name)
+    if given:
+        if given not in choice.choices:
+            raise InvalidInput.for_field(f"{prefix}.basis", f"must be one of {', '.join(choice.choices)}, got {given!r}")
+        basis = given
+    else:
+        # the first oil type given decides: a Codex oil type before the product's
+        oil_type = next((name for name in oil_types if name), "")
+        basis = plugin.basis.by_oil_type.get(oil_type) or choice.default
+    return basis, plugin.unit_for({plugin.basis.input_name: basis})
+
+
+def _clean_line(raw: Any, index: int, product_oil_type: str = "") -> dict[str, Any]:
     prefix = f"lines.{index}"
     if not isinstance(raw, Mapping):
         raise InvalidInput.for_field(prefix, "must be an object")
@@ -100,6 +127,7 @@ def _clean_line(raw: Any, index: int) -> dict[str, Any]:
         source = f"{default.source}; {oil_type}; {default.evidence}"
     if not minimum and not maximum:
         raise InvalidInput.for_field(f"{prefix}.minimum", "give a minimum, a maximum, or a Codex oil type")
+    basis, unit = _line_basis(plugin, raw, prefix, (oil_type, product_oil_type))
     if minimum and maximum and Decimal(minimum) > Decimal(maximum):
         raise InvalidInput.for_field(f"{prefix}.maximum", f"must not be below the minimum {minimum}")
     comparison = str(raw.get("comparison") or Comparison.ABSOLUTE)
@@ -114,20 +142,21 @@ def _clean_line(raw: Any, index: int) -> dict[str, Any]:
     return {
         "position": index,
         "method_code": code,
-        "unit": plugin.result_unit,
+        "unit": unit,
         "minimum": minimum,
         "maximum": maximum,
         "comparison": comparison,
         "release_critical": release_critical,
         "turnaround_days": turnaround,
         "limits_source": source,
+        "basis": basis,
     }
 
 
-def _clean_lines(lines: Sequence[Any]) -> list[dict[str, Any]]:
+def _clean_lines(lines: Sequence[Any], product_oil_type: str = "") -> list[dict[str, Any]]:
     if not isinstance(lines, Sequence) or isinstance(lines, (str, bytes)) or not lines:
         raise InvalidInput.for_field("lines", "give at least one line")
-    cleaned = [_clean_line(raw, index) for index, raw in enumerate(lines)]
+    cleaned = [_clean_line(raw, index, product_oil_type) for index, raw in enumerate(lines)]
     seen: dict[str, int] = {}
     for index, line in enumerate(cleaned):
         if line["method_code"] in seen:
@@ -136,6 +165,28 @@ def _clean_lines(lines: Sequence[Any]) -> list[dict[str, Any]]:
             )
         seen[line["method_code"]] = index
     return cleaned
+
+
+def _oil_type_of(product: Product | int) -> str:
+    """The product's oil type, for the conventional basis of its lines; "" when there is none
+    (an unknown product is refused later, where it is fetched)."""
+    if isinstance(product, Product):
+        return product.oil_type
+    return _first_or_blank(Product.objects.filter, product, "oil_type")
+
+
+def _oil_type_of_specification(specification: Specification | int) -> str:
+    pk = specification.pk if isinstance(specification, Specification) else specification
+    return _first_or_blank(Specification.objects.filter, pk, "product__oil_type")
+
+
+def _first_or_blank(filter_by: Any, pk: Any, field: str) -> str:
+    if isinstance(pk, bool) or not isinstance(pk, (int, str)):
+        return ""
+    try:
+        return filter_by(pk=pk).values_list(field, flat=True).first() or ""
+    except (TypeError, ValueError, OverflowError):  # not an id: refused where it is fetched
+        return ""
 
 
 def _write_lines(actor: Actor, specification: Specification, cleaned: list[dict[str, Any]]) -> None:
@@ -165,7 +216,7 @@ def specification_create(
     Needs ``draft_specification`` (lab manager, QA, admin)."""
     require_permission(actor, "draft_specification", "draft specifications")
     effective = _effective_date(effective_from)
-    cleaned = _clean_lines(lines)
+    cleaned = _clean_lines(lines, _oil_type_of(product))
     with transaction.atomic():
         product = fetch(Product, product, lock=True)  # serialises version numbering per product
         version = (product.specifications.aggregate(top=Max("version"))["top"] or 0) + 1
@@ -187,7 +238,7 @@ def specification_lines_replace(
 ) -> Specification:
     """Replace all lines of a draft. Conflict when the specification is approved."""
     require_permission(actor, "draft_specification", "edit specifications")
-    cleaned = _clean_lines(lines)
+    cleaned = _clean_lines(lines, _oil_type_of_specification(specification))
     with transaction.atomic():
         specification = fetch(Specification, specification, lock=True)
         if specification.is_approved:
@@ -235,7 +286,7 @@ def specification_revise(
     ``lines`` instead). The approved one stays as it is."""
     require_permission(actor, "draft_specification", "revise specifications")
     effective = _effective_date(effective_from)
-    cleaned = _clean_lines(lines) if lines is not None else None
+    cleaned = _clean_lines(lines, _oil_type_of_specification(specification)) if lines is not None else None
     with transaction.atomic():
         source = fetch(Specification, specification, lock=True)
         if not source.is_approved:

@@ -2,6 +2,10 @@
 
 Formula (shared/references.md, found): AV = V x c x 56.1 / m, in mg KOH/g, V = S - B with a
 blank; reported to 0.01. AOCS Ca 5a-40 (found): AV = 1.99 x %FFA as oleic.
+
+Transcription guards: the hand-worked checks below restate the formula the plugin implements, so they
+catch a slip in copying it, not a wrong formula. The independent checks (pure compounds by molmass)
+are in tests/plugins/test_independent_checks.py; DEVELOPERS.md lists both kinds.
 """
 from __future__ import annotations
 
@@ -51,6 +55,8 @@ def test_ffa_conversion_factor_is_the_published_1_99():
 
 
 @pytest.mark.parametrize("ffa", [0.0, 0.1, 0.8, 2.0, 45.0])
+# Transcription guard: the round trip restates the code (x 1.99 then / 1.99); the factor itself is
+# checked against molar masses in test_independent_checks.py.
 def test_ffa_conversion_round_trips(ffa):
     assert ffa_oleic_from_acid_value(acid_value_from_ffa_oleic(ffa)) == pytest.approx(ffa, abs=1e-12)
 

@@ -3,6 +3,10 @@
 Definition (shared/references.md, found): AnV = 100 x absorbance at 350 nm, 1 cm cell, of 1.00 g in 100 mL.
 Formula (shared/references.md, from memory): AnV = 25 x (1.2 x As - Ab) / m, m in g in 25 mL of iso-octane.
 TOTOX (shared/references.md, found): TOTOX = 2 x PV + AnV.
+
+Transcription guards: the hand-worked checks below restate the formula the plugin implements, so they
+catch a slip in copying it, not a wrong formula. The independent checks (pure compounds by molmass)
+are in tests/plugins/test_independent_checks.py; DEVELOPERS.md lists both kinds.
 """
 from __future__ import annotations
 

@@ -3,6 +3,8 @@
 The table below is copied from references.md, row by row, with its tag: "found" rows were read
 in copies of the standard, "memory" rows were recalled and not confirmed. The plugin must carry
 the same value and say the same about its evidence.
+
+A transcription guard: it checks the copy of references.md, not the standard itself.
 """
 from __future__ import annotations
 
@@ -91,3 +93,15 @@ def test_identity_ranges_are_ordered():
 
 def test_method_without_codex_limits_gets_none():
     assert codex.limits_for("anv") == ()
+
+
+def test_conventional_ffa_basis_names_known_oil_types_and_bases():
+    # plugins/codex.py: palm oils as palmitic, lauric oils as lauric (Ca 5a-40, from memory; partly seen in copies)
+    from plugins.free_fatty_acids import BASIS_FACTORS, FreeFattyAcids
+
+    assert set(codex.FFA_BASIS_BY_OIL_TYPE) <= set(codex.OIL_TYPES)
+    assert set(codex.FFA_BASIS_BY_OIL_TYPE.values()) <= set(BASIS_FACTORS)
+    assert codex.FFA_BASIS_BY_OIL_TYPE["palm"] == "palmitic" and codex.FFA_BASIS_BY_OIL_TYPE["coconut"] == "lauric"
+    assert FreeFattyAcids.basis.by_oil_type is codex.FFA_BASIS_BY_OIL_TYPE
+    # the Codex FFA limits (CXS 33, olive oils) are all "as oleic", the default for oil types not listed
+    assert all(limit.oil_type not in codex.FFA_BASIS_BY_OIL_TYPE for limit in codex.limits_for("ffa"))

@@ -44,7 +44,7 @@ AT_THE_LIMIT = [
         "50.0", id="iv-palm-min-50.0",  # float: 49.99999999999999
     ),
     pytest.param(
-        PeroxideValue(), {"sample_mass": "4.97", "sample_volume": "4.97", "titrant_concentration": "0.01"},
+        PeroxideValue(), {"sample_mass": "4.97", "sample_volume": "4.97", "blank_volume": "0", "titrant_concentration": "0.01"},
         "10", id="pv-max-10",  # float: 10.000000000000002
     ),
     pytest.param(

@@ -3,6 +3,10 @@
 Formula (shared/references.md, found): %FFA = V x c x F / m, F = 28.2 oleic, 25.6 palmitic,
 20.0 lauric; sample mass table 56.4 g / 28.2 g with 0.1 N, 7.05 g with 0.25 N, 3.525 g with 1.0 N.
 Expected values are that formula worked by hand or molar masses from molmass.
+
+Transcription guards: the hand-worked checks below restate the formula the plugin implements, so they
+catch a slip in copying it, not a wrong formula. The independent checks (pure compounds by molmass)
+are in tests/plugins/test_independent_checks.py; DEVELOPERS.md lists both kinds.
 """
 from __future__ import annotations
 

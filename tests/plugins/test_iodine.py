@@ -3,6 +3,10 @@
 Formula (shared/references.md, found): IV = (B - S) x c x 12.69 / m, in g I2/100 g, with B and
 S the blank and sample thiosulfate titres (mL), c in mol/L, m in g. Expected values are that
 formula worked by hand or molar masses from molmass, never the plugin's own output.
+
+Transcription guards: the hand-worked checks below restate the formula the plugin implements, so they
+catch a slip in copying it, not a wrong formula. The independent checks (pure compounds by molmass)
+are in tests/plugins/test_independent_checks.py; DEVELOPERS.md lists both kinds.
 """
 from __future__ import annotations
 

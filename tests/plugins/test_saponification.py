@@ -3,6 +3,10 @@
 Formula (shared/references.md, found): SV = (B - S) x c x 56.1 / m, in mg KOH/g, with B and
 S the blank and sample HCl titres (mL), c the HCl concentration (mol/L), m the test portion (g).
 Expected values below are that formula worked by hand, never the plugin's own output.
+
+Transcription guards: the hand-worked checks below restate the formula the plugin implements, so they
+catch a slip in copying it, not a wrong formula. The independent checks (pure compounds by molmass)
+are in tests/plugins/test_independent_checks.py; DEVELOPERS.md lists both kinds.
 """
 from __future__ import annotations
 

@@ -48,6 +48,10 @@ class ReadinessSerializer(serializers.Serializer):
     state = serializers.CharField()
     releasable = serializers.BooleanField()
     missing = serializers.ListField(child=serializers.CharField(), help_text="What stands between the lot and its release")
+    warnings = serializers.ListField(
+        child=serializers.CharField(),
+        help_text="Review warnings of the lot's tests (outside a method's scope, blank not run); they do not block release",
+    )
 
 
 # The certificate's content, described for clients; it is returned exactly as stored.

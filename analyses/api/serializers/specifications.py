@@ -12,7 +12,7 @@ class SpecificationLineSerializer(serializers.ModelSerializer):
         model = SpecificationLine
         fields = [
             "id", "position", "method_code", "unit", "minimum", "maximum", "comparison",
-            "release_critical", "turnaround_days", "limits_source",
+            "release_critical", "turnaround_days", "limits_source", "basis",
         ]
         read_only_fields = fields
 
@@ -52,6 +52,13 @@ class SpecificationLineInputSerializer(StrictSerializer):
     release_critical = serializers.BooleanField(required=False, help_text="Default true")
     comparison = serializers.ChoiceField(choices=Comparison.choices, required=False, help_text="ASTM E29 method; default absolute")
     turnaround_days = serializers.IntegerField(required=False, min_value=0, max_value=365, help_text="Default 3")
+    basis = serializers.CharField(
+        required=False, allow_blank=True,
+        help_text=(
+            "Where the method has one (ffa: oleic, palmitic, lauric): what results are expressed as; the unit follows "
+            '("% as palmitic"). Default: the conventional basis of the Codex oil type or the product\'s oil type, else oleic'
+        ),
+    )
 
 
 class SpecificationCreateSerializer(StrictSerializer):

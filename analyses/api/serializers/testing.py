@@ -25,13 +25,18 @@ class TestSerializer(serializers.ModelSerializer):
     assignee = username_field("assignee")
     reviewed_by = username_field("reviewed_by")
     is_overdue = serializers.SerializerMethodField(help_text="Open and due before today")
+    review_warnings = serializers.ListField(
+        child=serializers.CharField(), read_only=True,
+        help_text="For the reviewer: a result outside the method's validated range, a prescribed blank not run; never a block",
+    )
 
     class Meta:
         model = Test
         fields = [
             "id", "sample", "sample_label", "lot", "lot_code", "product_code", "method_code", "replicates",
             "priority", "due_on", "is_overdue", "state", "assignee", "assigned_at", "retest_of",
-            "value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "minimum", "maximum", "comparison",
+            "value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "review_warnings", "minimum", "maximum",
+            "comparison",
             "release_critical", "reviewed_by", "reviewed_at", "review_note", "created_at",
         ]
         read_only_fields = fields

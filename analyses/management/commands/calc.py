@@ -50,3 +50,5 @@ class Command(BaseCommand):
             limits = calculation.limits
             bounds = " to ".join(filter(None, [limits.minimum and f"min {limits.minimum}", limits.maximum and f"max {limits.maximum}"]))
             self.stdout.write(f"verdict: {calculation.verdict}  ({bounds}, ASTM E29 {limits.comparison})")
+        for warning in calculation.review_warnings:
+            self.stdout.write(f"review warning: {warning}")

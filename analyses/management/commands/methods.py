@@ -9,6 +9,17 @@ from analyses.selectors.methods import method_list
 from plugins.registry import get_registry
 
 
+def _range(scope: dict) -> str:
+    low = "" if scope["minimum"] is None else f"{scope['minimum']:g}"
+    high = "" if scope["maximum"] is None else f"{scope['maximum']:g}"
+    if not high:
+        return f"from {low}"
+    upper = high if scope["maximum_inclusive"] else f"below {high}"
+    if low:
+        return f"{low} to {upper}"
+    return upper if not scope["maximum_inclusive"] else f"up to {high}"
+
+
 class Command(BaseCommand):
     help = "List the registered method plugins with code, title, unit, standards and inputs."
 
@@ -29,5 +40,7 @@ class Command(BaseCommand):
                     self.stdout.write(f"      {spec['name']} ({spec['unit']}{optional}): {spec['help']}")
                 else:
                     self.stdout.write(f"      {spec['name']} (one of {', '.join(spec['choices'])}): {spec['help']}")
+            for scope in method["scope"]:
+                self.stdout.write(f"      scope: {_range(scope)} {method['result_unit']}, {scope['source']}")
         for rejected in get_registry().rejected:
             self.stderr.write(f"left out: {rejected.entry_point}: {rejected.reason}")

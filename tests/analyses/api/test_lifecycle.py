@@ -78,7 +78,7 @@ def test_receipt_to_release_and_certificate(users, clients):
         assert accepted["state"] == "accepted" and accepted["reviewed_by"] == "analyst2"
 
     readiness = ok(qa.get(f"/api/lots/{lot['id']}/readiness/"))
-    assert readiness == {"lot": "SUN-24-001", "state": "open", "releasable": True, "missing": []}
+    assert readiness == {"lot": "SUN-24-001", "state": "open", "releasable": True, "missing": [], "warnings": []}
     issued = ok(qa.post(f"/api/lots/{lot['id']}/release/", {"note": "all specifications met"}, format="json"), 201)
     assert issued["number"] == "COA-SUN-24-001" and issued["issued_by"] == "qa"
 

@@ -80,7 +80,7 @@ EXACT_AT_LIMIT = [
     ("sv", {"sample_mass": "1.965", "sample_volume": "11.90", "blank_volume": "25.00", "titrant_concentration": "0.5"}, {"oil_type": "maize"}),
     ("av", {"sample_mass": "9.35", "sample_volume": "1.00", "titrant_concentration": "0.1"}, {"oil_type": "refined"}),
     ("iv", {"sample_mass": "0.2538", "sample_volume": "40.0", "blank_volume": "50.0", "titrant_concentration": "0.1"}, {"oil_type": "palm"}),
-    ("pv", {"sample_mass": "4.97", "sample_volume": "4.97", "titrant_concentration": "0.01"}, {"oil_type": "refined"}),
+    ("pv", {"sample_mass": "4.97", "sample_volume": "4.97", "blank_volume": "0", "titrant_concentration": "0.01"}, {"oil_type": "refined"}),
     ("ffa", {"sample_mass": "9.4", "sample_volume": "1.00", "titrant_concentration": "0.1"}, {"maximum": "0.3"}),
 ]
 

@@ -115,7 +115,7 @@ def test_results_exactly_at_the_limit_pass_over_rest(lab, clients):
     # AV = 1.00 x 0.1 x 56.1 / 9.35 = 0.6 and PV = 4.97 x 0.01 x 1000 / 4.97 = 10 exactly.
     av_test, pv_test = lab.assigned("analyst")
     av = {"sample_mass": "9.35", "sample_volume": "1.00", "titrant_concentration": "0.1"}
-    pv = {"sample_mass": "4.97", "sample_volume": "4.97", "titrant_concentration": "0.01"}
+    pv = {"sample_mass": "4.97", "sample_volume": "4.97", "blank_volume": "0", "titrant_concentration": "0.01"}
     for test, inputs in ((av_test, av), (pv_test, pv)):
         as_text = clients["analyst"].post("/api/results/", {"test": test.pk, "inputs": inputs}, format="json")
         as_numbers = clients["analyst"].post(

@@ -28,7 +28,7 @@ def test_calc_json_gives_value_reported_and_unit(capsys):
 
 def test_calc_plain_output_shows_reported_value_and_unit(capsys):
     # AOCS Cd 8b-90: PV = (S - B) * c * 1000 / m = 5.0 * 0.01 * 1000 / 5.0 = 10.0
-    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "titrant_concentration=0.01")
+    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "blank_volume=0", "titrant_concentration=0.01")
     assert capsys.readouterr().out.strip().startswith("10.0 meq O2/kg")
 
 
@@ -82,7 +82,7 @@ EXACT_AT_LIMIT = [
     (["sv", "sample_mass=1.965", "sample_volume=11.90", "blank_volume=25.00", "titrant_concentration=0.5", "--oil-type", "maize"], "187.0"),
     (["av", "sample_mass=9.35", "sample_volume=1.00", "titrant_concentration=0.1", "--oil-type", "refined"], "0.60"),
     (["iv", "sample_mass=0.2538", "sample_volume=40.0", "blank_volume=50.0", "titrant_concentration=0.1", "--oil-type", "palm"], "50.0"),
-    (["pv", "sample_mass=4.97", "sample_volume=4.97", "titrant_concentration=0.01", "--oil-type", "refined"], "10.0"),
+    (["pv", "sample_mass=4.97", "sample_volume=4.97", "blank_volume=0", "titrant_concentration=0.01", "--oil-type", "refined"], "10.0"),
     (["ffa", "sample_mass=9.4", "sample_volume=1.00", "titrant_concentration=0.1", "--maximum", "0.3"], "0.30"),
 ]
 
@@ -125,3 +125,13 @@ def test_calc_judges_just_beyond_the_limit_as_oos(capsys):
 def test_calc_bad_limits_name_the_field(extra, field):
     with pytest.raises(CommandError, match=field):
         call_command("calc", "av", "sample_mass=9.35", "sample_volume=1.00", "titrant_concentration=0.1", *extra)
+
+
+def test_calc_prints_review_warnings_and_puts_them_in_json(capsys):
+    # PV without a blank (Reg. (EEC) 2568/91 Annex III prescribes one, found): 5.0 x 0.01 x 1000 / 5.0 = 10.0
+    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "blank_not_run=true", "titrant_concentration=0.01")
+    lines = capsys.readouterr().out.strip().splitlines()
+    assert lines[0].startswith("10.0 meq O2/kg")
+    assert lines[1].startswith("review warning: no blank was run")
+    call_command("calc", "pv", "sample_mass=5", "sample_volume=5", "blank_volume=0", "titrant_concentration=0.01", "--json")
+    assert json.loads(capsys.readouterr().out)["review_warnings"] == []

@@ -20,3 +20,12 @@ def test_methods_text_shows_code_title_unit_standards_and_inputs(capsys):
     assert "iv    Iodine value (Wijs)  [g I2/100 g]" in out
     assert "AOCS Cd 1d-92; ISO 3961" in out
     assert "titrant_concentration (mol/L)" in out
+
+
+def test_methods_text_shows_each_scope_with_its_source(capsys):
+    call_command("methods")
+    out = capsys.readouterr().out
+    # ISO 3960 (found): 0-30 meq/kg; AOCS Cd 8b-90 (found): erratic at 70 and above; Cd 1d-92 (found): 18-165
+    assert "scope: 0 to 30 meq O2/kg, ISO 3960" in out
+    assert "scope: up to below 70" not in out and "scope: below 70 meq O2/kg, AOCS Cd 8b-90" in out
+    assert "scope: 18 to 165 g I2/100 g, AOCS Cd 1d-92" in out

@@ -78,7 +78,7 @@ def test_certificate_and_readiness(users, assigned_tests):
     assert readiness["releasable"] is False and len(readiness["missing"]) == 2
     for test in enter_passing(users["analyst"], assigned_tests):
         test_accept(users["analyst2"], test)
-    assert lot_readiness(lot) == {"lot": "L-100", "state": "open", "releasable": True, "missing": []}
+    assert lot_readiness(lot) == {"lot": "L-100", "state": "open", "releasable": True, "missing": [], "warnings": []}
     lot_release(users["qa"], lot)
     certificate = certificate_for(lot.pk)
     assert certificate["number"] == "COA-L-100" and certificate["issued_by"] == "qa"

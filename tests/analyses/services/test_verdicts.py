@@ -120,7 +120,7 @@ def test_results_take_the_comparison_their_specification_line_names(users):
 
     # PV = 5.02 mL * 0.01 mol/L * 1000 / 5.0 g = 10.04 meq/kg (AOCS Cd 8b-90 formula by hand): by the
     # rounding method it is rounded to the limit's one place, 10.0, which conforms.
-    pv_inputs = {"sample_mass": "5.0", "sample_volume": "5.02", "titrant_concentration": "0.01"}
+    pv_inputs = {"sample_mass": "5.0", "sample_volume": "5.02", "blank_volume": "0", "titrant_concentration": "0.01"}
     first = result_record(analyst, tests["pv"], inputs=pv_inputs)
     assert first.reported == "10.0"
     assert first.verdict == PASS
@@ -135,7 +135,7 @@ EXACT_AT_LIMIT = {
     "sv": ({"codex_oil_type": "maize"}, {"sample_mass": "1.965", "sample_volume": "11.90", "blank_volume": "25.00", "titrant_concentration": "0.5"}, "187.0"),
     "av": ({"codex_oil_type": "refined"}, {"sample_mass": "9.35", "sample_volume": "1.00", "titrant_concentration": "0.1"}, "0.60"),
     "iv": ({"codex_oil_type": "palm"}, {"sample_mass": "0.2538", "sample_volume": "40.0", "blank_volume": "50.0", "titrant_concentration": "0.1"}, "50.0"),
-    "pv": ({"codex_oil_type": "refined"}, {"sample_mass": "4.97", "sample_volume": "4.97", "titrant_concentration": "0.01"}, "10.0"),
+    "pv": ({"codex_oil_type": "refined"}, {"sample_mass": "4.97", "sample_volume": "4.97", "blank_volume": "0", "titrant_concentration": "0.01"}, "10.0"),
     "ffa": ({"maximum": "0.3"}, {"sample_mass": "9.4", "sample_volume": "1.00", "titrant_concentration": "0.1"}, "0.30"),
 }
 

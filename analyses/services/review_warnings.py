@@ -1,0 +1,51 @@
+"""Review warnings of a test, from its current replicates (``plugins.review_warnings``), and
+the inputs a specification line completes (the basis its unit follows)."""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from analyses.models import ResultStatus, SpecificationLine, Test
+from plugins.blanks import blank_warnings
+from plugins.contract import MethodInputError, MethodPlugin
+from plugins.review_warnings import scope_warnings
+
+
+def line_inputs(plugin: MethodPlugin, line: SpecificationLine, inputs: Mapping[str, Any]) -> Mapping[str, Any]:
+    """``inputs`` with the line's basis where the analyst gave none: on a line "% as palmitic"
+    an FFA entered without ``fatty_acid_basis`` is expressed as palmitic, not as the
+    plugin's default. A basis given is kept, and refused later if it disagrees with the line."""
+    if plugin.basis is None or not line.basis:
+        return inputs
+    given = inputs.get(plugin.basis.input_name)
+    if given is not None and not (isinstance(given, str) and not given.strip()):
+        return inputs
+    return {**inputs, plugin.basis.input_name: line.basis}
+
+
+def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
+    """Blank warnings of each current replicate, one line per distinct warning naming the replicates."""
+    by_warning: dict[str, list[int]] = {}
+    for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
+        try:
+            values = plugin.validate(line_inputs(plugin, test.specification_line, result.inputs))
+        except MethodInputError as exc:  # entered under an older version of the method's checks
+            found = [f"its inputs no longer pass method {plugin.code}'s checks ({exc.field}: {exc.reason})"]
+        else:
+            found = blank_warnings(plugin.blank, values)
+        for warning in found:
+            by_warning.setdefault(warning, []).append(result.replicate)
+    lines = []
+    for warning, replicates in by_warning.items():
+        label = "replicate" if len(replicates) == 1 else "replicates"
+        lines.append(f"{label} {', '.join(str(n) for n in replicates)}: {warning}")
+    return lines
+
+
+def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[str]:
+    """What the reviewer should weigh before accepting ``test``, whose replicates are all in:
+    their blanks, and the mean against the method's scope. Never a reason to refuse."""
+    return _replicate_warnings(plugin, test) + scope_warnings(plugin, mean, test.specification_line.unit)
+
+
+test_review_warnings.__test__ = False  # a service, not a pytest test

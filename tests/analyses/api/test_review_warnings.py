@@ -1,0 +1,64 @@
+"""Scope, blank and basis over REST: the method's declarations, the calculation's warnings, the
+review queue and the lot's readiness. Sources as in tests/plugins/test_review_warnings.py."""
+from __future__ import annotations
+
+import pytest
+
+from analyses.services.results import result_record
+from tests.analyses.lab_setup import PV_LOW, PV_LOW_TWIN
+
+# 12.5 mL and 12.7 mL of 0.002 mol/L thiosulfate on 5.0 g, no blank run: 5.0 and 5.08 meq O2/kg
+NO_BLANK = {**{k: v for k, v in PV_LOW.items() if k != "blank_volume"}, "blank_not_run": True}
+NO_BLANK_TWIN = {**{k: v for k, v in PV_LOW_TWIN.items() if k != "blank_volume"}, "blank_not_run": "yes"}
+
+
+def test_method_detail_declares_scope_blank_and_basis(clients):
+    pv = clients["anonymous"].get("/api/methods/pv/").json()
+    assert [(s["minimum"], s["maximum"], s["maximum_inclusive"]) for s in pv["scope"]] == [(0.0, 30.0, True), (None, 70.0, False)]
+    assert pv["scope"][0]["source"].startswith("ISO 3960") and pv["scope"][1]["source"] == "AOCS Cd 8b-90"
+    assert pv["blank"]["prescribed"] is True and "2568/91" in pv["blank"]["source"]
+    assert pv["blank"]["limit_mmol"] == 0.0005
+    assert pv["basis"] is None
+    assert "blank_not_run" in [spec["name"] for spec in pv["inputs"]]
+    iv = clients["anonymous"].get("/api/methods/iv/").json()
+    assert [(s["minimum"], s["maximum"]) for s in iv["scope"]] == [(18.0, 165.0)]
+    ffa = clients["anonymous"].get("/api/methods/ffa/").json()
+    assert ffa["basis"]["input"] == "fatty_acid_basis"
+    assert ffa["basis"]["by_oil_type"]["palm"] == "palmitic" and ffa["basis"]["by_oil_type"]["coconut"] == "lauric"
+
+
+def test_calculation_returns_its_review_warnings(clients):
+    # 17.5 mL of 0.01 mol/L on 5.0 g, blank 0: 35.0 meq O2/kg, above ISO 3960's 30 (found)
+    inputs = {"sample_mass": 5.0, "sample_volume": 17.5, "blank_volume": 0, "titrant_concentration": 0.01}
+    body = clients["anonymous"].post("/api/calculations/", {"method": "pv", "inputs": inputs}, format="json").json()
+    assert body["reported"] == "35.0"
+    assert len(body["review_warnings"]) == 1 and "ISO 3960" in body["review_warnings"][0]
+    inside = {**inputs, "sample_volume": 5.0}
+    assert clients["anonymous"].post("/api/calculations/", {"method": "pv", "inputs": inside}, format="json").json()["review_warnings"] == []
+
+
+def test_review_queue_and_readiness_show_the_warning(lab, users, clients):
+    tests = {t.method_code: t for t in lab.assigned("analyst")}
+    result_record(users["analyst"], tests["pv"], inputs=NO_BLANK)
+    result_record(users["analyst"], tests["pv"], inputs=NO_BLANK_TWIN)
+    queue = clients["analyst2"].get("/api/tests/review/").json()["results"]
+    (row,) = [r for r in queue if r["id"] == tests["pv"].pk]
+    assert len(row["review_warnings"]) == 1 and row["review_warnings"][0].startswith("replicates 1, 2: no blank was run")
+    readiness = clients["manager"].get(f"/api/lots/{lab.lot.pk}/readiness/").json()
+    assert readiness["warnings"] == [f"sample L-200-A: pv test {tests['pv'].pk}: {row['review_warnings'][0]}"]
+    assert readiness["releasable"] is False  # for the av test, which has no results yet, not for the warning
+
+
+def test_a_specification_line_takes_a_basis_over_rest(lab, clients):
+    response = clients["manager"].put(
+        f"/api/specifications/{lab.draft.pk}/lines/",
+        {"lines": [{"method": "ffa", "maximum": "0.1", "basis": "lauric"}]},
+        format="json",
+    )
+    assert response.status_code == 200, response.json()
+    (line,) = response.json()["lines"]
+    assert (line["basis"], line["unit"]) == ("lauric", "% as lauric")
+    refused = clients["manager"].put(
+        f"/api/specifications/{lab.draft.pk}/lines/", {"lines": [{"method": "av", "maximum": "0.6", "basis": "lauric"}]}, format="json"
+    )
+    assert refused.status_code == 400 and "lines.0.basis" in refused.json()["fields"]
