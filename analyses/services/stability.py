@@ -186,6 +186,8 @@ def stability_study_create(
                 raise InvalidInput.for_field(f"lots.{index}", f"lot {lot_ref} not found") from None
             if lot.product_id != product.pk:
                 raise InvalidInput.for_field(f"lots.{index}", f"lot {lot.code} is not a lot of {product.code}")
+            if lot in lot_rows:  # its pull points would clash with the first one's
+                raise InvalidInput.for_field(f"lots.{index}", f"repeats lot {lot.code}")
             lot_rows.append(lot)
         key.refuse_if_taken()
         study = StabilityStudy.objects.create(
