@@ -1,7 +1,9 @@
 """Roles as Django groups, and the permissions each holds.
 
-Services check permissions (``user.has_perm``), never group names, except for the
-segregation-of-duties rule that a QA reviewer never enters or corrects raw data.
+Services and the API ask ``role_permits(user, codename)``: ``user.has_perm`` for most
+permissions, but membership of the QA group for the decisions that are QA's alone
+(``QA_ONLY``), so that no superuser flag grants them. The segregation-of-duties rule that
+a QA reviewer never enters or corrects raw data is membership too (``in_role``).
 ``roles_ensure()`` creates or repairs the groups; migration 0002 does the same at
 install time.
 """
@@ -39,8 +41,11 @@ PERMISSION_MODELS: dict[str, str] = {
     "acknowledge_alert": "alert",
 }
 
-# "Only QA approves specifications and releases or rejects lots" (issue 3): not even admins.
+# "Only QA approves specifications and releases or rejects lots" (issue 3): not even admins,
+# and not superusers (issue 8): these are checked by membership of the QA group.
 QA_ONLY: tuple[str, ...] = ("approve_specification", "release_lot")
+# Raw data that QA never enters or corrects, whatever other groups (or flags) they hold.
+RAW_DATA_ENTRY: tuple[str, ...] = ("record_result", "record_any_result")
 
 ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
     LAB_MANAGER: (
@@ -94,6 +99,42 @@ def roles_ensure() -> dict[str, Group]:
         group.permissions.set(permissions)
         groups[role] = group
     return groups
+
+
+def in_role(user, role: str) -> bool:
+    """Whether ``user`` is an active, signed-in member of the ``role`` group. The superuser
+    flag counts for nothing here."""
+    if user is None or not getattr(user, "is_authenticated", False) or not user.is_active:
+        return False
+    return user.groups.filter(name=role).exists()
+
+
+def role_permits(user, codename: str) -> bool:
+    """Whether ``user`` may do what ``analyses.<codename>`` stands for: a QA-only decision
+    needs membership of the QA group (``has_perm`` is true for every superuser); entering
+    raw data is refused to every member of the QA group; anything else needs the
+    permission, which superusers hold as admins do."""
+    if user is None or not getattr(user, "is_authenticated", False):
+        return False
+    if codename not in QA_ONLY and codename not in RAW_DATA_ENTRY:
+        return user.has_perm(permission_label(codename))
+    return _permits(user, codename, qa=in_role(user, QA_REVIEWER))
+
+
+def permitted_codenames(user) -> list[str]:
+    """Every codename ``role_permits`` grants ``user`` (one query for the QA group)."""
+    if user is None or not getattr(user, "is_authenticated", False):
+        return []
+    qa = in_role(user, QA_REVIEWER)
+    return sorted(codename for codename in PERMISSION_MODELS if _permits(user, codename, qa=qa))
+
+
+def _permits(user, codename: str, *, qa: bool) -> bool:
+    if codename in QA_ONLY:
+        return qa
+    if codename in RAW_DATA_ENTRY and qa:
+        return False
+    return user.has_perm(permission_label(codename))
 
 
 def user_roles(user) -> list[str]:

@@ -16,7 +16,7 @@ def basis_from_unit(apps, schema_editor):
 class Migration(migrations.Migration):
 
     dependencies = [
-        ("analyses", "0007_admin_without_qa_decisions"),
+        ("analyses", "0010_audit_guard"),
     ]
 
     operations = [

@@ -3,14 +3,13 @@ from __future__ import annotations
 
 from typing import Any
 
-from analyses.roles import user_roles
+from analyses.roles import permitted_codenames, user_roles
 
 
 def user_summary(user) -> dict[str, Any]:
-    """The user's names, role groups and the analyses permissions those grant."""
-    permissions = sorted(
-        label.split(".", 1)[1] for label in user.get_all_permissions() if label.startswith("analyses.")
-    )
+    """The user's names, role groups and what they may do (``analyses.roles.role_permits``:
+    a superuser is not shown the QA-only decisions, nor a QA reviewer raw-data entry)."""
+    permissions = permitted_codenames(user)
     return {
         "id": user.pk,
         "username": user.username,

@@ -7,7 +7,7 @@ from django.contrib.auth.models import AbstractBaseUser, AnonymousUser
 from django.db import models
 
 from analyses.errors import InvalidInput, NotAllowed, NotFound
-from analyses.roles import QA_REVIEWER, permission_label
+from analyses.roles import QA_REVIEWER, in_role, role_permits
 
 Actor = AbstractBaseUser | AnonymousUser | None
 # the largest id a database row can have (a 64-bit signed integer); larger ones name no row
@@ -20,18 +20,16 @@ def actor_name(actor: Actor) -> str:
 
 
 def require_permission(actor: Actor, codename: str, doing: str) -> None:
-    """Raise NotAllowed unless ``actor`` is an active user holding analyses.<codename>."""
-    if actor is None or not actor.is_authenticated or not actor.has_perm(permission_label(codename)):
+    """Raise NotAllowed unless ``analyses.roles.role_permits`` lets ``actor`` do
+    ``codename``: QA-only decisions by membership of the QA group, never by a superuser flag."""
+    if not role_permits(actor, codename):
         raise NotAllowed(f"{actor_name(actor)} may not {doing}")
 
 
 def refuse_raw_data_edit_by_qa(actor: Actor) -> None:
-    """Segregation of duties: a QA reviewer (who is not an admin) never enters or corrects
-    raw data, whatever other groups they are in."""
-    if actor is None or getattr(actor, "is_superuser", False):
-        return
-    groups = set(actor.groups.values_list("name", flat=True))
-    if QA_REVIEWER in groups and not actor.has_perm(permission_label("record_any_result")):
+    """Segregation of duties: a member of the QA group never enters or corrects raw data,
+    whatever other groups they are in, admins and superusers included."""
+    if in_role(actor, QA_REVIEWER):
         raise NotAllowed(f"{actor_name(actor)} is a QA reviewer and may not enter or correct results")
 
 

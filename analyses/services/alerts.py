@@ -53,10 +53,13 @@ def alerts_raise(drafts: Sequence[AlertDraft], actor: Actor = None) -> list[Aler
         known.update(Alert.objects.filter(episode_key__in=keys[start:start + KEY_BATCH]).values_list("episode_key", flat=True))
     now = timezone.now()
     raised = []
-    with transaction.atomic():
-        for key in keys:
-            if key in known:
-                continue
+    for key in keys:
+        if key in known:
+            continue
+        # One transaction per alert, its insert before the audit chain's lock: scans running
+        # at once with the same episodes in other orders would otherwise deadlock, each
+        # holding the chain while waiting on an episode key the other inserted.
+        with transaction.atomic():
             # get_or_create, not insert: a scan running at the same time may have raised it first
             alert, made = Alert.objects.get_or_create(episode_key=key, defaults={"raised_at": now, **unique[key].__dict__})
             if made:

@@ -10,7 +10,7 @@ from django.utils import timezone
 
 from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import Priority, Sample, Test, TestState
-from analyses.roles import permission_label
+from analyses.roles import role_permits
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
 
@@ -44,12 +44,12 @@ def test_assign_bulk(
         assignee = user_model.objects.filter(pk=assignee).first()
         if assignee is None:
             raise InvalidInput.for_field("assignee", "no such user")
-    if not assignee.is_active or not assignee.has_perm(permission_label("record_result")):
-        raise InvalidInput.for_field("assignee", f"{assignee.username} may not enter results")
     try:  # a QA reviewer never enters raw data, whatever other groups they are in
         refuse_raw_data_edit_by_qa(assignee)
     except NotAllowed as exc:
         raise InvalidInput.for_field("assignee", exc.detail) from None
+    if not assignee.is_active or not role_permits(assignee, "record_result"):
+        raise InvalidInput.for_field("assignee", f"{assignee.username} may not enter results")
     ids = [t.pk if isinstance(t, Test) else t for t in tests]
     for index, pk in enumerate(ids):
         if isinstance(pk, bool) or not isinstance(pk, int):

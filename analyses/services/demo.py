@@ -23,6 +23,7 @@ from analyses.models import Investigation, Lot, Product, Sample, Test
 from analyses.roles import roles_ensure
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.demo_monitoring import demo_monitoring_load
+from analyses.services.emergency import superuser_flags_clear
 from analyses.services.investigations import investigation_close
 from analyses.services.lots import lot_create, lot_reject, lot_release
 from analyses.services.products import product_create
@@ -162,11 +163,12 @@ def _users(data: Mapping[str, Any], summary: DemoSummary, log: Log) -> dict[str,
             },
         )
         if created:
-            user.set_password(data["demo_password"])
-            if entry["role"] == "admin":
-                user.is_staff = user.is_superuser = True
+            user.set_password(data["demo_password"])  # no demo user is staff or superuser (issue 8)
             user.save()
             summary.created["users"] += 1
+        elif user.is_superuser or user.is_staff:  # made by an older demo, which made its admin a superuser
+            user = superuser_flags_clear(user, reason="demo users are never superusers (issue 8)")
+            log(f"  user {user.username}: superuser and staff flags removed")
         user.groups.add(groups[entry["role"]])
         token, _ = Token.objects.get_or_create(user=user)
         summary.logins.append(DemoLogin(user.username, entry["role"], token.key))

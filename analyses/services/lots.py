@@ -22,6 +22,7 @@ from analyses.services.access import Actor, fetch, require_permission, required_
 from analyses.services.certificates import certificate_issue
 from analyses.services.release import RELEASE_KINDS, release_blockers
 from analyses.services.transitions import cancel_open_tests, sample_move
+from analyses.services.uniqueness import UniqueKey
 
 # open tests that a release cancels (a result awaiting review blocks the release instead)
 UNSTARTED_TEST_STATES = (TestState.PENDING, TestState.ASSIGNED, TestState.SENT_BACK)
@@ -59,10 +60,10 @@ def lot_create(
             raise InvalidInput.for_field("quantity_kg", "must be a number") from None
         if not quantity.is_finite() or quantity <= 0:
             raise InvalidInput.for_field("quantity_kg", "must be a positive number")
-    if Lot.objects.filter(code=code).exists():
-        raise InvalidInput.for_field("code", f"lot {code!r} already exists")
+    key = UniqueKey(Lot, "code", code, f"lot {code!r} already exists")
+    key.refuse_if_taken()
     product = fetch(Product, product)
-    with transaction.atomic():
+    with key.insert():  # a concurrent create of the same code gets the same answer
         lot = Lot.objects.create(
             code=code,
             product=product,

@@ -1,13 +1,12 @@
 """Creating oil products (grades)."""
 from __future__ import annotations
 
-from django.db import transaction
 from django.utils import timezone
 
 from analyses.audit import audit_append, created
-from analyses.errors import InvalidInput
 from analyses.models import AuditAction, Product
 from analyses.services.access import Actor, require_permission, required_text
+from analyses.services.uniqueness import UniqueKey
 
 PRODUCT_FIELDS = ("code", "name", "oil_type", "description")
 
@@ -17,9 +16,9 @@ def product_create(actor: Actor, *, code: str, name: str, oil_type: str = "", de
     require_permission(actor, "add_product", "create products")
     code = required_text(code, "code")
     name = required_text(name, "name")
-    if Product.objects.filter(code=code).exists():
-        raise InvalidInput.for_field("code", f"product {code!r} already exists")
-    with transaction.atomic():
+    key = UniqueKey(Product, "code", code, f"product {code!r} already exists")
+    key.refuse_if_taken()
+    with key.insert():  # a concurrent create of the same code gets the same answer
         product = Product.objects.create(
             code=code,
             name=name,

@@ -33,7 +33,7 @@ from analyses.models import (
     Test,
     TestState,
 )
-from analyses.roles import permission_label
+from analyses.roles import role_permits
 from analyses.services.access import (
     Actor,
     actor_name,
@@ -119,7 +119,7 @@ def _clean_key(idempotency_key: str | None) -> str | None:
 
 
 def _check_may_enter(actor: Actor, test: Test) -> None:
-    if not actor.has_perm(permission_label("record_any_result")) and test.assignee_id != actor.pk:
+    if not role_permits(actor, "record_any_result") and test.assignee_id != actor.pk:
         whom = test.assignee.username if test.assignee_id else "nobody"
         raise NotAllowed(f"test {test.pk} is assigned to {whom}; {actor_name(actor)} may not enter its results")
 
@@ -252,8 +252,8 @@ def result_record_once(
     errors become InvalidInput on ``inputs.<field>``; nothing is written on any error.
     With ``idempotency_key``, a repeat by the same user (same test and inputs) returns the
     first result, ``replayed``; the key reused for anything else is a Conflict."""
+    refuse_raw_data_edit_by_qa(actor)  # first, so that QA hears why
     require_permission(actor, "record_result", "enter results")
-    refuse_raw_data_edit_by_qa(actor)
     key = _clean_key(idempotency_key)
     if replicate is not None and (isinstance(replicate, bool) or not isinstance(replicate, int)):
         raise InvalidInput.for_field("replicate", "must be a whole number")
@@ -383,8 +383,8 @@ def result_correct_once(
     before acceptance, by the test's assignee (admins: any). A complete test's mean,
     verdict and duplicate check are recomputed. With ``idempotency_key``, the same
     correction repeated returns the first one, ``replayed``."""
+    refuse_raw_data_edit_by_qa(actor)  # first, so that QA hears why
     require_permission(actor, "record_result", "correct results")
-    refuse_raw_data_edit_by_qa(actor)
     reason = required_text(reason, "reason")
     key = _clean_key(idempotency_key)
     pk = result.pk if isinstance(result, Result) else result

@@ -22,6 +22,7 @@ from analyses.models import (
 )
 from analyses.selectors.specifications import specification_effective
 from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.uniqueness import UniqueKey
 from analyses.services.transitions import (
     cancel_open_tests,
     lot_takes_work,
@@ -80,13 +81,15 @@ def sample_register(
         lot = fetch(Lot, lot, lock=True)
         _check_lot_takes(lot, kind)
         label = required_text(label, "label") if label is not None else _next_label(lot)
-        if Sample.objects.filter(label=label).exists():
-            raise InvalidInput.for_field("label", f"sample label {label!r} is already used")
-        sample = Sample.objects.create(
-            lot=lot, label=label, kind=kind, taken_at=taken_at, registered_by=actor,
-            registered_at=registered_at or timezone.now(),
-        )
-        audit_append(actor, AuditAction.CREATE, sample, created(sample, SAMPLE_FIELDS), lot_ref=lot.pk, sample_ref=sample.pk)
+        key = UniqueKey(Sample, "label", label, f"sample label {label!r} is already used")
+        key.refuse_if_taken()
+        # the lot's lock serialises its own labels; a label chosen on another lot at the same time meets the index
+        with key.insert():
+            sample = Sample.objects.create(
+                lot=lot, label=label, kind=kind, taken_at=taken_at, registered_by=actor,
+                registered_at=registered_at or timezone.now(),
+            )
+            audit_append(actor, AuditAction.CREATE, sample, created(sample, SAMPLE_FIELDS), lot_ref=lot.pk, sample_ref=sample.pk)
     return sample
 
 

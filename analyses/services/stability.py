@@ -36,6 +36,7 @@ from analyses.models import (
     TestState,
 )
 from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.uniqueness import UniqueKey
 from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.stability_evaluation import study_evaluation
@@ -205,7 +206,8 @@ def stability_study_create(
     clean_attributes = _clean_attributes(attributes)
     if not isinstance(lots, (list, tuple)) or not lots:
         raise InvalidInput.for_field("lots", "must be a non-empty list of lot ids")
-    with transaction.atomic():
+    key = UniqueKey(StabilityStudy, "code", code, f"study code {code!r} is already used")
+    with key.insert():  # a concurrent create of the same code gets the same answer
         product = fetch(Product, product)
         lot_rows = []
         for index, lot_ref in enumerate(lots):
@@ -215,9 +217,10 @@ def stability_study_create(
                 raise InvalidInput.for_field(f"lots.{index}", f"lot {lot_ref} not found") from None
             if lot.product_id != product.pk:
                 raise InvalidInput.for_field(f"lots.{index}", f"lot {lot.code} is not a lot of {product.code}")
+            if lot in lot_rows:  # its pull points would clash with the first one's
+                raise InvalidInput.for_field(f"lots.{index}", f"repeats lot {lot.code}")
             lot_rows.append(lot)
-        if StabilityStudy.objects.filter(code=code).exists():
-            raise InvalidInput.for_field("code", f"study code {code!r} is already used")
+        key.refuse_if_taken()
         study = StabilityStudy.objects.create(
             code=code, title=title, product=product, started_on=started_on, storage_temperature_c=storage,
             storage_category=category, claimed_shelf_life_months=claimed, created_by=actor, created_at=timezone.now(),

@@ -24,6 +24,7 @@ from analyses.services.access import Actor, require_permission
 from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.system import scheduler_actor
 from analyses.trends.across_materials import across_materials_scan
+from analyses.services.uniqueness import insert_or_fetch
 from analyses.trends.rules import RULES
 from analyses.trends.scan import series_scan
 from analyses.trends.westgard import MINIMUM_BASELINE_POINTS
@@ -50,13 +51,27 @@ def control_baseline_set(actor: Actor, *, series_key: str, mean: float, sd: floa
     kind, method_code = _parse_key(series_key)
     if not (isinstance(sd, (int, float)) and sd > 0):
         raise InvalidInput.for_field("sd", "must be a number above 0")
+    values = {
+        "mean": float(mean), "sd": float(sd), "n_points": 0,
+        "source": BaselineSource.ENTERED, "set_by": actor, "set_at": timezone.now(),
+    }
     with transaction.atomic():
         baseline = ControlBaseline.objects.select_for_update().filter(series_key=series_key).first()
-        before = None if baseline is None else {"mean": baseline.mean, "sd": baseline.sd, "source": baseline.source}
-        baseline = baseline or ControlBaseline(series_key=series_key, kind=kind, method_code=method_code)
-        baseline.mean, baseline.sd, baseline.n_points = float(mean), float(sd), 0
-        baseline.source, baseline.set_by, baseline.set_at = BaselineSource.ENTERED, actor, timezone.now()
-        baseline.save()
+        made = False
+        if baseline is None:
+            # no row to lock yet: a concurrent first entry meets the unique index, and the
+            # loser replaces the winner's values as a later entry would (serialised on its row)
+            baseline, made = insert_or_fetch(
+                ControlBaseline, {"series_key": series_key},
+                lambda: ControlBaseline.objects.create(series_key=series_key, kind=kind, method_code=method_code, **values),
+                lock=True,
+            )
+        before = None
+        if not made:
+            before = {"mean": baseline.mean, "sd": baseline.sd, "source": baseline.source}
+            for name, value in values.items():
+                setattr(baseline, name, value)
+            baseline.save()
         changes = (
             created(baseline, BASELINE_FIELDS)
             if before is None
@@ -140,20 +155,27 @@ def _baselines(frame: pd.DataFrame, summary: ScanSummary) -> pd.DataFrame:
         # a series whose first results are all equal has no spread to chart against
         summary.series_without_baseline = sorted({*summary.series_without_baseline, *stats.index[~(stats["std"] > 0)]})
         actor = scheduler_actor()
-        with transaction.atomic():
-            for key, row in usable.iterrows():
-                kind, method_code = _parse_key(key)
-                baseline = ControlBaseline.objects.create(
-                    series_key=key, kind=kind, method_code=method_code, mean=float(row["mean"]), sd=float(row["std"]),
-                    n_points=MINIMUM_BASELINE_POINTS, source=BaselineSource.ESTABLISHED, set_at=timezone.now(),
-                )
-                audit_append(actor, AuditAction.CREATE, baseline, created(baseline, BASELINE_FIELDS),
-                             reason=f"established from the first {MINIMUM_BASELINE_POINTS} results")
-                stored[key] = baseline
+        for key, row in usable.iterrows():
+            # one transaction per baseline: a scan running at the same time (a rescan of one
+            # series beside the periodic one) may establish it first, and then its row is used
+            stored[key], _ = insert_or_fetch(
+                ControlBaseline, {"series_key": key}, lambda key=key, row=row: _baseline_establish(actor, key, row)
+            )
     return pd.DataFrame(
         [{"series_id": k, "mean": b.mean, "sd": b.sd} for k, b in stored.items() if k in counts.index],
         columns=["series_id", "mean", "sd"],
     ).set_index("series_id")
+
+
+def _baseline_establish(actor, key: str, row: pd.Series) -> ControlBaseline:
+    kind, method_code = _parse_key(key)
+    baseline = ControlBaseline.objects.create(
+        series_key=key, kind=kind, method_code=method_code, mean=float(row["mean"]), sd=float(row["std"]),
+        n_points=MINIMUM_BASELINE_POINTS, source=BaselineSource.ESTABLISHED, set_at=timezone.now(),
+    )
+    audit_append(actor, AuditAction.CREATE, baseline, created(baseline, BASELINE_FIELDS),
+                 reason=f"established from the first {MINIMUM_BASELINE_POINTS} results")
+    return baseline
 
 
 def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:

@@ -1,7 +1,9 @@
 """Obtaining a token, the signed-in user, and the list of users (for lab managers)."""
 from __future__ import annotations
 
+from django.contrib.auth.signals import user_logged_in
 from drf_spectacular.utils import extend_schema, extend_schema_view
+from rest_framework.authtoken.models import Token
 from rest_framework.authtoken.views import ObtainAuthToken
 from rest_framework.permissions import IsAuthenticated
 from rest_framework.request import Request
@@ -27,7 +29,13 @@ class TokenObtainView(ObtainAuthToken):
         auth=[],
     )
     def post(self, request: Request, *args, **kwargs) -> Response:
-        return super().post(request, *args, **kwargs)
+        serializer = self.get_serializer(data=request.data)
+        serializer.is_valid(raise_exception=True)
+        user = serializer.validated_data["user"]
+        token, _ = Token.objects.get_or_create(user=user)
+        # a sign-in like the session login's: last_login is set, a superuser's is audited
+        user_logged_in.send(sender=type(user), request=request, user=user)
+        return Response({"token": token.key})
 
 
 class MeView(APIView):

@@ -9,7 +9,7 @@ from rest_framework.request import Request
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
-from analyses.api.permissions import requires
+from analyses.api.permissions import NotQAReviewer, requires
 from analyses.api.schema import IDEMPOTENCY_KEY, errors
 from analyses.api.serializers.common import idempotency_key
 from analyses.api.serializers.results import (
@@ -36,7 +36,7 @@ def _created(body, replayed: bool) -> Response:
 
 
 class ResultRecordView(APIView):
-    permission_classes = [IsAuthenticated, RECORD]
+    permission_classes = [IsAuthenticated, NotQAReviewer, RECORD]
 
     @extend_schema(
         request=ResultRecordSerializer,
@@ -55,7 +55,7 @@ class ResultRecordView(APIView):
 
 
 class ResultRecordBulkView(APIView):
-    permission_classes = [IsAuthenticated, RECORD]
+    permission_classes = [IsAuthenticated, NotQAReviewer, RECORD]
 
     @extend_schema(
         request=ResultRecordBulkSerializer,
@@ -87,7 +87,7 @@ class ResultDetailView(RetrieveAPIView):
 
 
 class ResultCorrectView(APIView):
-    permission_classes = [IsAuthenticated, requires("record_result", "correct results")]
+    permission_classes = [IsAuthenticated, NotQAReviewer, requires("record_result", "correct results")]
 
     @extend_schema(
         request=ResultCorrectSerializer,

@@ -28,4 +28,5 @@ class Command(BaseCommand):
         for login in summary.logins:
             self.stdout.write(f"  {login.role:<12} {login.username:<10} {login.token}")
         self.stdout.write("Use a token as:  curl -H 'Authorization: Token <token>' http://127.0.0.1:8000/api/")
-        self.stdout.write("or log in with username and password; the admin user also opens /admin/ (view only).")
+        self.stdout.write("or log in with username and password. No demo user is a superuser; for /admin/ create an")
+        self.stdout.write("emergency account on purpose:  python manage.py emergency_admin <username> --reason '...'")

@@ -1,6 +1,8 @@
 """Who may do what: every role against every endpoint that changes something (and the
-restricted reads). The role rules are the project's own (analyses/roles.py and the
-four-eyes and segregation-of-duties rules of the services); no outside source."""
+restricted reads), with a Django superuser in no group as the seventh identity: it may do
+what an admin may, and never the QA decisions (issue 8). The role rules are the project's
+own (analyses/roles.py and the four-eyes and segregation-of-duties rules of the services);
+no outside source."""
 from __future__ import annotations
 
 import datetime as dt
@@ -24,7 +26,7 @@ from tests.factories import UserFactory
 
 pytestmark = pytest.mark.django_db
 
-ROLES = ("manager", "analyst", "qa", "admin", "nobody", "anonymous")
+ROLES = ("manager", "analyst", "qa", "admin", "nobody", "anonymous", "superuser")
 
 
 @dataclass(frozen=True)
@@ -70,11 +72,13 @@ def _alert(lab: Lab) -> int:
     return alert.pk
 
 
-MANAGER_ADMIN = {"manager": 201, "admin": 201}
-DRAFTERS = {"manager": 201, "qa": 201, "admin": 201}
-QA_ADMIN_200 = {"qa": 200, "admin": 200}
-ENTERERS = {"analyst": 201, "admin": 201}
-REVIEWERS = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200}
+MANAGER_ADMIN = {"manager": 201, "admin": 201, "superuser": 201}
+DRAFTERS = {"manager": 201, "qa": 201, "admin": 201, "superuser": 201}
+QA_ADMIN_200 = {"qa": 200, "admin": 200, "superuser": 200}
+ENTERERS = {"analyst": 201, "admin": 201, "superuser": 201}
+REVIEWERS = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200, "superuser": 200}
+MANAGER_QA_ADMIN_200 = {"manager": 200, "qa": 200, "admin": 200, "superuser": 200}
+MANAGER_ADMIN_200 = {"manager": 200, "admin": 200, "superuser": 200}
 
 CASES = [
     Case("product create", lambda lab: Call("post", "/api/products/", {"code": "HOO", "name": "High-oleic oil"}), MANAGER_ADMIN),
@@ -88,9 +92,9 @@ CASES = [
     Case(
         "specification lines replace",
         lambda lab: Call("put", f"/api/specifications/{lab.draft.pk}/lines/", {"lines": [{"method": "pv", "maximum": "5"}]}),
-        {"manager": 200, "qa": 200, "admin": 200},
+        MANAGER_QA_ADMIN_200,
     ),
-    # only QA approves specifications and releases or rejects lots (issue 3), admins included
+    # only QA approves specifications and releases or rejects lots (issue 3), admins and superusers included (issue 8)
     Case("specification approve", lambda lab: Call("post", f"/api/specifications/{lab.draft.pk}/approve/"), {"qa": 200}),
     Case(
         "specification revise",
@@ -104,25 +108,25 @@ CASES = [
     Case(
         "sample receive",
         lambda lab: Call("post", f"/api/samples/{lab.sample().pk}/receive/", {"condition": "sealed", "storage_place": "shelf 3"}),
-        {"manager": 200, "admin": 200},
+        MANAGER_ADMIN_200,
     ),
     Case(
         "sample hold",
         lambda lab: Call("post", f"/api/samples/{lab.received().pk}/hold/", {"reason": "seal broken"}),
-        {"manager": 200, "qa": 200, "admin": 200},
+        MANAGER_QA_ADMIN_200,
     ),
-    Case("sample resume", _resume, {"manager": 200, "qa": 200, "admin": 200}),
+    Case("sample resume", _resume, MANAGER_QA_ADMIN_200),
     Case(
         "sample cancel",
         lambda lab: Call("post", f"/api/samples/{lab.sample().pk}/cancel/", {"reason": "duplicate registration"}),
-        {"manager": 200, "admin": 200},
+        MANAGER_ADMIN_200,
     ),
     Case(
         "tests assign",
         lambda lab: Call("post", "/api/tests/assign/", {
             "tests": list(lab.received().tests.values_list("pk", flat=True)), "assignee": lab.users["analyst"].pk,
         }),
-        {"manager": 200, "admin": 200},
+        MANAGER_ADMIN_200,
     ),
     Case("test accept", lambda lab: Call("post", f"/api/tests/{lab.entered('analyst2')[0].pk}/accept/"), REVIEWERS),
     Case(
@@ -148,12 +152,12 @@ CASES = [
     Case("stability study create", lambda lab: Call("post", "/api/stability-studies/", _study_protocol(lab)), DRAFTERS),
     Case(
         "stability study evaluate", lambda lab: Call("post", f"/api/stability-studies/{_study(lab)}/evaluate/"),
-        {"manager": 200, "qa": 200, "admin": 200},
+        MANAGER_QA_ADMIN_200,
     ),
     Case(
         "stability study close",
         lambda lab: Call("post", f"/api/stability-studies/{_study(lab)}/close/", {"reason": "claim confirmed"}),
-        {"manager": 200, "qa": 200, "admin": 200},
+        MANAGER_QA_ADMIN_200,
     ),
     Case("alert acknowledge", lambda lab: Call("post", f"/api/alerts/{_alert(lab)}/acknowledge/", {"comment": "titrant restandardised"}), QA_ADMIN_200),
     Case(
@@ -161,17 +165,17 @@ CASES = [
         lambda lab: Call("post", "/api/trends/baselines/", {
             "series_key": f"qc:{lab.lot.pk}:av", "mean": 0.35, "sd": 0.01, "reason": "reference oil certificate (invented)",
         }),
-        {"qa": 201, "admin": 201},
+        {"qa": 201, "admin": 201, "superuser": 201},
     ),
     # restricted reads
-    Case("lot audit trail", lambda lab: Call("get", f"/api/lots/{lab.lot.pk}/audit-trail/"), {"manager": 200, "qa": 200, "admin": 200}),
+    Case("lot audit trail", lambda lab: Call("get", f"/api/lots/{lab.lot.pk}/audit-trail/"), MANAGER_QA_ADMIN_200),
     Case(
         "sample audit trail",
         lambda lab: Call("get", f"/api/samples/{lab.sample().pk}/audit-trail/"),
-        {"manager": 200, "qa": 200, "admin": 200},
+        MANAGER_QA_ADMIN_200,
     ),
-    Case("turnaround", lambda lab: Call("get", "/api/turnaround/"), {"manager": 200, "admin": 200}),
-    Case("users list", lambda lab: Call("get", "/api/users/?role=analyst"), {"manager": 200, "admin": 200}),
+    Case("turnaround", lambda lab: Call("get", "/api/turnaround/"), MANAGER_ADMIN_200),
+    Case("users list", lambda lab: Call("get", "/api/users/?role=analyst"), MANAGER_ADMIN_200),
 ]
 
 
@@ -181,12 +185,19 @@ def expected_status(case: Case, role: str) -> int:
     return case.allowed.get(role, 403)
 
 
+@pytest.fixture
+def identities(clients, client_for) -> dict:
+    """The role clients, and a superuser in no group (as ``createsuperuser`` makes one)."""
+    root = UserFactory(username="root", is_staff=True, is_superuser=True)
+    return {**clients, "superuser": client_for(root)}
+
+
 @pytest.mark.parametrize("role", ROLES)
 @pytest.mark.parametrize("case", CASES, ids=[case.name for case in CASES])
-def test_permission_matrix(case: Case, role: str, lab, clients):
+def test_permission_matrix(case: Case, role: str, lab, identities):
     call = case.arrange(lab)
     before = row_counts()
-    response = call.send(clients[role])
+    response = call.send(identities[role])
     expected = expected_status(case, role)
     assert response.status_code == expected, (role, case.name, response.content)
     body = response.json()
@@ -257,3 +268,31 @@ def test_an_analyst_may_not_enter_results_on_another_analysts_test(lab, clients)
     response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
     assert response.status_code == 403
     assert "assigned to analyst2" in response.json()["detail"]
+
+
+def test_a_superuser_in_the_qa_group_still_may_not_enter_results(lab, client_for):
+    """Segregation of duties holds against the superuser flag too (issue 8)."""
+    root = UserFactory(username="root-qa", is_staff=True, is_superuser=True, roles=["qa_reviewer"])
+    av_test, _ = lab.assigned("analyst")
+    before = row_counts()
+    for path, body in (
+        ("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}),
+        ("/api/results/bulk/", {"results": [{"test": av_test.pk, "inputs": AV_LOW}]}),
+    ):
+        response = client_for(root).post(path, body, format="json")
+        assert response.status_code == 403, path
+        assert "QA reviewer" in response.json()["detail"]
+    assert row_counts() == before
+
+
+def test_a_superuser_is_told_that_release_is_for_the_qa_group(lab, identities):
+    response = identities["superuser"].post(f"/api/lots/{lab.lot.pk}/release/", format="json")
+    assert response.status_code == 403
+    assert "qa_reviewer group only" in response.json()["detail"]
+
+
+def test_me_shows_a_superuser_no_qa_decisions(identities):
+    me = identities["superuser"].get("/api/me/").json()
+    assert me["roles"] == ["admin"]
+    assert {"record_any_result", "close_investigation", "assign_test"} <= set(me["permissions"])
+    assert not {"release_lot", "approve_specification"} & set(me["permissions"])

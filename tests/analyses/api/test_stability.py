@@ -156,3 +156,11 @@ def test_unknown_study_is_404(clients):
     assert clients["qa"].get(f"/api/stability-studies/{10**20}/pull-points/").status_code == 404
     assert clients["qa"].get(f"/api/stability-studies/{10**20}/plot/", {"method": "pv", "condition": 1}).status_code == 404
     assert clients["qa"].post("/api/stability-studies/999999/evaluate/").status_code == 404
+
+
+def test_a_lot_named_twice_is_400_not_a_clash_in_the_pull_schedule(clients, lot):
+    """Each pull point is unique per condition, lot and time: a repeated lot is bad input (issue 8)."""
+    response = clients["manager"].post("/api/stability-studies/", protocol(lot) | {"lots": [lot.pk, lot.pk]}, format="json")
+    assert response.status_code == 400
+    assert response.json()["fields"] == {"lots.1": [f"repeats lot {lot.code}"]}
+    assert not StabilityStudy.objects.exists()

@@ -4,7 +4,9 @@ from __future__ import annotations
 from io import StringIO
 
 import pytest
+from django.contrib.auth import get_user_model
 from django.core.management import call_command
+from django.db.models import Q
 from rest_framework.authtoken.models import Token
 
 from analyses.audit import audit_chain_verify
@@ -41,6 +43,8 @@ def test_demo_load_builds_every_state_and_is_idempotent():
         token = Token.objects.get(user__username=login).key
         assert f" {login} " in first and token in first
     assert data["demo_password"] in first and "DEMO ONLY" in first
+    # no demo user is a superuser or staff (issue 8): the superuser flag is for emergency accounts
+    assert not get_user_model().objects.filter(Q(is_superuser=True) | Q(is_staff=True)).exists()
 
     assert set(Sample.objects.values_list("state", flat=True)) == set(SampleState.values)
     assert Investigation.objects.filter(state="open").exclude(test__sample__kind="stability_pull").count() == 1
@@ -78,3 +82,16 @@ def test_demo_has_a_drifting_qc_series_and_an_accelerated_stability_study_with_l
     rules = set(Alert.objects.values_list("rule", flat=True))
     assert {"westgard_1_3s", "westgard_10_x", "shelf_life_short", "pull_out_of_limit"} <= rules
     assert not Alert.objects.filter(rule="pull_overdue").exists()  # every pull was tested on its day
+
+
+def test_a_demo_admin_left_a_superuser_by_an_older_demo_loses_the_flag():
+    _load()
+    admin = get_user_model().objects.get(username="admin")
+    get_user_model().objects.filter(pk=admin.pk).update(is_superuser=True, is_staff=True)  # as the old demo made it
+    out = _load()
+    admin.refresh_from_db()
+    assert not (admin.is_superuser or admin.is_staff) and admin.groups.filter(name="admin").exists()
+    assert "superuser and staff flags removed" in out
+    entry = AuditEntry.objects.filter(object_type="auth.user", object_id=str(admin.pk)).latest("sequence")
+    assert entry.changes == {"is_superuser": [True, False], "is_staff": [True, False]}
+    assert audit_chain_verify().ok

@@ -6,6 +6,8 @@ QA reviewer: approve specifications, hold samples, review, close investigations,
 reject lots; never enter or correct results.
 admin: everything but approving specifications and releasing or rejecting lots (only QA,
 issue 3); the four-eyes rule still applies.
+superuser (a Django superuser in no group, the seventh identity): what an admin may do, and
+never the QA decisions (issue 8).
 """
 from __future__ import annotations
 
@@ -24,10 +26,11 @@ from analyses.services.review import test_accept, test_send_back
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
 from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
+from tests.factories import UserFactory
 
 pytestmark = pytest.mark.django_db
 
-ROLES = ("manager", "analyst", "analyst2", "qa", "admin", "nobody")
+ROLES = ("manager", "analyst", "analyst2", "qa", "admin", "nobody", "superuser")
 
 
 def _av(sample) -> Test:
@@ -58,14 +61,14 @@ CASES: dict[str, tuple[Callable, Callable, set[str]]] = {
     "product_create": (
         lambda r: None,
         lambda actor, _: product_create(actor, code=f"X-{actor.username}", name="Test oil"),
-        {"manager", "admin"},
+        {"manager", "admin", "superuser"},
     ),
     "specification_create": (
         lambda r: r.getfixturevalue("product"),
         lambda actor, product: specification_create(
             actor, product, effective_from="2024-01-01", lines=[{"method": "av", "maximum": "0.6"}]
         ),
-        {"manager", "qa", "admin"},
+        {"manager", "qa", "admin", "superuser"},
     ),
     "specification_approve": (
         lambda r: specification_create(
@@ -78,55 +81,55 @@ CASES: dict[str, tuple[Callable, Callable, set[str]]] = {
     "lot_create": (
         lambda r: r.getfixturevalue("product"),
         lambda actor, product: lot_create(actor, code=f"L-{actor.username}", product=product, origin="production"),
-        {"manager", "admin"},
+        {"manager", "admin", "superuser"},
     ),
-    "sample_register": (lambda r: r.getfixturevalue("lot"), sample_register, {"manager", "admin"}),
+    "sample_register": (lambda r: r.getfixturevalue("lot"), sample_register, {"manager", "admin", "superuser"}),
     "sample_receive": (
         lambda r: r.getfixturevalue("sample"),
         lambda actor, sample: sample_receive(actor, sample, condition="ok", storage_place="shelf 1"),
-        {"manager", "admin"},
+        {"manager", "admin", "superuser"},
     ),
     "sample_hold": (
         lambda r: r.getfixturevalue("received_sample"),
         lambda actor, sample: sample_hold(actor, sample, reason="label smudged"),
-        {"manager", "qa", "admin"},
+        {"manager", "qa", "admin", "superuser"},
     ),
     "sample_cancel": (
         lambda r: r.getfixturevalue("received_sample"),
         lambda actor, sample: sample_cancel(actor, sample, reason="container broken"),
-        {"manager", "admin"},
+        {"manager", "admin", "superuser"},
     ),
     "test_assign_bulk": (
         lambda r: (r.getfixturevalue("received_sample"), r.getfixturevalue("users")["analyst"]),
         lambda actor, prepared: test_assign_bulk(actor, [_av(prepared[0])], assignee=prepared[1]),
-        {"manager", "admin"},
+        {"manager", "admin", "superuser"},
     ),
     # the test is assigned to "analyst": analyst2 may not enter it, admin may enter any
     "result_record": (
         lambda r: r.getfixturevalue("assigned_tests"),
         lambda actor, tests: result_record(actor, tests[0], inputs=AV_LOW),
-        {"analyst", "admin"},
+        {"analyst", "admin", "superuser"},
     ),
     "result_correct": (
         lambda r: result_record(r.getfixturevalue("users")["analyst"], r.getfixturevalue("assigned_tests")[0], inputs=AV_LOW),
         lambda actor, result: result_correct(actor, result, inputs=AV_LOW_TWIN, reason="typo in titre"),
-        {"analyst", "admin"},
+        {"analyst", "admin", "superuser"},
     ),
     # "analyst" entered the results, so the four-eyes rule refuses them
     "test_accept": (
         lambda r: _entered(r.getfixturevalue("users"), r.getfixturevalue("assigned_tests")),
         test_accept,
-        {"analyst2", "manager", "qa", "admin"},
+        {"analyst2", "manager", "qa", "admin", "superuser"},
     ),
     "test_send_back": (
         lambda r: _entered(r.getfixturevalue("users"), r.getfixturevalue("assigned_tests")),
         lambda actor, test: test_send_back(actor, test, reason="check the blank"),
-        {"analyst2", "manager", "qa", "admin"},
+        {"analyst2", "manager", "qa", "admin", "superuser"},
     ),
     "investigation_close": (
         lambda r: _oos(r.getfixturevalue("users"), r.getfixturevalue("assigned_tests")),
         lambda actor, inv: investigation_close(actor, inv, conclusion="confirmed", findings="repeat agrees"),
-        {"qa", "admin"},
+        {"qa", "admin", "superuser"},
     ),
     "lot_release": (
         lambda r: _releasable(r.getfixturevalue("users"), r.getfixturevalue("assigned_tests")),
@@ -141,12 +144,18 @@ CASES: dict[str, tuple[Callable, Callable, set[str]]] = {
 }
 
 
+@pytest.fixture
+def identities(users) -> dict:
+    """The role users, and a superuser in no group (as ``createsuperuser`` makes one)."""
+    return {**users, "superuser": UserFactory(username="root", is_staff=True, is_superuser=True)}
+
+
 @pytest.mark.parametrize("role", ROLES)
 @pytest.mark.parametrize("case", sorted(CASES))
-def test_permission_matrix(request, users, case, role):
+def test_permission_matrix(request, identities, case, role):
     prepare, act, allowed = CASES[case]
     prepared = prepare(request)
-    actor = users[role]
+    actor = identities[role]
     if role in allowed:
         act(actor, prepared)  # no NotAllowed
     else:
@@ -168,3 +177,24 @@ def test_qa_may_not_enter_results_even_as_an_analyst_too(users, assigned_tests):
     with pytest.raises(NotAllowed, match="QA reviewer"):
         result_record(qa, assigned_tests[0], inputs=AV_LOW)
     assert not assigned_tests[0].results.exists()
+
+
+def test_the_superuser_flag_opens_no_qa_decision_and_no_raw_data_to_qa(users, assigned_tests, lot):
+    """Issue 8: QA-only decisions are membership of the QA group, and so is the
+    segregation of duties; the superuser flag changes neither."""
+    root = UserFactory(username="root", is_superuser=True)
+    with pytest.raises(NotAllowed, match="may not reject lots"):
+        lot_reject(root, lot, reason="no QA decision for superusers")
+    qa_root = UserFactory(username="root-qa", is_superuser=True, roles=["qa_reviewer"])
+    with pytest.raises(InvalidInput, match="QA reviewer"):
+        test_assign_bulk(users["manager"], [assigned_tests[0]], assignee=qa_root)
+    with pytest.raises(NotAllowed, match="QA reviewer"):
+        result_record(qa_root, assigned_tests[0], inputs=AV_LOW)  # admins may enter any test, QA never
+    assert not assigned_tests[0].results.exists()
+    lot_reject(qa_root, lot, reason="a QA member decides as QA")  # membership, not the flag, decides
+
+
+def test_a_qa_reviewer_who_is_also_admin_still_may_not_enter_results(users, assigned_tests):
+    both = UserFactory(username="qa-admin", roles=["qa_reviewer", "admin"])
+    with pytest.raises(NotAllowed, match="QA reviewer"):
+        result_record(both, assigned_tests[0], inputs=AV_LOW)

@@ -8,6 +8,7 @@ from analyses.errors import InvalidInput, NotAllowed
 from analyses.models import Alert, AlertSeverity, AuditEntry, BaselineSource, ControlBaseline, SampleKind
 from analyses.services.trend_scan import control_baseline_set, trend_scan
 from analyses.selectors.trend_series import trend_series_frame
+from tests.analyses.concurrency import race
 from tests.analyses.series_setup import START, accepted_series
 from tests.factories import LotFactory
 
@@ -267,3 +268,17 @@ def test_one_of_three_levels_beyond_2s_raises_only_the_warning(levels):
     check(levels, "third", 1.9)
     trend_scan()
     assert list(Alert.objects.values_list("rule", flat=True)) == ["westgard_1_2s"]
+
+
+@pytest.mark.django_db(transaction=True)
+def test_scans_running_at_once_establish_a_baseline_once_on_postgresql(postgres):
+    """A rescan queued by an accepted result may meet the periodic scan: the baseline both
+    would establish is stored once, and neither scan fails (issue 8)."""
+    lot = LotFactory(code="REF-OIL-RACE")
+    accepted_series(lot, in_control(21))
+    outcomes = race(lambda i: trend_scan())
+    assert [o for o in outcomes if isinstance(o, Exception)] == []
+    baseline = ControlBaseline.objects.get(series_key=f"qc:{lot.pk}:av")
+    assert all(o.series_scanned == 1 and not o.series_without_baseline for o in outcomes)
+    creates = AuditEntry.objects.filter(object_type="analyses.controlbaseline", object_id=str(baseline.pk), action="create")
+    assert creates.count() == 1
