@@ -11,6 +11,8 @@ from __future__ import annotations
 from datetime import timedelta
 
 from django.utils import timezone
+from drf_spectacular.extensions import OpenApiAuthenticationExtension
+from drf_spectacular.plumbing import build_bearer_security_scheme_object
 from knox.auth import TokenAuthentication
 from rest_framework import exceptions
 
@@ -40,3 +42,13 @@ class ApiTokenAuthentication(TokenAuthentication):
             ApiToken.objects.filter(pk=token.pk).update(last_used_at=now)
             token.last_used_at = now
         return user, token
+
+
+class ApiTokenScheme(OpenApiAuthenticationExtension):
+    """How the OpenAPI schema describes it: the header ``Authorization: Token <token>``."""
+
+    target_class = "analyses.api.authentication.ApiTokenAuthentication"
+    name = "tokenAuth"
+
+    def get_security_definition(self, auto_schema):
+        return build_bearer_security_scheme_object(header_name="Authorization", token_prefix="Token")

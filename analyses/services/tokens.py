@@ -7,6 +7,7 @@ hold several, one per name (an instrument PC, an integration).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from datetime import datetime
 
 from django.conf import settings
 from django.db import IntegrityError, transaction
@@ -26,6 +27,14 @@ NAME_MAX = ApiToken._meta.get_field("name").max_length
 class IssuedToken:
     token: ApiToken
     secret: str  # the token itself: shown to its owner now, never again
+
+
+@dataclass(frozen=True)
+class RevokedToken:
+    id: int
+    name: str
+    token_key: str
+    revoked_at: datetime
 
 
 def _default_name() -> str:
@@ -78,7 +87,7 @@ def token_issue(user, *, name: str | None = None) -> IssuedToken:
     return IssuedToken(token, secret)
 
 
-def token_revoke(actor: Actor, token_id: int | str, *, reason: str = "") -> None:
+def token_revoke(actor: Actor, token_id: int | str, *, reason: str = "") -> RevokedToken:
     """Revoke one of ``actor``'s own tokens at once; it stops working with the next request.
     Another user's token is "not found", as if it did not exist."""
     if actor is None or not actor.is_authenticated:
@@ -93,7 +102,9 @@ def token_revoke(actor: Actor, token_id: int | str, *, reason: str = "") -> None
         token = ApiToken.objects.select_for_update().filter(pk=pk, user=actor).first() if 0 < pk <= ID_MAX else None
         if token is None:
             raise NotFound(f"token {token_id} not found")
+        revoked = RevokedToken(token.pk, token.name, token.token_key, timezone.now())
         _remove(actor, token, "active", "revoked", reason.strip() or "revoked by its owner")
+    return revoked
 
 
 def tokens_revoke_all(actor: Actor, user, *, reason: str) -> int:

@@ -43,6 +43,13 @@ class IssuedTokenSerializer(serializers.Serializer):
     expires = serializers.DateTimeField(source="token.expiry")
 
 
+class RevokedTokenSerializer(serializers.Serializer):
+    id = serializers.IntegerField()
+    name = serializers.CharField()
+    prefix = serializers.CharField(source="token_key")
+    revoked_at = serializers.DateTimeField()
+
+
 class TokenRevokeSerializer(serializers.Serializer):
     reason = serializers.CharField(required=False, allow_blank=True, default="", help_text="Why; kept in the audit trail")
 

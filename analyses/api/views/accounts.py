@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from django.contrib.auth import authenticate
 from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
-from rest_framework import serializers, status
+from rest_framework import serializers
 from rest_framework.permissions import AllowAny, IsAuthenticated
 from rest_framework.request import Request
 from rest_framework.response import Response
@@ -16,6 +16,7 @@ from analyses.api.serializers.accounts import (
     CredentialsSerializer,
     IssuedTokenSerializer,
     MeSerializer,
+    RevokedTokenSerializer,
     TokenRevokeSerializer,
     TokenSerializer,
     UserSerializer,
@@ -72,13 +73,12 @@ class TokenListView(PagedListView):
 class TokenRevokeView(APIView):
     @extend_schema(
         request=TokenRevokeSerializer,
-        responses={204: None, **errors(400, 404)},
+        responses={200: RevokedTokenSerializer, **errors(400, 404)},
         summary="Revoke one of your own API tokens at once",
     )
     def post(self, request: Request, pk: int) -> Response:
         data = validated(TokenRevokeSerializer, request)
-        token_revoke(request.user, pk, reason=data["reason"])
-        return Response(status=status.HTTP_204_NO_CONTENT)
+        return Response(RevokedTokenSerializer(token_revoke(request.user, pk, reason=data["reason"])).data)
 
 
 class MeView(APIView):

@@ -215,8 +215,9 @@ def test_every_state_changing_route_is_in_the_matrix():
         "study-close": "stability study close", "alert-acknowledge": "alert acknowledge",
         "baseline-list": "control baseline create",
     }
-    # stateless or open to everyone: the calculator and the token endpoint
-    assert writers - set(expected_names) == {"calculation", "auth-token"}
+    # stateless or open to everyone: the calculator and the token endpoint; and revoking one's
+    # own token, open to every signed-in user (tests/analyses/api/test_tokens.py: others' are 404)
+    assert writers - set(expected_names) == {"calculation", "auth-token", "auth-token-revoke"}
     assert {expected_names[name] for name in writers if name in expected_names} <= covered
     assert set(expected_names) <= writers  # no stale names either
 
