@@ -16,6 +16,7 @@ from datetime import timedelta
 from pathlib import Path
 
 import dj_database_url
+from django.core.exceptions import ImproperlyConfigured
 
 BASE_DIR = Path(__file__).resolve().parent.parent
 VAR_DIR = Path(os.environ.get("OLEOTRACE_VAR_DIR", BASE_DIR / "var"))
@@ -136,6 +137,8 @@ CACHES = {
 # API tokens (django-rest-knox, model analyses.ApiToken): stored as SHA-512 hashes, shown once.
 KNOX_TOKEN_MODEL = "analyses.ApiToken"
 API_TOKEN_TTL_DAYS = float(os.environ.get("API_TOKEN_TTL_DAYS", 30))
+if not API_TOKEN_TTL_DAYS > 0:
+    raise ImproperlyConfigured("API_TOKEN_TTL_DAYS must be a positive number of days")
 REST_KNOX = {
     "TOKEN_TTL": timedelta(days=API_TOKEN_TTL_DAYS),
     "TOKEN_PREFIX": "olt_",  # makes a leaked token easy to recognise (secret scanners, logs)

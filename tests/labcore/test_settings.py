@@ -24,7 +24,7 @@ print(json.dumps({
 """
 
 
-def _limits(tmp_path, **env: str) -> dict:
+def _run(tmp_path, **env: str) -> subprocess.CompletedProcess:
     environment = {**os.environ, "DJANGO_SETTINGS_MODULE": "labcore.settings", "OLEOTRACE_VAR_DIR": str(tmp_path), **env}
     for name in (
         "API_THROTTLE_USER", "API_THROTTLE_ANONYMOUS", "TRUSTED_PROXY_COUNT", "API_TOKEN_TTL_DAYS", "CACHE_URL",
@@ -32,7 +32,11 @@ def _limits(tmp_path, **env: str) -> dict:
     ):
         if name not in env:
             environment.pop(name, None)
-    done = subprocess.run([sys.executable, "-c", PRINT_LIMITS], cwd=ROOT, env=environment, capture_output=True, text=True, timeout=120)
+    return subprocess.run([sys.executable, "-c", PRINT_LIMITS], cwd=ROOT, env=environment, capture_output=True, text=True, timeout=120)
+
+
+def _limits(tmp_path, **env: str) -> dict:
+    done = _run(tmp_path, **env)
     assert done.returncode == 0, done.stderr
     return json.loads(done.stdout)
 
@@ -52,3 +56,8 @@ def test_the_defaults_ignore_forwarded_for_and_keep_tokens_30_days(tmp_path):
     limits = _limits(tmp_path)
     assert limits["proxies"] == 0 and limits["ttl_seconds"] == 30 * 86400
     assert limits["cache"] == "django.core.cache.backends.locmem.LocMemCache"
+
+
+def test_a_token_lifetime_that_is_not_positive_stops_the_start(tmp_path):
+    done = _run(tmp_path, API_TOKEN_TTL_DAYS="0")
+    assert done.returncode != 0 and "API_TOKEN_TTL_DAYS must be a positive number" in done.stderr
