@@ -11,7 +11,7 @@ from rest_framework.views import APIView
 
 from analyses.api.filters import UserFilter
 from analyses.api.permissions import IsLabManager
-from analyses.api.schema import errors
+from analyses.api.schema import ErrorSerializer, errors
 from analyses.api.serializers.accounts import (
     CredentialsSerializer,
     IssuedTokenSerializer,
@@ -29,6 +29,7 @@ from analyses.selectors.users import user_list
 from analyses.services.tokens import token_issue, token_revoke
 
 LOCKED_OUT = OpenApiResponse(
+    ErrorSerializer,
     description="Too many failed logins for this account or from this address; the Retry-After header "
     "says after how many seconds to try again"
 )
