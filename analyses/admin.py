@@ -1,13 +1,19 @@
 """Django admin: a window onto the records, never a way round the services. Every model is
-view-only here; changes go through the services, which check roles and write the audit trail."""
+view-only here, for superusers too, users and groups included; changes go through the services,
+which check roles and write the audit trail (users and roles: ``manage.py user_roles``)."""
 from __future__ import annotations
 
 from django.contrib import admin
+from django.contrib.auth import get_user_model
+from django.contrib.auth.admin import GroupAdmin, UserAdmin
+from django.contrib.auth.models import Group
 
 from analyses.models import (
+    ApiToken,
     AuditEntry,
     Certificate,
     Investigation,
+    LoginLockout,
     Lot,
     Product,
     Result,
@@ -18,7 +24,9 @@ from analyses.models import (
 )
 
 
-class ViewOnlyAdmin(admin.ModelAdmin):
+class ViewOnly:
+    """No add, change or delete for anyone; Django's superuser shortcut does not reach here."""
+
     def has_add_permission(self, request, obj=None):
         return False
 
@@ -27,6 +35,39 @@ class ViewOnlyAdmin(admin.ModelAdmin):
 
     def has_delete_permission(self, request, obj=None):
         return False
+
+
+class ViewOnlyAdmin(ViewOnly, admin.ModelAdmin):
+    pass
+
+
+class UserViewOnlyAdmin(ViewOnly, UserAdmin):
+    pass
+
+
+class GroupViewOnlyAdmin(ViewOnly, GroupAdmin):
+    pass
+
+
+for model, model_admin in ((get_user_model(), UserViewOnlyAdmin), (Group, GroupViewOnlyAdmin)):
+    if admin.site.is_registered(model):
+        admin.site.unregister(model)
+    admin.site.register(model, model_admin)
+
+
+@admin.register(ApiToken)
+class ApiTokenAdmin(ViewOnlyAdmin):
+    """Which tokens exist; the hash is not shown (it is no use to a reader)."""
+
+    list_display = ("name", "user", "token_key", "created", "expiry", "last_used_at")
+    fields = list_display
+    search_fields = ("name", "token_key", "user__username")
+
+
+@admin.register(LoginLockout)
+class LoginLockoutAdmin(ViewOnlyAdmin):
+    list_display = ("locked_at", "scope", "subject", "address", "failures", "locked_until")
+    list_filter = ("scope",)
 
 
 @admin.register(AuditEntry)

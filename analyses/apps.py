@@ -9,6 +9,7 @@ class AnalysesConfig(AppConfig):
     def ready(self) -> None:
         from analyses import checks  # noqa: F401  (registers the system checks)
         from analyses import signals  # noqa: F401  (connects the receivers)
+        from analyses import login_guard  # noqa: F401  (connects the failed-login counting)
         from plugins.registry import method_registry
 
         # Load the method plugins once per process, at start-up.

@@ -18,6 +18,7 @@ def api_root(request, format=None):
             "samples": reverse("sample-list", request=request, format=format),
             "tests": reverse("test-list", request=request, format=format),
             "users": reverse("user-list", request=request, format=format),
+            "tokens": reverse("auth-token-list", request=request, format=format),
             "stability_studies": reverse("study-list", request=request, format=format),
             "alerts": reverse("alert-list", request=request, format=format),
             "trend_series": reverse("series-list", request=request, format=format),

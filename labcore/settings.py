@@ -6,14 +6,19 @@ DJANGO_SECRET_KEY  default: a key generated once into var/secret_key, never comm
 DEBUG          off unless set to 1/true/yes.
 BROKER_VISIBILITY_TIMEOUT  seconds before Redis redelivers a task whose worker died (default 300).
 AUDIT_ANCHOR_DIR   where the audit chain's head is anchored (default var/audit-anchors/).
+CACHE_URL      the cache that login lock-outs and API throttles count in; default: this process's
+               memory. Set a Redis database of its own (redis://host:6379/2) when several processes serve.
+API_TOKEN_TTL_DAYS, LOGIN_*, API_THROTTLE_*: see "API tokens" and "Login lock-out" below.
 """
 from __future__ import annotations
 
 import os
 import secrets
+from datetime import timedelta
 from pathlib import Path
 
 import dj_database_url
+from django.core.exceptions import ImproperlyConfigured
 
 BASE_DIR = Path(__file__).resolve().parent.parent
 VAR_DIR = Path(os.environ.get("OLEOTRACE_VAR_DIR", BASE_DIR / "var"))
@@ -47,7 +52,7 @@ INSTALLED_APPS = [
     "django.contrib.messages",
     "django.contrib.staticfiles",
     "rest_framework",
-    "rest_framework.authtoken",
+    "knox",
     "django_filters",
     "drf_spectacular",
     "drf_spectacular_sidecar",
@@ -61,6 +66,7 @@ MIDDLEWARE = [
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
     "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "analyses.login_guard.LoginLockoutMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
 ]
@@ -100,7 +106,7 @@ STATIC_ROOT = VAR_DIR / "static"
 
 REST_FRAMEWORK = {
     "DEFAULT_AUTHENTICATION_CLASSES": [
-        "rest_framework.authentication.TokenAuthentication",
+        "analyses.api.authentication.ApiTokenAuthentication",
         "rest_framework.authentication.SessionAuthentication",
     ],
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
@@ -109,7 +115,51 @@ REST_FRAMEWORK = {
     "DEFAULT_FILTER_BACKENDS": ["django_filters.rest_framework.DjangoFilterBackend"],
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
     "EXCEPTION_HANDLER": "analyses.api.errors.exception_handler",
+    # every caller, signed in or not, is held to a request rate (429 with Retry-After beyond it)
+    "DEFAULT_THROTTLE_CLASSES": [
+        "analyses.api.throttles.SignedInRateThrottle",
+        "analyses.api.throttles.AnonymousRateThrottle",
+    ],
+    "DEFAULT_THROTTLE_RATES": {
+        "user": os.environ.get("API_THROTTLE_USER", "1200/minute"),
+        "anon": os.environ.get("API_THROTTLE_ANONYMOUS", "120/minute"),
+    },
+    # proxies in front of the service that append to X-Forwarded-For; 0 ignores the header (anyone
+    # can write it), so a client cannot dodge the per-address limits by inventing addresses
+    "NUM_PROXIES": int(os.environ.get("TRUSTED_PROXY_COUNT", 0)),
 }
+
+CACHES = {
+    "default": (
+        {"BACKEND": "django.core.cache.backends.redis.RedisCache", "LOCATION": os.environ["CACHE_URL"]}
+        if os.environ.get("CACHE_URL")
+        else {"BACKEND": "django.core.cache.backends.locmem.LocMemCache"}
+    )
+}
+
+# API tokens (django-rest-knox, model analyses.ApiToken): stored as SHA-512 hashes, shown once.
+KNOX_TOKEN_MODEL = "analyses.ApiToken"
+# knox's own token table is never used (the model above replaces it), but knox's migrations would
+# create it anyway, with a foreign key to users that stops test databases being flushed
+MIGRATION_MODULES = {"knox": None}
+API_TOKEN_TTL_DAYS = float(os.environ.get("API_TOKEN_TTL_DAYS", 30))
+if not API_TOKEN_TTL_DAYS > 0:
+    raise ImproperlyConfigured("API_TOKEN_TTL_DAYS must be a positive number of days")
+REST_KNOX = {
+    "TOKEN_TTL": timedelta(days=API_TOKEN_TTL_DAYS),
+    "TOKEN_PREFIX": "olt_",  # makes a leaked token easy to recognise (secret scanners, logs)
+    "AUTH_HEADER_PREFIX": "Token",
+    "AUTO_REFRESH": False,
+}
+
+# Login lock-out (analyses/login_guard.py): after this many failed logins within the window,
+# the account (or the client address) is refused for LOGIN_LOCKOUT_SECONDS, with 429.
+LOGIN_FAILURES_PER_ACCOUNT = int(os.environ.get("LOGIN_FAILURES_PER_ACCOUNT", 5))
+LOGIN_FAILURES_PER_ADDRESS = int(os.environ.get("LOGIN_FAILURES_PER_ADDRESS", 20))
+LOGIN_FAILURE_WINDOW_SECONDS = int(os.environ.get("LOGIN_FAILURE_WINDOW_SECONDS", 900))
+LOGIN_LOCKOUT_SECONDS = int(os.environ.get("LOGIN_LOCKOUT_SECONDS", 900))
+# Django's ModelBackend with the lock-out check first: a locked login is refused before any hashing
+AUTHENTICATION_BACKENDS = ["analyses.login_guard.LockoutCheckBackend"]
 
 SPECTACULAR_SETTINGS = {
     "TITLE": "oleotrace API",

@@ -37,6 +37,17 @@ def pytest_sessionstart(session):
             )
 
 
+@pytest.fixture(autouse=True)
+def _empty_cache():
+    """Each test starts with an empty cache, so login failures and request counts (the lock-outs
+    and throttles of analyses/login_guard.py and analyses/api/throttles.py) do not leak between tests."""
+    from django.core.cache import cache
+
+    cache.clear()
+    yield
+    cache.clear()
+
+
 @pytest.fixture
 def postgres(db):
     """The test database, when it is a real PostgreSQL server."""

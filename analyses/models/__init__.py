@@ -3,6 +3,7 @@ from analyses.models.audit import AuditAction, AuditChainHead, AuditEntry
 from analyses.models.certificates import Certificate
 from analyses.models.immutable import AppendOnlyModel, ImmutableRowError
 from analyses.models.investigations import Conclusion, Investigation, InvestigationState
+from analyses.models.logins import LockoutScope, LoginLockout
 from analyses.models.lots import Lot, LotOrigin, LotState
 from analyses.models.products import Product
 from analyses.models.results import Result, ResultStatus
@@ -27,6 +28,7 @@ from analyses.models.trends import (
     ControlBaseline,
     SeriesKind,
 )
+from analyses.models.tokens import ApiToken
 from analyses.models.testing import (
     OPEN_TEST_STATES,
     WORKABLE_TEST_STATES,
@@ -37,6 +39,9 @@ from analyses.models.testing import (
 )
 
 __all__ = [
+    "ApiToken",
+    "LockoutScope",
+    "LoginLockout",
     "Light",
     "OffsetUnit",
     "PullPoint",

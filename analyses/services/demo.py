@@ -17,9 +17,8 @@ from django.conf import settings
 from django.contrib.auth import get_user_model
 from django.db import transaction
 from django.utils import timezone
-from rest_framework.authtoken.models import Token
 
-from analyses.models import Investigation, Lot, Product, Sample, Test
+from analyses.models import ApiToken, Investigation, Lot, Product, Sample, Test
 from analyses.roles import roles_ensure
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.demo_monitoring import demo_monitoring_load
@@ -31,8 +30,10 @@ from analyses.services.results import result_correct, result_record
 from analyses.services.review import test_accept, test_send_back
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
+from analyses.services.tokens import token_issue, token_revoke
 
 DEMO_FILE = Path(settings.BASE_DIR) / "fixtures" / "demo_refinery.json"
+DEMO_TOKEN_NAME = "demo"
 Log = Callable[[str], None]
 
 
@@ -40,7 +41,7 @@ Log = Callable[[str], None]
 class DemoLogin:
     username: str
     role: str
-    token: str
+    token: str  # empty when the demo token was issued on an earlier run (a token is shown once)
 
 
 @dataclass
@@ -149,7 +150,18 @@ class _Lab:
             raise ValueError(f"unknown demo scenario {scenario!r}")
 
 
-def _users(data: Mapping[str, Any], summary: DemoSummary, log: Log) -> dict[str, Any]:
+def _demo_token(user, new_token: bool) -> str:
+    """A new "demo" token for ``user`` unless one exists (``new_token``: replace it)."""
+    # an expired one is removed by token_issue
+    existing = ApiToken.objects.filter(user=user, name=DEMO_TOKEN_NAME, expiry__gt=timezone.now()).first()
+    if existing is not None and new_token:
+        token_revoke(user, existing.pk, reason="demo token replaced by demo_load --new-tokens")
+    elif existing is not None:
+        return ""
+    return token_issue(user, name=DEMO_TOKEN_NAME).secret
+
+
+def _users(data: Mapping[str, Any], summary: DemoSummary, log: Log, new_tokens: bool = False) -> dict[str, Any]:
     groups = roles_ensure()
     user_model = get_user_model()
     users: dict[str, Any] = {}
@@ -170,8 +182,7 @@ def _users(data: Mapping[str, Any], summary: DemoSummary, log: Log) -> dict[str,
             user = superuser_flags_clear(user, reason="demo users are never superusers (issue 8)")
             log(f"  user {user.username}: superuser and staff flags removed")
         user.groups.add(groups[entry["role"]])
-        token, _ = Token.objects.get_or_create(user=user)
-        summary.logins.append(DemoLogin(user.username, entry["role"], token.key))
+        summary.logins.append(DemoLogin(user.username, entry["role"], _demo_token(user, new_tokens)))
         users[user.username] = user
         log(f"  user {user.username:<9} ({entry['role']}): {'created' if created else 'exists, kept'}")
     return users
@@ -224,13 +235,14 @@ def _lots(data: Mapping[str, Any], lab: _Lab, summary: DemoSummary, log: Log) ->
         log(f"  lot {lot.code} ({product.code}, {lot.origin}): created with samples [{scenarios}]; lot {lot.state}")
 
 
-def demo_load(*, path: Path | str | None = None, log: Log | None = None) -> DemoSummary:
-    """Load the invented demo refinery; idempotent. ``log`` receives one line per step."""
+def demo_load(*, path: Path | str | None = None, log: Log | None = None, new_tokens: bool = False) -> DemoSummary:
+    """Load the invented demo refinery; idempotent. ``log`` receives one line per step. Each demo
+    user gets an API token named "demo" once; ``new_tokens`` replaces it (to show a new one)."""
     log = log or (lambda line: None)
     data = demo_data(path)
     summary = DemoSummary(company=data["company"], password=data["demo_password"])
     log(f"Users and roles for {summary.company}:")
-    users = _users(data, summary, log)
+    users = _users(data, summary, log, new_tokens)
     log("Products and specifications:")
     _products(data, users, summary, log)
     log("Lots and samples:")

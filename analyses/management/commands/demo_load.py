@@ -12,10 +12,14 @@ class Command(BaseCommand):
 
     def add_arguments(self, parser):
         parser.add_argument("--file", default=str(DEMO_FILE), help="demo data file (default: fixtures/demo_refinery.json)")
+        parser.add_argument(
+            "--new-tokens", action="store_true",
+            help='revoke the demo users\' "demo" API tokens and print new ones (a token is shown only once)',
+        )
 
     def handle(self, *args, **options):
         self.stdout.write(f"Loading INVENTED DEMO DATA from {options['file']} ...")
-        summary = demo_load(path=options["file"], log=self.stdout.write)
+        summary = demo_load(path=options["file"], log=self.stdout.write, new_tokens=options["new_tokens"])
         # so that audit_verify has an anchor to check against before beat writes the next one
         anchor = audit_anchor_write()
         if anchor.problem:
@@ -26,7 +30,9 @@ class Command(BaseCommand):
         self.stdout.write(f"Demo logins for {summary.company}. DEMO ONLY: shared password {summary.password!r}")
         self.stdout.write(f"  {'role':<12} {'username':<10} API token")
         for login in summary.logins:
-            self.stdout.write(f"  {login.role:<12} {login.username:<10} {login.token}")
+            shown = login.token or "(issued on an earlier run; shown only once: run with --new-tokens)"
+            self.stdout.write(f"  {login.role:<12} {login.username:<10} {shown}")
         self.stdout.write("Use a token as:  curl -H 'Authorization: Token <token>' http://127.0.0.1:8000/api/")
+        self.stdout.write("Tokens expire; get another with POST /api/auth/token/ (username, password, name),")
         self.stdout.write("or log in with username and password. No demo user is a superuser; for /admin/ create an")
         self.stdout.write("emergency account on purpose:  python manage.py emergency_admin <username> --reason '...'")

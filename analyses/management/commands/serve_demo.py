@@ -22,7 +22,7 @@ class Command(BaseCommand):
         self.stdout.write("[1/3] Applying database migrations ...")
         call_command("migrate", interactive=False, verbosity=1)
         self.stdout.write("[2/3] Loading the demo data (invented company) ...")
-        call_command("demo_load")
+        call_command("demo_load", new_tokens=True)  # tokens are shown once: fresh ones each start
         workers: list[subprocess.Popen] = []
         if not options["no_celery"]:
             self.stdout.write(f"[3/3] Starting Celery worker and beat (broker: {settings.CELERY_BROKER_URL.split('@')[-1]}) ...")

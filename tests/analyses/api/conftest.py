@@ -2,8 +2,9 @@
 from __future__ import annotations
 
 import pytest
-from rest_framework.authtoken.models import Token
 from rest_framework.test import APIClient
+
+from analyses.services.tokens import token_issue
 
 from tests.analyses.api.support import Lab
 from tests.analyses.lab_setup import *  # noqa: F403  (shared fixtures)
@@ -16,8 +17,7 @@ def client_for(db):
     def make(user) -> APIClient:
         client = APIClient()
         if user is not None:
-            token, _ = Token.objects.get_or_create(user=user)
-            client.credentials(HTTP_AUTHORIZATION=f"Token {token.key}")
+            client.credentials(HTTP_AUTHORIZATION=f"Token {token_issue(user).secret}")
         return client
 
     return make

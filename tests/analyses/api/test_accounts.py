@@ -2,10 +2,18 @@
 from __future__ import annotations
 
 import pytest
-from rest_framework.authtoken.models import Token
+from knox.crypto import hash_token
 from rest_framework.test import APIClient
 
+from analyses.models import ApiToken
+
 pytestmark = pytest.mark.django_db
+
+
+@pytest.fixture(autouse=True)
+def fast_hashing(settings):
+    # a quick hasher: these tests log in with passwords, and the real one costs ~0.5 s a try
+    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
 
 
 def test_a_token_is_obtained_with_username_and_password_and_then_works(users):
@@ -13,12 +21,15 @@ def test_a_token_is_obtained_with_username_and_password_and_then_works(users):
     qa.set_password("correct horse")
     qa.save()
     client = APIClient()
-    response = client.post("/api/auth/token/", {"username": "qa", "password": "correct horse"}, format="json")
+    response = client.post("/api/auth/token/", {"username": "qa", "password": "correct horse", "name": "lab PC 3"}, format="json")
     assert response.status_code == 200, response.content
-    token = response.json()["token"]
-    assert Token.objects.get(user=qa).key == token
+    body = response.json()
+    token = body["token"]
+    assert body["name"] == "lab PC 3" and token.startswith(body["prefix"]) and body["expires"]
+    # the database holds a hash of the token, not the token
+    assert ApiToken.objects.get(user=qa).digest == hash_token(token)
     again = client.post("/api/auth/token/", {"username": "qa", "password": "correct horse"}, format="json")
-    assert again.json()["token"] == token  # the same token each time
+    assert again.status_code == 200 and again.json()["token"] != token  # a new token each time
     client.credentials(HTTP_AUTHORIZATION=f"Token {token}")
     me = client.get("/api/me/").json()
     assert me["username"] == "qa" and me["roles"] == ["qa_reviewer"]
@@ -31,7 +42,16 @@ def test_a_wrong_password_gets_no_token(users):
     response = APIClient().post("/api/auth/token/", {"username": "qa", "password": "wrong"}, format="json")
     assert response.status_code == 400
     assert response.json()["fields"]
-    assert not Token.objects.exists()
+    assert not ApiToken.objects.exists()
+
+
+def test_an_inactive_user_gets_no_token(users):
+    users["qa"].set_password("correct horse")
+    users["qa"].is_active = False
+    users["qa"].save()
+    response = APIClient().post("/api/auth/token/", {"username": "qa", "password": "correct horse"}, format="json")
+    assert response.status_code == 400
+    assert not ApiToken.objects.exists()
 
 
 def test_a_session_works_as_well(users):

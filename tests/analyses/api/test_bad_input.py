@@ -204,6 +204,10 @@ CASES = [
     Bad("close: findings a boolean, not text", "qa", lambda lab: _close(lab, conclusion="confirmed", findings=True), "findings"),
     Bad("close: findings missing", "qa", lambda lab: _close(lab, conclusion="confirmed"), "findings"),
     Bad("token: password missing", "anonymous", lambda lab: Call("post", "/api/auth/token/", {"username": "qa"}), "password"),
+    Bad(
+        "token: name too long", "anonymous",
+        lambda lab: Call("post", "/api/auth/token/", {"username": "qa", "password": "x", "name": "n" * 81}), "name",
+    ),
 ]
 
 

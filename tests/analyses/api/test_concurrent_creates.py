@@ -7,12 +7,12 @@ These need PostgreSQL: SQLite serialises all writers, so the race cannot happen 
 from __future__ import annotations
 
 import pytest
-from rest_framework.authtoken.models import Token
 from rest_framework.test import APIClient
 
 from analyses.audit import audit_chain_verify
 from analyses.models import AuditEntry, ControlBaseline, Lot, Product, Sample, Specification, StabilityStudy
 from analyses.services.lots import lot_create
+from analyses.services.tokens import token_issue
 from tests.analyses.concurrency import THREADS, race
 
 pytestmark = pytest.mark.django_db(transaction=True)
@@ -21,7 +21,7 @@ pytestmark = pytest.mark.django_db(transaction=True)
 def _sender(user):
     """A function posting as ``user`` from any thread (one APIClient per call); the token is
     made here, beforehand, so the threads only read it."""
-    key = Token.objects.get_or_create(user=user)[0].key
+    key = token_issue(user, name="concurrency").secret
 
     def post(path: str, body: dict):
         client = APIClient()  # a client is not shared between threads

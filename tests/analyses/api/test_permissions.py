@@ -226,8 +226,9 @@ def test_every_state_changing_route_is_in_the_matrix():
         "study-close": "stability study close", "alert-acknowledge": "alert acknowledge",
         "baseline-list": "control baseline create",
     }
-    # stateless or open to everyone: the calculator and the token endpoint
-    assert writers - set(expected_names) == {"calculation", "auth-token"}
+    # stateless or open to everyone: the calculator and the token endpoint; and revoking one's
+    # own token, open to every signed-in user (tests/analyses/api/test_tokens.py: others' are 404)
+    assert writers - set(expected_names) == {"calculation", "auth-token", "auth-token-revoke"}
     assert {expected_names[name] for name in writers if name in expected_names} <= covered
     assert set(expected_names) <= writers  # no stale names either
 
@@ -274,12 +275,13 @@ def test_a_superuser_in_the_qa_group_still_may_not_enter_results(lab, client_for
     """Segregation of duties holds against the superuser flag too (issue 8)."""
     root = UserFactory(username="root-qa", is_staff=True, is_superuser=True, roles=["qa_reviewer"])
     av_test, _ = lab.assigned("analyst")
+    client = client_for(root)  # issuing its token is audited; count from here
     before = row_counts()
     for path, body in (
         ("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}),
         ("/api/results/bulk/", {"results": [{"test": av_test.pk, "inputs": AV_LOW}]}),
     ):
-        response = client_for(root).post(path, body, format="json")
+        response = client.post(path, body, format="json")
         assert response.status_code == 403, path
         assert "QA reviewer" in response.json()["detail"]
     assert row_counts() == before

@@ -7,10 +7,10 @@ import pytest
 from django.contrib.auth import get_user_model
 from django.core.management import call_command
 from django.db.models import Q
-from rest_framework.authtoken.models import Token
+from knox.crypto import hash_token
 
 from analyses.audit import audit_chain_verify
-from analyses.models import Alert, AuditEntry, Certificate, Investigation, Lot, Result, Sample, SampleState, StabilityStudy, Test
+from analyses.models import Alert, ApiToken, AuditEntry, Certificate, Investigation, Lot, Result, Sample, SampleState, StabilityStudy, Test
 from analyses.services.audit_anchors import audit_anchors_read
 from analyses.services.demo import demo_data
 
@@ -18,14 +18,24 @@ pytestmark = pytest.mark.django_db
 
 
 def _counts() -> dict[str, int]:
-    models = (Lot, Sample, Test, Result, Investigation, Certificate, AuditEntry, Token, Alert, StabilityStudy)
+    models = (Lot, Sample, Test, Result, Investigation, Certificate, AuditEntry, ApiToken, Alert, StabilityStudy)
     return {model.__name__: model.objects.count() for model in models}
 
 
-def _load() -> str:
+def _load(*args: str) -> str:
     out = StringIO()
-    call_command("demo_load", stdout=out)
+    call_command("demo_load", *args, stdout=out)
     return out.getvalue()
+
+
+def _printed_tokens(output: str) -> dict[str, str]:
+    """username -> the token printed on its line (lines "  <role> <username> <token>")."""
+    tokens = {}
+    for line in output.splitlines():
+        parts = line.split()
+        if len(parts) == 3 and parts[2].startswith("olt_"):
+            tokens[parts[1]] = parts[2]
+    return tokens
 
 
 def test_demo_load_builds_every_state_and_is_idempotent():
@@ -39,9 +49,14 @@ def test_demo_load_builds_every_state_and_is_idempotent():
     assert "INVENTED DEMO DATA" in first
     data = demo_data()
     assert data["_notice"].startswith("INVENTED DEMO DATA")
-    for login in ("manager", "analyst", "analyst2", "qa", "admin"):
-        token = Token.objects.get(user__username=login).key
-        assert f" {login} " in first and token in first
+    printed = _printed_tokens(first)
+    assert set(printed) == {"manager", "analyst", "analyst2", "qa", "admin"}
+    for login, token in printed.items():
+        # the database holds the token's hash only, and the printed token is the one it hashes
+        stored = ApiToken.objects.get(user__username=login, name="demo")
+        assert stored.digest == hash_token(token) and token not in stored.digest
+    assert not _printed_tokens(second)  # shown once
+    assert "shown only once" in second
     assert data["demo_password"] in first and "DEMO ONLY" in first
     # no demo user is a superuser or staff (issue 8): the superuser flag is for emergency accounts
     assert not get_user_model().objects.filter(Q(is_superuser=True) | Q(is_staff=True)).exists()
@@ -61,6 +76,17 @@ def test_demo_load_builds_every_state_and_is_idempotent():
     verified = StringIO()
     call_command("audit_verify", stdout=verified)
     assert "audit chain intact" in verified.getvalue()
+
+
+def test_demo_load_with_new_tokens_replaces_the_demo_tokens_and_prints_them():
+    first = _printed_tokens(_load())
+    again = _printed_tokens(_load("--new-tokens"))
+    assert set(again) == set(first) and not set(again.values()) & set(first.values())
+    assert ApiToken.objects.filter(name="demo").count() == len(again)
+    for login, token in again.items():
+        assert ApiToken.objects.get(user__username=login).digest == hash_token(token)
+    assert AuditEntry.objects.filter(object_type="analyses.apitoken", changes__state=["active", "revoked"]).count() == len(first)
+    assert audit_chain_verify().ok
 
 
 def test_demo_has_a_drifting_qc_series_and_an_accelerated_stability_study_with_live_alerts():
