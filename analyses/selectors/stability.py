@@ -1,22 +1,26 @@
 """Reads of stability studies: lists, pull points, and plot data."""
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import pandas as pd
 from django.db.models import QuerySet
 
-from analyses.charts.stability_plot import stability_plot_data
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import PullPoint, StabilityStudy, Test, TestState
-from analyses.stability.shelf_life import shelf_life_estimate
 from plugins.registry import get_registry
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+# pandas and the statistics are imported inside the functions: the URLconf imports this module.
 
 RESULT_COLUMNS = ["test_id", "method_code", "value", "condition_id", "temperature_c", "light", "lot", "months", "pull_id"]
 
 
 def study_results(study: StabilityStudy) -> pd.DataFrame:
     """Accepted results of the study's pulls, one row per test."""
+    import pandas as pd
+
     rows = Test.objects.filter(sample__pull_point__study=study, state=TestState.ACCEPTED, value__isnull=False).values_list(
         "id", "method_code", "value", "sample__pull_point__condition_id", "sample__pull_point__condition__temperature_c",
         "sample__pull_point__condition__light", "sample__pull_point__lot__code", "sample__pull_point__elapsed_months",
@@ -45,6 +49,9 @@ def pull_point_list(study_id: int) -> QuerySet[PullPoint]:
 
 def study_plot(study_id: int, method_code: str, condition_id: int) -> dict[str, Any]:
     """Data, fitted line, one-sided bound, limit and shelf life of one attribute under one condition."""
+    from analyses.charts.stability_plot import stability_plot_data
+    from analyses.stability.shelf_life import shelf_life_estimate
+
     study = study_get(study_id)
     attribute = study.attributes.filter(method_code=method_code).first()
     if attribute is None:

@@ -13,9 +13,9 @@ from analyses.errors import InvalidInput
 from analyses.models import AlertSource, StabilityStudy
 from analyses.selectors.stability import study_results
 from analyses.services.alerts import AlertDraft
-from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
-from analyses.stability.kinetics import kinetics_fit
-from analyses.stability.shelf_life import EXTRAPOLATION_FACTOR, EXTRAPOLATION_MONTHS, shelf_life_estimate
+
+# The fits (numpy, scipy, statsmodels behind analyses.stability) are imported inside the
+# functions: the URLconf imports this module through the stability services.
 
 def _beyond(value: float, attribute) -> bool:
     return (attribute.maximum is not None and value > attribute.maximum) or (
@@ -25,6 +25,9 @@ def _beyond(value: float, attribute) -> bool:
 
 def condition_evaluation(rows: pd.DataFrame, limit: float, side: str) -> dict[str, Any]:
     """Kinetics and ICH Q1E shelf life of one attribute under one condition."""
+    from analyses.stability.kinetics import kinetics_fit
+    from analyses.stability.shelf_life import shelf_life_estimate
+
     out: dict[str, Any] = {"n": len(rows)}
     try:
         kinetics = kinetics_fit(rows["months"], rows["value"])
@@ -62,6 +65,9 @@ def arrhenius_evaluation(
 ) -> dict[str, Any] | None:
     """Arrhenius from the zero-order rates of the dark conditions (light adds another
     pathway); None with fewer than two temperatures whose rate moves toward the limit."""
+    from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
+    from analyses.stability.shelf_life import EXTRAPOLATION_FACTOR, EXTRAPOLATION_MONTHS
+
     sign = 1.0 if side == "upper" else -1.0
     points = [
         (c["temperature_c"], sign * c["kinetics"]["zero_order"]["slope"], c["kinetics"]["zero_order"]["initial_value"])
