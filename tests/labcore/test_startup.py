@@ -66,3 +66,22 @@ def test_migrate_and_audit_verify_import_no_heavy_library(sqlite_url):
     assert heavy_in(imported_modules("migrate", "-v", "0", database_url=sqlite_url)) == []
     assert heavy_in(imported_modules("audit_verify", database_url=sqlite_url)) == []
 
+
+
+
+@pytest.mark.parametrize("command, args", [
+    ("calc", ["pv", "sample_mass=5", "sample_volume=5", "titrant_concentration=0.01"]),
+    ("methods", []),
+])
+def test_calc_and_methods_still_run_the_plugin_check(command, args, monkeypatch):
+    # they skip the URL checks, not the one that concerns them (analyses.W001)
+    import io
+
+    from django.core.management import call_command
+
+    from plugins.registry import RejectedPlugin, method_registry
+
+    monkeypatch.setattr(method_registry, "rejected", [RejectedPlugin("broken = acme:Broken", "failed to import")])
+    err = io.StringIO()
+    call_command(command, *args, skip_checks=False, stdout=io.StringIO(), stderr=err)
+    assert "analyses.W001" in err.getvalue() and "broken = acme:Broken" in err.getvalue()
