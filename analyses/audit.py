@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import hashlib
 import json
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from typing import Any
@@ -149,6 +149,20 @@ class ChainReport:
     # the last entry verified: record it outside the database to check against later
     head_sequence: int = 0
     head_hash: str = GENESIS_HASH
+    # found against a head recorded outside the database, not within the chain: the entries
+    # checked link up among themselves, as a rewrite that recomputed the hashes also does
+    against_record: bool = False
+
+
+@dataclass(frozen=True)
+class RecordedHead:
+    """A head recorded outside the database (an anchor, or ``--expect-head``): entry
+    ``sequence`` had hash ``hash`` then, and a chain that only grows still holds it."""
+
+    sequence: int
+    hash: str
+    label: str  # how messages name it: "the expected head", "the anchor of ... (line 3 of ...)"
+    or_else: str = ""  # the other explanation of a mismatch: "or that anchor line was edited"
 
 
 def parse_head(text: str) -> tuple[int, str]:
@@ -159,17 +173,20 @@ def parse_head(text: str) -> tuple[int, str]:
     return int(sequence), digest
 
 
-def audit_chain_verify(expect_head: tuple[int, str] | None = None) -> ChainReport:
-    """Walk the whole chain in sequence order; report the first entry that does not hold.
-    Then compare the last entry with the recorded head (``AuditChainHead``), which catches
-    entries removed from the end, and with ``expect_head`` (a head recorded earlier outside
-    the database), which must still be in the chain with the same hash."""
-    previous_hash = GENESIS_HASH
-    expected_sequence = 1
-    checked = 0
-    last: AuditEntry | None = None
-    expected_entry: AuditEntry | None = None
-    for entry in AuditEntry.objects.order_by("sequence").iterator(chunk_size=2000):
+@dataclass(frozen=True)
+class _Walk:
+    failure: ChainReport | None
+    checked: int
+    last_sequence: int
+    last_hash: str
+    seen: dict[int, tuple[str, int]]  # the watched sequences found: sequence -> (entry_hash, id)
+
+
+def _walk(entries, previous_hash: str, expected_sequence: int, checked: int, watched: set[int]) -> _Walk:
+    """Check ``entries`` (in sequence order) link on from ``previous_hash`` at ``expected_sequence``."""
+    seen: dict[int, tuple[str, int]] = {}
+    last_sequence = expected_sequence - 1
+    for entry in entries:
         problem = ""
         if entry.sequence != expected_sequence:
             problem = f"sequence {entry.sequence} follows {expected_sequence - 1}: an entry is missing"
@@ -178,36 +195,116 @@ def audit_chain_verify(expect_head: tuple[int, str] | None = None) -> ChainRepor
         elif chain_hash(previous_hash, entry_content(entry)) != entry.entry_hash:
             problem = "its content does not match its hash (changed after it was written)"
         if problem:
-            return ChainReport(False, checked, entry.sequence, entry.pk, problem)
+            failure = ChainReport(False, checked, entry.sequence, entry.pk, problem, last_sequence, previous_hash)
+            return _Walk(failure, checked, last_sequence, previous_hash, seen)
         previous_hash = entry.entry_hash
+        last_sequence = expected_sequence
         expected_sequence += 1
         checked += 1
-        last = entry
-        if expect_head is not None and entry.sequence == expect_head[0]:
-            expected_entry = entry
-    last_sequence = last.sequence if last else 0
-    head = AuditChainHead.objects.filter(id=1).values("last_sequence", "last_hash").first()
-    head = head or {"last_sequence": 0, "last_hash": GENESIS_HASH}
-    if (head["last_sequence"], head["last_hash"]) != (last_sequence, previous_hash):
+        if entry.sequence in watched:
+            seen[entry.sequence] = (entry.entry_hash, entry.pk)
+    return _Walk(None, checked, last_sequence, previous_hash, seen)
+
+
+def _head_row() -> tuple[int, str]:
+    head = AuditChainHead.objects.filter(id=1).values_list("last_sequence", "last_hash").first()
+    return head or (0, GENESIS_HASH)
+
+
+def _head_mismatch(walk: _Walk, head: tuple[int, str]) -> ChainReport | None:
+    if head == (walk.last_sequence, walk.last_hash):
+        return None
+    return ChainReport(
+        False, walk.checked, walk.last_sequence + 1, None,
+        f"the chain ends at entry {walk.last_sequence}, but its head records entry {head[0]} "
+        f"({head[1][:12]}...): entries were removed from its end, or the head was changed",
+        walk.last_sequence, walk.last_hash,
+    )
+
+
+def _against_records(walk: _Walk, records: Sequence[RecordedHead]) -> ChainReport | None:
+    """The first record the chain no longer holds: past its end (removed, or an older backup
+    restored), or with another hash (rewritten, every later hash recomputed)."""
+    beyond = [record for record in records if record.sequence > walk.last_sequence]
+    if beyond:
+        record = max(beyond, key=lambda r: r.sequence)
         return ChainReport(
-            False, checked, last_sequence + 1, None,
-            f"the chain ends at entry {last_sequence}, but its head records entry {head['last_sequence']} "
-            f"({head['last_hash'][:12]}...): entries were removed from its end, or the head was changed",
-            last_sequence, previous_hash,
+            False, walk.checked, walk.last_sequence + 1, None,
+            f"the chain ends at entry {walk.last_sequence}, before {record.label} ({record.sequence}:"
+            f"{record.hash[:12]}...): entries were removed from its end, or the database was restored from a "
+            f"backup older than that record{', ' + record.or_else if record.or_else else ''}",
+            walk.last_sequence, walk.last_hash, against_record=True,
         )
-    if expect_head is not None:
-        sequence, digest = expect_head
-        if sequence > last_sequence:
+    holding: RecordedHead | None = None
+    for record in sorted(records, key=lambda r: r.sequence):
+        found, entry_id = walk.seen.get(record.sequence, (GENESIS_HASH, None))
+        if found != record.hash:
+            since = f" (after entry {holding.sequence}, which {holding.label} still vouches for)" if holding else ""
             return ChainReport(
-                False, checked, last_sequence + 1, None,
-                f"the chain ends at entry {last_sequence}, before the expected head {sequence}: entries were removed",
-                last_sequence, previous_hash,
+                False, walk.checked, record.sequence, entry_id,
+                f"its hash is not the one recorded by {record.label}: the chain was rewritten at or before this "
+                f"entry{since}{', ' + record.or_else if record.or_else else ''}",
+                walk.last_sequence, walk.last_hash, against_record=True,
             )
-        recorded = expected_entry.entry_hash if expected_entry else GENESIS_HASH if sequence == 0 else None
-        if recorded != digest:
-            return ChainReport(
-                False, checked, sequence, expected_entry.pk if expected_entry else None,
-                "its hash is not the one recorded for the expected head: the chain was rewritten",
-                last_sequence, previous_hash,
-            )
-    return ChainReport(True, checked, head_sequence=last_sequence, head_hash=previous_hash)
+        holding = record
+    return None
+
+
+def audit_chain_verify(
+    expect_head: tuple[int, str] | None = None, *, recorded: Sequence[RecordedHead] = ()
+) -> ChainReport:
+    """Walk the whole chain in sequence order; report the first entry that does not hold.
+    Then compare the last entry with the recorded head (``AuditChainHead``), which catches
+    entries removed from the end, and with heads recorded earlier outside the database
+    (``recorded``: the anchors; ``expect_head``), each of which must still be in the chain
+    with the same hash: what catches a truncated chain whose head row was moved back too,
+    or a rewrite that recomputed every later hash."""
+    records = list(recorded)
+    if expect_head is not None:  # first, so that it is the one named when an anchor says the same
+        records.insert(0, RecordedHead(expect_head[0], expect_head[1], "the expected head", "or it was mistyped"))
+    entries = AuditEntry.objects.order_by("sequence").iterator(chunk_size=2000)
+    walk = _walk(entries, GENESIS_HASH, 1, 0, {record.sequence for record in records})
+    failure = walk.failure or _head_mismatch(walk, _head_row()) or _against_records(walk, records)
+    if failure is not None:
+        return failure
+    return ChainReport(True, walk.checked, head_sequence=walk.last_sequence, head_hash=walk.last_hash)
+
+
+def audit_chain_extends(record: RecordedHead | None) -> ChainReport:
+    """Whether the chain still holds ``record`` and runs on from it, intact, to its head row:
+    what must hold before a newer head is recorded beside it. Only the entries after
+    ``record`` are walked (entries before it are ``audit_chain_verify``'s business), so
+    this stays cheap however long the chain grows. ``checked`` counts the entries walked."""
+    head = _head_row()
+    # entries appended after the head row was read are left for the next time
+    entries = AuditEntry.objects.filter(sequence__lte=head[0]).order_by("sequence")
+    if record is None or record.sequence == 0:
+        walk = _walk(entries.iterator(chunk_size=2000), GENESIS_HASH, 1, 0, set())
+        failure = walk.failure or _head_mismatch(walk, head) or _against_records(walk, [record] if record else [])
+        if failure is not None:
+            return failure
+        return ChainReport(True, walk.checked, head_sequence=walk.last_sequence, head_hash=walk.last_hash)
+    anchored = AuditEntry.objects.filter(sequence=record.sequence).first()
+    if anchored is None:
+        last = AuditEntry.objects.order_by("-sequence").values_list("sequence", "entry_hash").first()
+        last = last or (0, GENESIS_HASH)
+        if last[0] < record.sequence:
+            return _against_records(_Walk(None, 0, last[0], last[1], {}), [record])  # type: ignore[return-value]
+        return ChainReport(
+            False, 0, record.sequence, None, f"the entry recorded by {record.label} is missing", last[0], last[1]
+        )
+    if chain_hash(anchored.previous_hash, entry_content(anchored)) != anchored.entry_hash:
+        return ChainReport(
+            False, 0, record.sequence, anchored.pk, "its content does not match its hash (changed after it was written)",
+            head[0], head[1],
+        )
+    if anchored.entry_hash != record.hash:
+        seen = {record.sequence: (anchored.entry_hash, anchored.pk)}
+        return _against_records(_Walk(None, 0, head[0], head[1], seen), [record])  # type: ignore[return-value]
+    walk = _walk(
+        entries.filter(sequence__gt=record.sequence).iterator(chunk_size=2000), record.hash, record.sequence + 1, 0, set()
+    )
+    failure = walk.failure or _head_mismatch(walk, head)
+    if failure is not None:
+        return failure
+    return ChainReport(True, walk.checked, head_sequence=walk.last_sequence, head_hash=walk.last_hash)

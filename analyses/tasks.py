@@ -6,15 +6,20 @@ are keyed by episode, pulls are created once, notifications remember what was se
 from __future__ import annotations
 
 from celery import shared_task
+from django.conf import settings
 from django.db import InterfaceError, OperationalError
 
 from analyses.services.alert_delivery import alert_notify, alerts_pending_notification
+from analyses.services.audit_anchors import audit_anchor_write
 from analyses.services.stability import stability_pulls_schedule, stability_studies_evaluate, stability_study_evaluate
 from analyses.services.trend_scan import trend_scan
 
 # Retry what may pass (a database that is restarting); a domain error would only repeat.
 TRANSIENT = (OperationalError, InterfaceError)
-RETRY = {"acks_late": True, "autoretry_for": TRANSIENT, "retry_backoff": 5, "retry_backoff_max": 600, "max_retries": 8}
+# A worker holds a retry unacknowledged until its countdown ends; on Redis a countdown longer than
+# the visibility timeout would have the message delivered again meanwhile (Celery's Redis caveats).
+BACKOFF_MAX = max(1, min(600, int(settings.BROKER_VISIBILITY_TIMEOUT * 0.8)))
+RETRY = {"acks_late": True, "autoretry_for": TRANSIENT, "retry_backoff": 5, "retry_backoff_max": BACKOFF_MAX, "max_retries": 8}
 
 
 @shared_task(name="analyses.tasks.trend_scan_task", **RETRY)
@@ -52,3 +57,9 @@ def alerts_notify_pending_task() -> int:
     for alert_id in pending:
         alert_notify_task.delay(alert_id)
     return len(pending)
+
+
+@shared_task(name="analyses.tasks.audit_anchor_task", **RETRY)
+def audit_anchor_task() -> dict:
+    """Record the audit chain's head outside the database (when it moved and still holds)."""
+    return audit_anchor_write().__dict__

@@ -6,6 +6,8 @@ DJANGO_SECRET_KEY  default: a key generated once into var/secret_key, never comm
 DEBUG          off unless set to 1/true/yes.
 OLEOTRACE_PRODUCTION  1 in the production processes (gunicorn sets it): DJANGO_SECRET_KEY is then
                required, and HTTPS settings default on; see "Production" below and the README.
+BROKER_VISIBILITY_TIMEOUT  seconds before Redis redelivers a task whose worker died (default 300).
+AUDIT_ANCHOR_DIR   where the audit chain's head is anchored (default var/audit-anchors/).
 """
 from __future__ import annotations
 
@@ -66,7 +68,8 @@ INSTALLED_APPS = [
 ]
 
 MIDDLEWARE = [
-    "labcore.metrics_http.RequestMetricsMiddleware",  # outermost: times the whole request
+    "labcore.request_id.RequestIdMiddleware",  # first: every layer below logs with the request id
+    "labcore.metrics_http.RequestMetricsMiddleware",  # times the whole request, under its request id
     "django.middleware.security.SecurityMiddleware",
     "whitenoise.middleware.WhiteNoiseMiddleware",  # static files (API docs) without a separate web server
     "django.contrib.sessions.middleware.SessionMiddleware",
@@ -159,15 +162,28 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_DIST": "SIDECAR",
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
+    # the enum hook is drf-spectacular's default; ours documents the 401s and 404s the framework gives
+    "POSTPROCESSING_HOOKS": ["drf_spectacular.hooks.postprocess_schema_enums", "analyses.api.schema.default_responses"],
 }
 
 # Celery: Redis when REDIS_URL is set, otherwise a filesystem broker that needs no server.
 REDIS_URL = os.environ.get("REDIS_URL", "")
 BROKER_DIR = VAR_DIR / "broker"
+# Seconds before Redis hands a message that a worker took but never acknowledged (acks_late: the
+# worker was killed outright) to another worker. kombu's default is an hour. Keep it well above the
+# longest task (a trend scan of 1,000,000 results takes seconds, README) and above the longest retry
+# countdown (analyses/tasks.py caps it below this), or a message still in hand is delivered twice.
+BROKER_VISIBILITY_TIMEOUT = float(os.environ.get("BROKER_VISIBILITY_TIMEOUT", 300))
 if REDIS_URL:
     CELERY_BROKER_URL = REDIS_URL
     CELERY_RESULT_BACKEND = REDIS_URL
-    CELERY_BROKER_TRANSPORT_OPTIONS: dict = {"socket_connect_timeout": 2}
+    CELERY_BROKER_TRANSPORT_OPTIONS: dict = {
+        "socket_connect_timeout": 2,
+        "visibility_timeout": BROKER_VISIBILITY_TIMEOUT,
+        # each worker looks for overdue messages every 10 s (kombu's default throttle makes it ~100 s)
+        "unacked_restore_interval": 10,
+        "unacked_restore_throttle": 1,
+    }
     # Give up on a Redis that is down in about a second (the default retries for ~19 s)
     CELERY_RESULT_BACKEND_TRANSPORT_OPTIONS = {
         "retry_policy": {"max_retries": 2, "interval_start": 0, "interval_step": 0.2, "interval_max": 0.5},
@@ -204,7 +220,14 @@ CELERY_BEAT_SCHEDULE = {
     "stability-pulls": {"task": "analyses.tasks.stability_pulls_schedule_task", "schedule": float(os.environ.get("PULL_SCHEDULE_SECONDS", 600))},
     "stability-evaluate": {"task": "analyses.tasks.stability_studies_evaluate_task", "schedule": 3600.0},
     "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 60.0},
+    "audit-anchor": {"task": "analyses.tasks.audit_anchor_task", "schedule": float(os.environ.get("AUDIT_ANCHOR_SECONDS", 300))},
 }
+
+# The audit chain's head is appended to a file here (analyses/services/audit_anchors.py); audit_verify
+# checks the chain against it. Put it where the database's administrators cannot write.
+AUDIT_ANCHOR_DIR = Path(os.environ.get("AUDIT_ANCHOR_DIR", VAR_DIR / "audit-anchors"))
+# Optional: each new anchor (and a refusal to write one) is also posted here, e.g. ALERT_WEBHOOK_URL.
+AUDIT_ANCHOR_WEBHOOK_URL = os.environ.get("AUDIT_ANCHOR_WEBHOOK_URL", "")
 
 # EWMA chart of production series: smoothing λ and limit width L (NIST/SEMATECH typical: 0.2-0.3, 3).
 TREND_EWMA_SMOOTHING = float(os.environ.get("TREND_EWMA_SMOOTHING", 0.2))
@@ -215,15 +238,35 @@ DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")
 ALERT_EMAIL_RECIPIENTS = [a for a in os.environ.get("ALERT_EMAIL_RECIPIENTS", "qa@localhost").split(",") if a]
 ALERT_WEBHOOK_URL = os.environ.get("ALERT_WEBHOOK_URL", "")
 
+# One format on standard error for every line, tagged with the request id ("-" outside a request).
+# Django sends unhandled exceptions (django.request, ERROR, with the traceback) only to mail_admins
+# when DEBUG is off; the "errors" handler writes them, and any other django ERROR, to stderr too.
+LOG_FORMAT = "%(asctime)s %(levelname)s %(name)s [request %(request_id)s] %(message)s"
 LOGGING = {
     "version": 1,
     "disable_existing_loggers": False,
-    "handlers": {"console": {"class": "logging.StreamHandler"}},
+    "filters": {
+        "request_id": {"()": "labcore.request_id.RequestIdFilter"},
+        "require_debug_false": {"()": "django.utils.log.RequireDebugFalse"},
+    },
+    "formatters": {"service": {"format": LOG_FORMAT}},
+    "handlers": {
+        "console": {"class": "logging.StreamHandler", "stream": "ext://sys.stderr", "formatter": "service", "filters": ["request_id"]},
+        "errors": {"class": "logging.StreamHandler", "stream": "ext://sys.stderr", "level": "ERROR", "formatter": "service", "filters": ["request_id"]},
+        "mail_admins": {"class": "django.utils.log.AdminEmailHandler", "level": "ERROR", "filters": ["require_debug_false"]},
+    },
     "loggers": {
         "plugins": {"handlers": ["console"], "level": "INFO"},
         "analyses": {"handlers": ["console"], "level": "INFO"},
+        "labcore": {"handlers": ["console"], "level": "INFO"},
+        "django": {"handlers": ["errors", "mail_admins"], "level": "INFO"},
+        # the filter here too, so that the id is on the record itself for any handler (pytest's caplog)
+        "django.request": {"filters": ["request_id"], "level": "INFO"},
     },
 }
+
+# After a session login (/api/auth/login/) without ?next=: the API root, not Django's /accounts/profile/.
+LOGIN_REDIRECT_URL = "api-root"
 
 # Observability (README, "Run in production"). /metrics answers only when enabled, and only to
 # "Authorization: Bearer <METRICS_TOKEN>" when a token is set; /readyz calls a worker whose
@@ -232,11 +275,10 @@ METRICS_ENABLED = _env_flag("METRICS_ENABLED")
 METRICS_TOKEN = os.environ.get("METRICS_TOKEN", "")
 WORKER_HEARTBEAT_STALE_SECONDS = float(os.environ.get("WORKER_HEARTBEAT_STALE_SECONDS", 60))
 
-# Logs as JSON lines (labcore/log_format.py) unless LOG_FORMAT=text; the access log is one
-# line per request with route, status, time and user id (labcore/metrics_http.py).
+# Logs as JSON lines (labcore/log_format.py) unless LOG_JSON=0, which keeps LOG_FORMAT above; the
+# access log is one line per request with route, status, time and user id (labcore/metrics_http.py).
 LOGGING["formatters"] = {**LOGGING.get("formatters", {}), "json": {"()": "labcore.log_format.JsonLinesFormatter"}}
-LOGGING["loggers"]["labcore"] = {"handlers": ["console"], "level": "INFO", **LOGGING["loggers"].get("labcore", {})}
-if os.environ.get("LOG_FORMAT", "json") == "json":
+if _env_flag("LOG_JSON", True):
     for _handler in LOGGING["handlers"].values():
         if _handler.get("class") == "logging.StreamHandler":
             _handler["formatter"] = "json"

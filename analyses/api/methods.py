@@ -9,6 +9,8 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from analyses.api.schema import errors
+from analyses.api.serializers.common import TextField
+from analyses.api.serializers.states import VerdictField
 from analyses.models import Comparison, Verdict
 from analyses.selectors.methods import method_detail, method_list
 from analyses.services.calculation import calculation_run
@@ -39,7 +41,7 @@ class CalculationRequestSerializer(serializers.Serializer):
     maximum = serializers.CharField(
         required=False, allow_blank=True, help_text="Upper limit to judge the result against, as written (\"0.6\")"
     )
-    oil_type = serializers.CharField(
+    oil_type = TextField(
         required=False, allow_blank=True, help_text="Judge against the method's Codex default limits for this oil type"
     )
     comparison = serializers.ChoiceField(
@@ -64,7 +66,7 @@ class CalculationResultSerializer(serializers.Serializer):
     decimals = serializers.IntegerField()
     inputs = serializers.DictField(help_text="Inputs as used, in each input's default unit")
     limits = CalculationLimitsSerializer(allow_null=True, help_text="The limits judged against; null when none given")
-    verdict = serializers.ChoiceField(
+    verdict = VerdictField(
         choices=Verdict.choices, allow_null=True, help_text="pass or oos against the limits; null when none given"
     )
 

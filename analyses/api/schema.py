@@ -60,3 +60,41 @@ IDEMPOTENCY_KEY = OpenApiParameter(
         "(same user) returns the first result instead of recording another."
     ),
 )
+
+
+# Answers every operation of a kind can give, added where a view's own description leaves them out.
+NOT_AUTHENTICATED = "Not authenticated: no credentials, or a token that is not valid"
+NOT_FOUND_IN_PATH = "Not found: no such object (or one outside what the user may see)"
+PAGE_NOT_FOUND = "Not found: a page that does not exist (`?page=0`, a page beyond the last, or not a number)"
+
+
+def _error_response(description: str) -> dict:
+    return {
+        "content": {"application/json": {"schema": {"$ref": "#/components/schemas/Error"}}},
+        "description": description,
+    }
+
+
+def default_responses(result: dict, generator, request, public) -> dict:
+    """drf-spectacular postprocessing hook: document the answers the framework itself gives.
+
+    - 401 wherever a caller must authenticate (the operation's security has no ``{}``);
+    - 404 wherever the path names an object, and on every paged list (DRF answers
+      ``?page=0`` or a page beyond the last with 404).
+    """
+    for path, operations in result.get("paths", {}).items():
+        for method, operation in operations.items():
+            responses = operation.setdefault("responses", {})
+            if {} not in operation.get("security", [{}]):
+                responses.setdefault("401", _error_response(NOT_AUTHENTICATED))
+            if "{" in path:
+                responses.setdefault("404", _error_response(NOT_FOUND_IN_PATH))
+            query = {p["name"] for p in operation.get("parameters", []) if p.get("in") == "query"}
+            if method == "get" and "page" in query:
+                if "404" in responses:
+                    described = responses["404"]
+                    responses["404"] = {**described, "description": f"{described['description']}; or {PAGE_NOT_FOUND[11:]}"}
+                else:
+                    responses["404"] = _error_response(PAGE_NOT_FOUND)
+            operation["responses"] = dict(sorted(responses.items()))
+    return result

@@ -20,6 +20,14 @@ class Light(models.TextChoices):
     LIGHT = "light", "Light"
 
 
+class StorageCategory(models.TextChoices):
+    """ICH Q1E's storage categories; which one decides how far a shelf life may be extrapolated."""
+
+    ROOM_TEMPERATURE = "room_temperature", "Room temperature"
+    REFRIGERATED = "refrigerated", "Refrigerated"
+    FROZEN = "frozen", "Frozen"
+
+
 class OffsetUnit(models.TextChoices):
     DAYS = "days", "Days"
     MONTHS = "months", "Months"
@@ -32,6 +40,10 @@ class StabilityStudy(models.Model):
     lots = models.ManyToManyField("analyses.Lot", related_name="stability_studies")
     started_on = models.DateField()
     storage_temperature_c = models.FloatField(help_text="labelled storage temperature the shelf life is claimed for")
+    storage_category = models.CharField(
+        max_length=20, choices=StorageCategory.choices, default=StorageCategory.ROOM_TEMPERATURE,
+        help_text="ICH Q1E storage category of the label; decides the extrapolation allowed",
+    )
     claimed_shelf_life_months = models.FloatField()
     state = models.CharField(max_length=16, choices=StudyState.choices, default=StudyState.RUNNING)
     evaluation = models.JSONField(null=True, blank=True, help_text="latest evaluation (stability_study_evaluate)")
@@ -70,6 +82,11 @@ class StudyAttribute(models.Model):
     method_code = models.CharField(max_length=40)
     minimum = models.FloatField(null=True, blank=True)
     maximum = models.FloatField(null=True, blank=True)
+    significant_change = models.FloatField(
+        null=True, blank=True,
+        help_text="a change from the initial value larger than this (result unit) at the accelerated or "
+        "intermediate condition is a significant change (ICH Q1E); the limits count in any case",
+    )
 
     class Meta:
         ordering = ["study_id", "method_code"]

@@ -101,7 +101,7 @@ def _stability_study(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log
     study = stability_study_create(
         users["qa"], code=spec["code"], title=spec["title"], product=lot.product_id, lots=[lot.pk],
         started_on=today - dt.timedelta(days=spec["started_days_ago"]), storage_temperature_c=spec["storage_temperature_c"],
-        claimed_shelf_life_months=spec["claimed_shelf_life_months"], conditions=spec["conditions"],
+        storage_category=spec.get("storage_category"), claimed_shelf_life_months=spec["claimed_shelf_life_months"], conditions=spec["conditions"],
         pull_points=spec["pull_points"], attributes=spec["attributes"],
     )
     # Take each pull on its due day and test it then, as a lab on schedule would.

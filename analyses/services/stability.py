@@ -29,6 +29,7 @@ from analyses.models import (
     PullPoint,
     SampleKind,
     StabilityStudy,
+    StorageCategory,
     StorageCondition,
     StudyAttribute,
     StudyState,
@@ -39,6 +40,7 @@ from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.stability_evaluation import study_evaluation
 from analyses.services.system import scheduler_actor
+from analyses.stability.extrapolation import category_fits, storage_category_for
 from plugins.registry import get_registry
 
 logger = logging.getLogger(__name__)
@@ -46,7 +48,11 @@ logger = logging.getLogger(__name__)
 DAYS_PER_MONTH = 365.25 / 12
 MAX_OFFSET = {OffsetUnit.DAYS: 7300, OffsetUnit.MONTHS: 240}  # 20 years: longer than any shelf-life claim
 PULL_GRACE_DAYS = 7  # a pull not tested a week after its due date is overdue (common practice, no source)
-STUDY_FIELDS = ("code", "title", "product_id", "started_on", "storage_temperature_c", "claimed_shelf_life_months", "state")
+STUDY_FIELDS = (
+    "code", "title", "product_id", "started_on", "storage_temperature_c", "storage_category", "claimed_shelf_life_months",
+    "state",
+)
+ATTRIBUTE_FIELDS = ("method_code", "minimum", "maximum", "significant_change")
 
 
 @dataclass
@@ -118,7 +124,22 @@ def _clean_pulls(raw: Any) -> list[tuple[int, str]]:
     return pulls
 
 
-def _clean_attributes(raw: Any) -> list[tuple[str, float | None, float | None]]:
+def _clean_category(raw: Any, storage_c: float) -> str:
+    """The declared ICH Q1E storage category, or the one of the storage temperature; a
+    declared one may be stricter than the temperature's, never more permissive."""
+    if raw is None:
+        return storage_category_for(storage_c)
+    if raw not in StorageCategory.values:
+        raise InvalidInput.for_field("storage_category", f"must be one of {', '.join(StorageCategory.values)}")
+    if not category_fits(raw, storage_c):
+        raise InvalidInput.for_field(
+            "storage_category",
+            f"{raw} does not fit a storage temperature of {storage_c:g} °C (that is {storage_category_for(storage_c)} storage)",
+        )
+    return raw
+
+
+def _clean_attributes(raw: Any) -> list[tuple[str, float | None, float | None, float | None]]:
     registry = get_registry()
     attributes = []
     for index, item in enumerate(_items(raw, "attributes")):
@@ -131,9 +152,14 @@ def _clean_attributes(raw: Any) -> list[tuple[str, float | None, float | None]]:
             raise InvalidInput.for_field(f"attributes.{index}", "needs an acceptance limit: minimum or maximum")
         if low is not None and high is not None and low > high:
             raise InvalidInput.for_field(f"attributes.{index}.minimum", "must not exceed the maximum")
-        if any(code == seen for seen, _, _ in attributes):
+        change = None
+        if item.get("significant_change") is not None:
+            change = _number(item["significant_change"], f"attributes.{index}.significant_change")
+            if change <= 0:
+                raise InvalidInput.for_field(f"attributes.{index}.significant_change", "must be above 0")
+        if any(code == seen for seen, *_ in attributes):
             raise InvalidInput.for_field(f"attributes.{index}.method_code", "repeats another attribute")
-        attributes.append((code, low, high))
+        attributes.append((code, low, high, change))
     return attributes
 
 
@@ -157,9 +183,13 @@ def stability_study_create(
     conditions: Sequence[Mapping[str, Any]],
     pull_points: Sequence[Mapping[str, Any]],
     attributes: Sequence[Mapping[str, Any]],
+    storage_category: str | None = None,
 ) -> StabilityStudy:
     """Create a study with its conditions, attributes and one pull point per condition,
-    lot and time. Needs ``manage_stability_study`` (lab manager, QA, admin)."""
+    lot and time. Needs ``manage_stability_study`` (lab manager, QA, admin).
+    ``storage_category`` (ICH Q1E) defaults to the category of the storage temperature;
+    an attribute's optional ``significant_change`` is the change from the initial value
+    that counts as significant at the accelerated and intermediate conditions."""
     require_permission(actor, "manage_stability_study", "create stability studies")
     code = required_text(code, "code")
     title = required_text(title, "title")
@@ -168,6 +198,7 @@ def stability_study_create(
     if started_on.year > 9000:  # the last pull must still be a date
         raise InvalidInput.for_field("started_on", "must be a date before the year 9000")
     storage = _number(storage_temperature_c, "storage_temperature_c", low=-40, high=120)
+    category = _clean_category(storage_category, storage)
     claimed = _number(claimed_shelf_life_months, "claimed_shelf_life_months", low=0.1)
     clean_conditions = _clean_conditions(conditions)
     clean_pulls = _clean_pulls(pull_points)
@@ -189,13 +220,15 @@ def stability_study_create(
             raise InvalidInput.for_field("code", f"study code {code!r} is already used")
         study = StabilityStudy.objects.create(
             code=code, title=title, product=product, started_on=started_on, storage_temperature_c=storage,
-            claimed_shelf_life_months=claimed, created_by=actor, created_at=timezone.now(),
+            storage_category=category, claimed_shelf_life_months=claimed, created_by=actor, created_at=timezone.now(),
         )
         study.lots.set(lot_rows)
         audit_append(actor, AuditAction.CREATE, study, created(study, STUDY_FIELDS) | {"lots": [None, [lot.code for lot in lot_rows]]})
-        for method_code, low, high in clean_attributes:
-            attribute = StudyAttribute.objects.create(study=study, method_code=method_code, minimum=low, maximum=high)
-            audit_append(actor, AuditAction.CREATE, attribute, created(attribute, ("method_code", "minimum", "maximum")))
+        for method_code, low, high, change in clean_attributes:
+            attribute = StudyAttribute.objects.create(
+                study=study, method_code=method_code, minimum=low, maximum=high, significant_change=change,
+            )
+            audit_append(actor, AuditAction.CREATE, attribute, created(attribute, ATTRIBUTE_FIELDS))
         pulls = []
         for temperature, light in clean_conditions:
             condition = StorageCondition.objects.create(study=study, temperature_c=temperature, light=light)

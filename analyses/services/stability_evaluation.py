@@ -1,34 +1,47 @@
 """The numbers of a stability evaluation: kinetics, ICH Q1E shelf life and Arrhenius.
 
 Reads the accepted pull results of a study and returns the evaluation as a JSON-ready
-dict, plus alert drafts; ``stability.stability_study_evaluate`` stores both.
+dict, plus alert drafts; ``stability.stability_study_evaluate`` stores both. The study's
+ICH Q1E Appendix A branch (``analyses/stability/extrapolation.py``: storage category and
+significant change at the accelerated and intermediate conditions) caps every shelf life
+the evaluation reports as supported, and is named in the output with its reason.
 """
 from __future__ import annotations
 
 import math
 from dataclasses import asdict
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from analyses.errors import InvalidInput
 from analyses.models import AlertSource, StabilityStudy
-from analyses.selectors.stability import study_results
+from analyses.selectors.stability import study_extrapolation, study_results
 from analyses.services.alerts import AlertDraft
+from plugins.contract import float_as_decimal
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+    from analyses.stability.extrapolation import ExtrapolationBranch
 
 # The fits (numpy, scipy, statsmodels behind analyses.stability) are imported inside the
 # functions: the URLconf imports this module through the stability services.
 
+
 def _beyond(value: float, attribute) -> bool:
-    return (attribute.maximum is not None and value > attribute.maximum) or (
-        attribute.minimum is not None and value < attribute.minimum
+    """Whether a pull result is beyond the attribute's limits, decided in decimal arithmetic
+    (both through the documented 15-digit guard), so a result at the limit is at it."""
+    return (attribute.maximum is not None and float_as_decimal(value) > float_as_decimal(attribute.maximum)) or (
+        attribute.minimum is not None and float_as_decimal(value) < float_as_decimal(attribute.minimum)
     )
 
 
-def condition_evaluation(rows: pd.DataFrame, limit: float, side: str) -> dict[str, Any]:
-    """Kinetics and ICH Q1E shelf life of one attribute under one condition."""
+def condition_evaluation(rows: pd.DataFrame, limit: float, side: str, branch: ExtrapolationBranch) -> dict[str, Any]:
+    """Kinetics and ICH Q1E shelf life of one attribute under one condition, the shelf life
+    capped at what the study's Appendix A branch allows beyond this condition's data."""
     from analyses.stability.kinetics import kinetics_fit
     from analyses.stability.shelf_life import shelf_life_estimate
 
-    out: dict[str, Any] = {"n": len(rows)}
+    out: dict[str, Any] = {"n": len(rows), "last_months": float(rows["months"].max())}
     try:
         kinetics = kinetics_fit(rows["months"], rows["value"])
         out["kinetics"] = {
@@ -41,7 +54,10 @@ def condition_evaluation(rows: pd.DataFrame, limit: float, side: str) -> dict[st
         out["kinetics"] = None
         out["kinetics_note"] = exc.detail
     try:
-        result = shelf_life_estimate(rows["months"], rows["value"], limit, limit_side=side, lots=rows["lot"].tolist())
+        result = shelf_life_estimate(
+            rows["months"], rows["value"], limit, limit_side=side, lots=rows["lot"].tolist(),
+            extrapolation_factor=branch.factor or 1.0, extrapolation_months=branch.months_beyond,
+        )
         out["shelf_life"] = {
             "months": result.shelf_life,
             "estimate_months": result.estimate,
@@ -61,12 +77,14 @@ def condition_evaluation(rows: pd.DataFrame, limit: float, side: str) -> dict[st
 
 
 def arrhenius_evaluation(
-    per_condition: list[dict[str, Any]], storage_c: float, limit: float, side: str, last_months: float = 0.0
+    per_condition: list[dict[str, Any]], storage_c: float, limit: float, side: str, branch: ExtrapolationBranch
 ) -> dict[str, Any] | None:
     """Arrhenius from the zero-order rates of the dark conditions (light adds another
-    pathway); None with fewer than two temperatures whose rate moves toward the limit."""
+    pathway); None with fewer than two temperatures whose rate moves toward the limit.
+    Its shelf life is checked against what ``branch`` allows beyond X, the period covered
+    by the long-term condition's data (not the last pull at any condition: accelerated
+    pulls say nothing about how long the oil has been watched at its storage temperature)."""
     from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
-    from analyses.stability.shelf_life import EXTRAPOLATION_FACTOR, EXTRAPOLATION_MONTHS
 
     sign = 1.0 if side == "upper" else -1.0
     points = [
@@ -93,8 +111,11 @@ def arrhenius_evaluation(
         out["shelf_life_months"] = predicted.time
         out["shelf_life_interval_months"] = None if predicted.lower is None else [predicted.lower, predicted.upper]
         # ICH Q1E's limit on extrapolating in time applies to this prediction too
-        cap = min(EXTRAPOLATION_FACTOR * last_months, last_months + EXTRAPOLATION_MONTHS)
-        out["time_extrapolated"] = predicted.time > cap
+        long_term = [c["last_months"] for c in per_condition if c.get("role") == "long_term" and c.get("n")]
+        x = max(long_term, default=0.0)
+        out["long_term_months"] = x
+        out["allowed_months"] = branch.limit(x)
+        out["time_extrapolated"] = predicted.time > branch.limit(x)
     return out
 
 
@@ -112,23 +133,38 @@ def json_ready(value: Any) -> Any:
 def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertDraft]]:
     results = study_results(study)
     conditions = list(study.conditions.all())
+    extrapolation = study_extrapolation(study, results)
+    branch = extrapolation.branch
     drafts: list[AlertDraft] = []
     attributes_out = []
     predictions, supports = [], []
     for attribute in study.attributes.all():
         limit, side = attribute.shelf_life_limit
         rows = results[results["method_code"] == attribute.method_code]
+        changes = extrapolation.changes.get(attribute.method_code, {})
         per_condition = []
         for condition in conditions:
             subset = rows[rows["condition_id"] == condition.pk]
-            entry = {"condition_id": condition.pk, "temperature_c": condition.temperature_c, "light": condition.light}
-            entry |= condition_evaluation(subset, limit, side) if len(subset) else {"n": 0}
+            entry = {
+                "condition_id": condition.pk, "temperature_c": condition.temperature_c, "light": condition.light,
+                "role": extrapolation.roles[condition.pk],
+            }
+            entry |= condition_evaluation(subset, limit, side, branch) if len(subset) else {"n": 0}
+            if condition.pk in changes:
+                entry["significant_change"] = asdict(changes[condition.pk])
             per_condition.append(entry)
-        last_months = float(rows["months"].max()) if len(rows) else 0.0
-        arrhenius = arrhenius_evaluation(per_condition, study.storage_temperature_c, limit, side, last_months)
+        arrhenius = arrhenius_evaluation(per_condition, study.storage_temperature_c, limit, side, branch)
         predicted, supported, basis = _predicted_shelf_life(per_condition, arrhenius, study.storage_temperature_c)
+        long_term = max((c["last_months"] for c in per_condition if c["role"] == "long_term" and c["n"]), default=None)
+        if supported is not None:  # already capped by the regression; stated here as the rule it is
+            supported = min(supported, branch.limit(long_term))
         attributes_out.append({
-            "method_code": attribute.method_code, "limit": limit, "limit_side": side, "conditions": per_condition,
+            "method_code": attribute.method_code, "limit": limit, "limit_side": side,
+            "significant_change_amount": attribute.significant_change,
+            # X, and the longest shelf life the branch allows on it
+            "long_term_months": long_term,
+            "extrapolation_limit_months": None if long_term is None else branch.limit(long_term),
+            "conditions": per_condition,
             "arrhenius": arrhenius, "predicted_shelf_life_months": predicted,
             "supported_shelf_life_months": supported, "basis": basis,
         })
@@ -159,8 +195,11 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
         "study": study.code,
         "claimed_shelf_life_months": study.claimed_shelf_life_months,
         "storage_temperature_c": study.storage_temperature_c,
+        "storage_category": study.storage_category,
+        # the ICH Q1E Appendix A branch the data put the study on, and why
+        "extrapolation": extrapolation.as_dict({c.pk: c for c in conditions}),
         "predicted_shelf_life_months": min(predictions) if predictions else None,
-        # what the data support so far: the ICH Q1E estimate capped at the allowed extrapolation
+        # what the data support so far: the ICH Q1E estimate capped at what the branch allows
         "supported_shelf_life_months": min(supports) if supports else None,
         "attributes": attributes_out,
     }
@@ -172,11 +211,8 @@ def _predicted_shelf_life(
 ) -> tuple[float | None, float | None, str]:
     """(predicted, supported, basis). At the storage condition the prediction is the ICH Q1E
     crossing itself and "supported" is what the data support so far (the crossing capped at
-    the allowed extrapolation); without data there, the Arrhenius prediction."""
-    at_storage = [
-        c["shelf_life"] for c in per_condition
-        if c["temperature_c"] == storage_c and c["light"] == "dark" and c.get("shelf_life")
-    ]
+    what the ICH Q1E branch allows); without data there, the Arrhenius prediction."""
+    at_storage = [c["shelf_life"] for c in per_condition if c.get("role") == "long_term" and c.get("shelf_life")]
     if at_storage:
         governing = min(at_storage, key=lambda sl: sl["months"])
         supported = governing["months"]

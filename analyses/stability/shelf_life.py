@@ -6,8 +6,11 @@ that falls towards a lower limit uses the lower bound. Lots are combined as
 ``pooling.pooling_decide`` says; with separate lots each gets its own regression and
 the shelf life is the shortest. Times are in months.
 
-Extrapolation (ICH Q1E, from memory): at most about twice the long-term data and no
-more than 12 months beyond it. The reported shelf life is capped there and flagged.
+Extrapolation: the reported shelf life is capped at what ICH Q1E allows beyond the data
+and flagged. How far that is depends on the Appendix A branch (``extrapolation.py``); the
+defaults here are its most permissive branch (up to 2X, at most X + 12 months), which
+holds only for room-temperature storage without significant change at the accelerated
+condition. Pass ``extrapolation_factor=1, extrapolation_months=0`` for no extrapolation.
 """
 from __future__ import annotations
 
@@ -30,7 +33,7 @@ EXTRAPOLATION_FACTOR = 2.0
 EXTRAPOLATION_MONTHS = 12.0
 MINIMUM_POINTS_PER_LOT = 3
 GRID_POINTS = 401
-HORIZON_FACTOR = 10.0  # search for the crossing up to 10x the cap, then call it "not reached"
+HORIZON_FACTOR = 10.0  # search for the crossing up to 10x the widest cap, then call it "not reached"
 
 
 @dataclass(frozen=True)
@@ -91,7 +94,9 @@ def shelf_life_estimate(
     cap = min(extrapolation_factor * last_time, last_time + extrapolation_months)
     decision = pooling_decide(data, pooling_alpha)
     lot_fits = _lot_models(data, decision)
-    horizon = HORIZON_FACTOR * max(cap, last_time)
+    # The search horizon ignores the branch's cap, so the estimate (a prediction) is the same
+    # whichever branch applies; only what is reported as supported changes.
+    horizon = HORIZON_FACTOR * max(min(EXTRAPOLATION_FACTOR * last_time, last_time + EXTRAPOLATION_MONTHS), last_time)
     alpha = 2 * (1 - confidence)  # a two-sided (1 - alpha) interval's edge is the one-sided bound
     results = [_lot_shelf_life(lot, fit, limit, limit_side, alpha, horizon, cap) for lot, fit in lot_fits]
 

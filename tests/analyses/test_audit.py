@@ -13,8 +13,10 @@ from django.db import connection, transaction
 from django.test import RequestFactory
 
 from analyses.audit import GENESIS_HASH, audit_append, audit_chain_verify
-from analyses.models import AuditChainHead, AuditEntry, ImmutableRowError, Product
+from analyses.models import AuditEntry, ImmutableRowError, Product
+from analyses.services.audit_anchors import audit_anchor_write
 from analyses.services.samples import sample_hold
+from tests.analyses.audit_setup import delete_last, move_head, tamper
 from tests.analyses.lab_setup import lot, product, received_sample, sample, specification, users  # noqa: F401
 from tests.conftest import service_missing
 from tests.factories import ProductFactory, UserFactory
@@ -49,6 +51,7 @@ def test_the_chain_links_each_entry_to_the_one_before(received_sample):
         assert after.sequence == before.sequence + 1
         assert after.previous_hash == before.entry_hash
     assert audit_chain_verify().ok
+    assert audit_anchor_write().written
     assert f"{len(entries)} entries verified" in _verify()
 
 
@@ -81,10 +84,7 @@ def test_the_admin_shows_entries_read_only(users):
 @pytest.mark.django_db
 def test_a_row_changed_behind_the_apps_back_is_found(received_sample):
     target = AuditEntry.objects.order_by("sequence")[3]
-    with connection.cursor() as cursor:  # tampering, as someone with database access might
-        cursor.execute(
-            f"UPDATE {AuditEntry._meta.db_table} SET reason = %s WHERE id = %s", ["nothing to see", target.pk]
-        )
+    tamper("UPDATE {entries} SET reason = %s WHERE id = %s", ["nothing to see", target.pk])
     with pytest.raises(CommandError) as caught:
         _verify()
     assert f"broken at entry {target.sequence} (id {target.pk})" in str(caught.value)
@@ -95,8 +95,7 @@ def test_a_row_changed_behind_the_apps_back_is_found(received_sample):
 @pytest.mark.django_db
 def test_a_deleted_or_relinked_row_is_found(received_sample):
     entries = list(AuditEntry.objects.order_by("sequence"))
-    with connection.cursor() as cursor:
-        cursor.execute(f"DELETE FROM {AuditEntry._meta.db_table} WHERE id = %s", [entries[2].pk])
+    tamper("DELETE FROM {entries} WHERE id = %s", [entries[2].pk])
     report = audit_chain_verify()
     assert (report.ok, report.broken_sequence, report.checked) == (False, entries[3].sequence, 2)
     assert "missing" in report.problem
@@ -106,10 +105,7 @@ def test_a_deleted_or_relinked_row_is_found(received_sample):
 def test_a_rehashed_row_breaks_the_link_to_the_next(received_sample):
     """Recomputing the hash of a tampered row does not help: the next entry still points at the old hash."""
     entries = list(AuditEntry.objects.order_by("sequence"))
-    with connection.cursor() as cursor:
-        cursor.execute(
-            f"UPDATE {AuditEntry._meta.db_table} SET entry_hash = %s WHERE id = %s", ["f" * 64, entries[1].pk]
-        )
+    tamper("UPDATE {entries} SET entry_hash = %s WHERE id = %s", ["f" * 64, entries[1].pk])
     report = audit_chain_verify()
     assert not report.ok and report.broken_sequence == entries[1].sequence
 
@@ -145,19 +141,10 @@ def test_concurrent_appends_keep_one_linear_chain_on_postgresql():
     assert audit_chain_verify().ok
 
 
-def _delete_last(count: int) -> list[AuditEntry]:
-    """Remove the last ``count`` entries with raw SQL, as someone with database access might."""
-    doomed = list(AuditEntry.objects.order_by("-sequence")[:count])
-    with connection.cursor() as cursor:
-        for entry in doomed:
-            cursor.execute(f"DELETE FROM {AuditEntry._meta.db_table} WHERE id = %s", [entry.pk])
-    return doomed
-
-
 @pytest.mark.django_db
 def test_entries_deleted_from_the_end_are_found(received_sample):
     last_kept = AuditEntry.objects.order_by("-sequence")[2]
-    doomed = _delete_last(2)
+    doomed = delete_last(2)
     report = audit_chain_verify()
     assert not report.ok
     assert report.broken_sequence == last_kept.sequence + 1 == doomed[-1].sequence
@@ -168,7 +155,7 @@ def test_entries_deleted_from_the_end_are_found(received_sample):
 
 @pytest.mark.django_db
 def test_an_append_after_a_deletion_at_the_end_does_not_hide_it(users, received_sample):
-    _delete_last(1)
+    delete_last(1)
     sample_hold(users["qa"], received_sample, reason="seal broken")  # the next entry links to the deleted one
     report = audit_chain_verify()
     assert not report.ok and "missing" in report.problem
@@ -177,6 +164,7 @@ def test_an_append_after_a_deletion_at_the_end_does_not_hide_it(users, received_
 @pytest.mark.django_db
 def test_the_head_is_printed_and_checked_against_a_recorded_one(users, received_sample):
     last = AuditEntry.objects.order_by("sequence").last()
+    audit_anchor_write()
     printed = _verify()
     assert f"head: {last.sequence}:{last.entry_hash}" in printed
     recorded = f"{last.sequence}:{last.entry_hash}"
@@ -184,15 +172,15 @@ def test_the_head_is_printed_and_checked_against_a_recorded_one(users, received_
     out = StringIO()
     call_command("audit_verify", "--expect-head", recorded, stdout=out)
     assert "intact" in out.getvalue()
+    with pytest.raises(CommandError, match="rewritten"):
+        call_command("audit_verify", "--expect-head", f"{last.sequence}:{'a' * 64}", stdout=StringIO())
     # removing entries AND rewriting the head row passes the database's own check, not the recorded head
-    _delete_last(2)
+    delete_last(2)
     survivor = AuditEntry.objects.order_by("sequence").last()
-    AuditChainHead.objects.filter(id=1).update(last_sequence=survivor.sequence, last_hash=survivor.entry_hash)
+    move_head(survivor.sequence, survivor.entry_hash)
     assert audit_chain_verify().ok
     with pytest.raises(CommandError, match="before the expected head"):
         call_command("audit_verify", "--expect-head", recorded, stdout=StringIO())
-    with pytest.raises(CommandError, match="rewritten"):
-        call_command("audit_verify", "--expect-head", f"{survivor.sequence}:{'a' * 64}", stdout=StringIO())
     with pytest.raises(CommandError, match="SEQUENCE:HASH"):
         call_command("audit_verify", "--expect-head", "yesterday", stdout=StringIO())
 
@@ -202,7 +190,7 @@ def test_the_migration_gives_an_existing_chain_its_head(received_sample):
     from django.apps import apps
 
     record_head = import_module("analyses.migrations.0006_audit_chain_head").record_head
-    AuditChainHead.objects.filter(id=1).update(last_sequence=0, last_hash=GENESIS_HASH)  # as before the head was kept
+    move_head(0, GENESIS_HASH)  # as before the head was kept
     assert not audit_chain_verify().ok
     record_head(apps, None)
     assert audit_chain_verify().ok

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, enum_field_class, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, enum_field_class, username_field
 from analyses.models import Alert, AlertSeverity, AlertSource, AlertState, BaselineSource, ControlBaseline, SeriesKind
 
 AlertStateField = enum_field_class("AlertStateEnum", AlertState.choices)
@@ -33,7 +33,7 @@ class AlertSerializer(serializers.ModelSerializer):
 
 
 class AcknowledgeSerializer(StrictSerializer):
-    comment = serializers.CharField(help_text="What QA found or did; kept in the audit trail")
+    comment = TextField(help_text="What QA found or did; kept in the audit trail")
 
 
 class BaselineSerializer(serializers.ModelSerializer):
@@ -48,10 +48,10 @@ class BaselineSerializer(serializers.ModelSerializer):
 
 
 class BaselineInSerializer(StrictSerializer):
-    series_key = serializers.CharField(max_length=120, help_text="qc:<lot id>:<method> or production:<product id>:<method>")
+    series_key = TextField(max_length=120, help_text="qc:<lot id>:<method> or production:<product id>:<method>")
     mean = serializers.FloatField()
     sd = serializers.FloatField(help_text="Above 0")
-    reason = serializers.CharField(required=False, allow_blank=True, default="")
+    reason = TextField(required=False, allow_blank=True, default="")
 
 
 class SeriesSerializer(serializers.Serializer):

@@ -23,12 +23,24 @@ class StrictSerializer(serializers.Serializer):
         return super().to_internal_value(data)
 
 
+class TextField(serializers.CharField):
+    """A CharField that takes only a JSON string: DRF's own turns 0 or 1.5 into "0" and "1.5",
+    so ``{"reason": 0}`` would pass for a reason. The schema says string; so does this."""
+
+    default_error_messages = {"not_text": "Must be text (a JSON string)."}
+
+    def to_internal_value(self, data):
+        if not isinstance(data, str):
+            self.fail("not_text")
+        return super().to_internal_value(data)
+
+
 class ReasonSerializer(StrictSerializer):
-    reason = serializers.CharField(help_text="Why; kept in the audit trail")
+    reason = TextField(help_text="Why; kept in the audit trail")
 
 
 class NoteSerializer(StrictSerializer):
-    note = serializers.CharField(required=False, allow_blank=True, default="", help_text="Optional remark")
+    note = TextField(required=False, allow_blank=True, default="", help_text="Optional remark")
 
 
 class IdempotencyKeySerializer(serializers.Serializer):
@@ -51,15 +63,26 @@ def username_field(source: str, **kwargs) -> serializers.CharField:
     return serializers.CharField(source=f"{source}.username", read_only=True, allow_null=True, **kwargs)
 
 
-def enum_field_class(component_name: str, choices, *, blank: bool = False) -> type[serializers.ChoiceField]:
+class _BlankAsNull:
+    """A value not set yet is "" in the database and null in the API, as the schema says."""
+
+    def to_representation(self, value):
+        return None if value == "" else super().to_representation(value)
+
+
+def enum_field_class(
+    component_name: str, choices, *, blank: bool = False, blank_as_null: bool = False
+) -> type[serializers.ChoiceField]:
     """A ChoiceField whose choice set is one named component of the OpenAPI schema, so
     fields named alike ("state" of lots, samples, tests) do not collide in generated
-    clients. ``blank`` adds "" (a value not set)."""
+    clients. ``blank`` adds "" (a value not set); ``blank_as_null`` shows "" as null
+    instead (declare the field with ``allow_null=True``)."""
     values = [value for value, _ in choices] + ([""] if blank else [])
     schema = {
         "type": "string",
         "enum": values,
         "description": "\n".join(f"* `{value}` - {label}" for value, label in choices),
     }
-    field_class = type(f"{component_name}Field", (serializers.ChoiceField,), {"__module__": __name__})
+    bases = (_BlankAsNull, serializers.ChoiceField) if blank_as_null else (serializers.ChoiceField,)
+    field_class = type(f"{component_name}Field", bases, {"__module__": __name__})
     return extend_schema_field(schema, component_name=component_name)(field_class)

@@ -3,8 +3,8 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, username_field
-from analyses.api.serializers.states import InvestigationStateField
+from analyses.api.serializers.common import StrictSerializer, TextField, username_field
+from analyses.api.serializers.states import ConclusionField, InvestigationStateField
 from analyses.models import Conclusion, Investigation, InvestigationState
 
 
@@ -19,6 +19,7 @@ class InvestigationSerializer(serializers.ModelSerializer):
     minimum = serializers.CharField(source="test.specification_line.minimum", read_only=True)
     maximum = serializers.CharField(source="test.specification_line.maximum", read_only=True)
     state = InvestigationStateField(choices=InvestigationState.choices, read_only=True)
+    conclusion = ConclusionField(choices=Conclusion.choices, read_only=True, allow_null=True, help_text="null while open")
     opened_by = username_field("opened_by")
     closed_by = username_field("closed_by")
 
@@ -33,8 +34,8 @@ class InvestigationSerializer(serializers.ModelSerializer):
 
 
 class InvestigationCloseSerializer(StrictSerializer):
-    conclusion = serializers.ChoiceField(
+    conclusion = ConclusionField(
         choices=Conclusion.choices,
         help_text="confirmed: the lot is rejected; lab_error: the result is invalidated and a retest created",
     )
-    findings = serializers.CharField(help_text="What the investigation found; kept in the audit trail")
+    findings = TextField(help_text="What the investigation found; kept in the audit trail")

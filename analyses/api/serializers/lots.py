@@ -4,7 +4,7 @@ from __future__ import annotations
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.api.serializers.states import LotStateField
 from analyses.models import Certificate, Lot, LotOrigin, LotState, Product
 
@@ -32,11 +32,11 @@ class LotSerializer(serializers.ModelSerializer):
 
 
 class LotCreateSerializer(StrictSerializer):
-    code = serializers.CharField(max_length=60)
+    code = TextField(max_length=60)
     product = serializers.PrimaryKeyRelatedField(queryset=Product.objects.all())
     origin = serializers.ChoiceField(choices=LotOrigin.choices)
-    supplier = serializers.CharField(max_length=200, required=False, allow_blank=True, default="", help_text="Required for deliveries")
-    container_ref = serializers.CharField(
+    supplier = TextField(max_length=200, required=False, allow_blank=True, default="", help_text="Required for deliveries")
+    container_ref = TextField(
         max_length=100, required=False, allow_blank=True, default="", help_text="Tank or container; required for deliveries"
     )
     quantity_kg = serializers.DecimalField(max_digits=14, decimal_places=3, required=False, allow_null=True)

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.models import Product
 
 
@@ -17,7 +17,7 @@ class ProductSerializer(serializers.ModelSerializer):
 
 
 class ProductCreateSerializer(StrictSerializer):
-    code = serializers.CharField(max_length=40)
-    name = serializers.CharField(max_length=200)
-    oil_type = serializers.CharField(max_length=60, required=False, allow_blank=True, default="")
-    description = serializers.CharField(required=False, allow_blank=True, default="")
+    code = TextField(max_length=40)
+    name = TextField(max_length=200)
+    oil_type = TextField(max_length=60, required=False, allow_blank=True, default="")
+    description = TextField(required=False, allow_blank=True, default="")

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.models import Result, Test
 
 INPUTS_HELP = (
@@ -36,7 +36,7 @@ class BulkResultItemSerializer(StrictSerializer):
     test = serializers.IntegerField(help_text="Test id")
     inputs = serializers.DictField(help_text=INPUTS_HELP)
     replicate = serializers.IntegerField(required=False, min_value=1, help_text="Default: the next free replicate")
-    idempotency_key = serializers.CharField(
+    idempotency_key = TextField(
         required=False, max_length=100,
         help_text="Per item; without it, the request's Idempotency-Key header plus the item's position is used",
     )
@@ -48,4 +48,4 @@ class ResultRecordBulkSerializer(StrictSerializer):
 
 class ResultCorrectSerializer(StrictSerializer):
     inputs = serializers.DictField(help_text=INPUTS_HELP)
-    reason = serializers.CharField(help_text="Why the result is corrected; kept with the new version")
+    reason = TextField(help_text="Why the result is corrected; kept with the new version")

@@ -3,15 +3,16 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, username_field
-from analyses.api.serializers.states import SampleResumeStateField, SampleStateField, TestStateField
-from analyses.models import Lot, Priority, Sample, SampleKind, SampleState, Test, TestState
+from analyses.api.serializers.common import StrictSerializer, TextField, username_field
+from analyses.api.serializers.states import SampleResumeStateField, SampleStateField, TestStateField, VerdictField
+from analyses.models import Lot, Priority, Sample, SampleKind, SampleState, Test, TestState, Verdict
 
 
 class SampleTestSerializer(serializers.ModelSerializer):
     """A test as a line of its sample."""
 
     state = TestStateField(choices=TestState.choices, read_only=True)
+    verdict = VerdictField(choices=Verdict.choices, read_only=True, allow_null=True, help_text="null until a result is in")
     assignee = username_field("assignee")
 
     class Meta:
@@ -44,13 +45,13 @@ class SampleSerializer(serializers.ModelSerializer):
 class SampleRegisterSerializer(StrictSerializer):
     lot = serializers.PrimaryKeyRelatedField(queryset=Lot.objects.all())
     kind = serializers.ChoiceField(choices=SampleKind.choices, required=False, default=SampleKind.ROUTINE)
-    label = serializers.CharField(max_length=80, required=False, help_text='Unique; default "<lot code>-S<n>"')
+    label = TextField(max_length=80, required=False, help_text='Unique; default "<lot code>-S<n>"')
     taken_at = serializers.DateTimeField(required=False, allow_null=True)
 
 
 class SampleReceiveSerializer(StrictSerializer):
-    condition = serializers.CharField(help_text="Condition on receipt (seal, appearance...)")
-    storage_place = serializers.CharField(max_length=120)
+    condition = TextField(help_text="Condition on receipt (seal, appearance...)")
+    storage_place = TextField(max_length=120)
     received_at = serializers.DateTimeField(required=False, allow_null=True, help_text="Default: now")
     priority = serializers.ChoiceField(choices=Priority.choices, required=False, default=Priority.NORMAL)
     due_on = serializers.DateField(

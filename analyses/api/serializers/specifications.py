@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.models import Comparison, Product, Specification, SpecificationLine
 
 
@@ -42,10 +42,10 @@ class SpecificationLineInputSerializer(StrictSerializer):
     """One line: a method with limits, or with ``codex_oil_type`` to take the method
     plugin's Codex default limits for that oil type instead."""
 
-    method = serializers.CharField(help_text="Method plugin code, e.g. av, pv, iv, sv, ffa")
+    method = TextField(help_text="Method plugin code, e.g. av, pv, iv, sv, ffa")
     minimum = serializers.CharField(required=False, allow_blank=True, allow_null=True, help_text=LIMIT_HELP)
     maximum = serializers.CharField(required=False, allow_blank=True, allow_null=True, help_text=LIMIT_HELP)
-    codex_oil_type = serializers.CharField(
+    codex_oil_type = TextField(
         required=False, allow_blank=True,
         help_text="Instead of limits: the oil type whose Codex default limits the plugin carries (see /api/methods/)",
     )
@@ -57,7 +57,7 @@ class SpecificationLineInputSerializer(StrictSerializer):
 class SpecificationCreateSerializer(StrictSerializer):
     product = serializers.PrimaryKeyRelatedField(queryset=Product.objects.all())
     effective_from = serializers.DateField()
-    note = serializers.CharField(required=False, allow_blank=True, default="")
+    note = TextField(required=False, allow_blank=True, default="")
     lines = SpecificationLineInputSerializer(many=True, allow_empty=False)
 
 
@@ -67,7 +67,7 @@ class SpecificationLinesSerializer(StrictSerializer):
 
 class SpecificationReviseSerializer(StrictSerializer):
     effective_from = serializers.DateField()
-    note = serializers.CharField(required=False, allow_blank=True, default="")
+    note = TextField(required=False, allow_blank=True, default="")
     lines = SpecificationLineInputSerializer(
         many=True, allow_empty=False, required=False, help_text="Omit to copy the revised version's lines"
     )

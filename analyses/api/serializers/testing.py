@@ -5,8 +5,8 @@ from django.utils import timezone
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, username_field
-from analyses.api.serializers.states import TestStateField
-from analyses.models import OPEN_TEST_STATES, Priority, Test, TestState
+from analyses.api.serializers.states import TestStateField, VerdictField
+from analyses.models import OPEN_TEST_STATES, Priority, Test, TestState, Verdict
 
 
 class TestSerializer(serializers.ModelSerializer):
@@ -21,6 +21,7 @@ class TestSerializer(serializers.ModelSerializer):
     comparison = serializers.CharField(source="specification_line.comparison", read_only=True)
     release_critical = serializers.BooleanField(source="specification_line.release_critical", read_only=True)
     state = TestStateField(choices=TestState.choices, read_only=True)
+    verdict = VerdictField(choices=Verdict.choices, read_only=True, allow_null=True, help_text="null until a result is in")
     assignee = username_field("assignee")
     reviewed_by = username_field("reviewed_by")
     is_overdue = serializers.SerializerMethodField(help_text="Open and due before today")

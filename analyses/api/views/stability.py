@@ -60,7 +60,7 @@ class StudyEvaluateView(APIView):
     @extend_schema(
         request=None,
         responses={200: StudySerializer, **errors(403, 404)},
-        summary="Evaluate now: kinetics, ICH Q1E shelf life, Arrhenius; raises alerts",
+        summary="Evaluate now: kinetics, ICH Q1E shelf life and extrapolation branch, Arrhenius; raises alerts",
         description="The scheduler also evaluates every running study each hour and after each accepted pull result.",
     )
     def post(self, request: Request, pk: int) -> Response:

@@ -1,20 +1,21 @@
 """Verify the audit trail's SHA-256 chain; exit non-zero naming the first broken entry.
 
-It prints the chain's head (last sequence and hash). Record that line outside the
-database (a ticket, a signed log); ``--expect-head SEQUENCE:HASH`` later checks that the
-chain still holds that entry unchanged, which the database alone cannot prove if someone
-with database access removed entries and rewrote the head row too."""
+The chain is checked against every anchor in the anchor file (the heads that beat recorded
+outside the database, ``AUDIT_ANCHOR_DIR``), so entries removed from the end, or a rewrite
+that recomputed every later hash, are found without any argument. It prints the head;
+``--expect-head SEQUENCE:HASH`` also checks against a head recorded by hand."""
 from __future__ import annotations
 
 from django.core.management.base import BaseCommand, CommandError
 
-from analyses.audit import audit_chain_verify, parse_head
+from analyses.audit import parse_head
+from analyses.services.audit_anchors import audit_chain_verify_anchored
 
 
 class Command(BaseCommand):
     help = (
-        "Check every audit entry's hash and link, and the chain's head; report the first entry that was "
-        "changed or removed. Prints the head (SEQUENCE:HASH) to record outside the database."
+        "Check every audit entry's hash and link, the chain's head, and the anchors recorded outside the database; "
+        "report the first entry that was changed or removed. Prints the head (SEQUENCE:HASH)."
     )
 
     def add_arguments(self, parser):
@@ -30,11 +31,27 @@ class Command(BaseCommand):
                 expect_head = parse_head(options["expect_head"])
             except ValueError as exc:
                 raise CommandError(f"--expect-head: {exc}") from None
-        report = audit_chain_verify(expect_head)
+        result = audit_chain_verify_anchored(expect_head)
+        report = result.chain
         if not report.ok:
             where = f"entry {report.broken_sequence}" + (f" (id {report.broken_id})" if report.broken_id else "")
+            checked = (
+                f"the {report.checked} entries in the database link up among themselves"
+                if report.against_record else f"{report.checked} entries before it are intact"
+            )
+            raise CommandError(f"audit chain broken at {where}: {report.problem}; {checked}")
+        if result.anchor_problem:
             raise CommandError(
-                f"audit chain broken at {where}: {report.problem}; {report.checked} entries before it are intact"
+                f"audit chain not proven: {result.anchor_problem}; the {report.checked} entries link up, "
+                "but without an anchor a truncated or rewritten chain cannot be told from an intact one"
             )
         self.stdout.write(f"audit chain intact: {report.checked} entries verified")
         self.stdout.write(f"head: {report.head_sequence}:{report.head_hash}")
+        if result.latest is not None:
+            latest = result.latest
+            self.stdout.write(
+                f"anchored: entry {latest.sequence} at {latest.at.isoformat()} ({result.path}); "
+                f"{report.head_sequence - latest.sequence} entries after it not yet anchored"
+            )
+        else:
+            self.stdout.write(f"anchored: nothing yet ({result.path}); the chain is empty")

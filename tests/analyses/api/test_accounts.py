@@ -55,3 +55,15 @@ def test_me_lists_every_role_of_the_admin(clients):
     assert {"record_any_result", "close_investigation"} <= set(me["permissions"])
     # only QA approves specifications and releases or rejects lots (issue 3)
     assert not {"release_lot", "approve_specification"} & set(me["permissions"])
+
+
+def test_the_session_login_form_leads_to_a_page_that_exists(users):
+    """Without ?next= Django would send the user to /accounts/profile/, a 404 here."""
+    users["qa"].set_password("correct horse")
+    users["qa"].save()
+    client = APIClient()
+    assert client.get("/api/auth/login/").status_code == 200
+    response = client.post("/api/auth/login/", {"username": "qa", "password": "correct horse"})
+    assert response.status_code == 302
+    assert response["Location"] == "/api/"
+    assert client.get(response["Location"]).status_code == 200

@@ -31,6 +31,7 @@ def oos(lab, clients) -> dict:
     investigation = listed["results"][0]
     assert investigation["test"] == av_test.pk and investigation["method_code"] == "av"
     assert investigation["maximum"] == "0.6" and investigation["opened_by"] == "analyst2"
+    assert investigation["conclusion"] is None  # not "", which the conclusion enum does not allow
     return investigation
 
 

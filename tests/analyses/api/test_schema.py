@@ -70,3 +70,30 @@ def test_result_inputs_say_how_to_keep_the_digits_as_written(schema):
         if 'e.g. "1.30"' in component.get("properties", {}).get("inputs", {}).get("description", "")
     )
     assert described == ["BulkResultItemRequest", "ResultCorrectRequest", "ResultRecordRequest"]
+
+
+def test_the_answers_the_framework_gives_are_documented(schema):
+    """401 wherever a caller must authenticate, 404 wherever the path names an object and on
+    every paged list (DRF answers ?page=0 with 404): the drift the attack run found (issue 8)."""
+    for path, operations in schema["paths"].items():
+        for method, operation in operations.items():
+            responses = operation["responses"]
+            if {} not in operation.get("security", [{}]):
+                assert "401" in responses, (method, path)
+            if "{" in path:
+                assert "404" in responses, (method, path)
+            if any(p["name"] == "page" and p["in"] == "query" for p in operation.get("parameters", [])):
+                assert "404" in responses and "?page=0" in responses["404"]["description"], (method, path)
+    assert "404" in schema["paths"]["/api/methods/{code}/"]["get"]["responses"]
+    assert "401" not in schema["paths"]["/api/methods/"]["get"]["responses"]  # open to anyone
+    listing = schema["paths"]["/api/stability-studies/"]["get"]["responses"]
+    assert listing["404"]["content"]["application/json"]["schema"]["$ref"].endswith("/Error")
+
+
+def test_values_not_set_yet_are_null_in_the_schema_as_in_the_answers(schema):
+    components = schema["components"]["schemas"]
+    for component, field in (("Test", "verdict"), ("SampleTest", "verdict"), ("Investigation", "conclusion")):
+        described = components[component]["properties"][field]
+        assert described["nullable"] is True, component
+        enum = components[described["allOf"][0]["$ref"].rsplit("/", 1)[1]]["enum"]
+        assert "" not in enum, component

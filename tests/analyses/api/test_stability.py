@@ -86,6 +86,39 @@ def test_evaluate_shows_the_predicted_shelf_life_and_raises_alerts(clients, stud
     assert {a["rule"] for a in alerts["results"]} >= {"pull_out_of_limit"}  # 40 °C passes PV 10 at 3 months
 
 
+def test_evaluate_names_the_q1e_branch_and_why(clients, study_with_results):
+    """PV at 40 °C reaches 10.05 at 3 months, beyond the limit: significant change at the
+    accelerated condition, and no intermediate condition, so ICH Q1E allows no extrapolation
+    (branch room_temperature.intermediate_not_shown): the supported shelf life is X = 3 months."""
+    body = clients["qa"].post(f"/api/stability-studies/{study_with_results}/evaluate/").json()
+    assert body["storage_category"] == "room_temperature"  # from the 25 °C storage temperature
+    assert body["extrapolation_branch"] == "room_temperature.intermediate_not_shown"
+    extrapolation = body["evaluation"]["extrapolation"]
+    assert extrapolation["factor"] is None and "no intermediate condition was tested" in extrapolation["reason"]
+    assert extrapolation["accelerated"]["temperatures_c"] == [40] and extrapolation["accelerated"]["first_months"] == 3
+    assert body["evaluation"]["supported_shelf_life_months"] == 3
+    # the plot caps at the same branch limit
+    condition = StabilityStudy.objects.get(pk=study_with_results).conditions.get(temperature_c=25).pk
+    plot = clients["analyst"].get(f"/api/stability-studies/{study_with_results}/plot/", {"method": "pv", "condition": condition}).json()
+    assert plot["extrapolation_cap"] == 3
+
+
+def test_a_study_declares_its_category_and_attribute_amounts(clients, lot):
+    body = protocol(lot) | {"storage_category": "refrigerated", "attributes": [{"method_code": "pv", "maximum": 10, "significant_change": 2.5}]}
+    response = clients["manager"].post("/api/stability-studies/", body, format="json")
+    assert response.status_code == 201, response.json()
+    assert response.json()["storage_category"] == "refrigerated"  # stricter than 25 °C suggests: allowed
+    assert response.json()["attributes"][0]["significant_change"] == 2.5
+    assert response.json()["extrapolation_branch"] is None  # not evaluated yet
+
+
+@pytest.mark.parametrize("change", [{"storage_category": "ambient"}, {"storage_category": "room_temperature", "storage_temperature_c": 5}])
+def test_a_category_that_does_not_fit_is_a_400_naming_it(clients, lot, change):
+    response = clients["manager"].post("/api/stability-studies/", protocol(lot) | change, format="json")
+    assert response.status_code == 400
+    assert "storage_category" in response.json()["fields"]
+
+
 def test_the_plot_comes_as_data_png_and_svg(clients, study_with_results):
     condition = StabilityStudy.objects.get(pk=study_with_results).conditions.get(temperature_c=25).pk
     query = {"method": "pv", "condition": condition}
@@ -109,6 +142,10 @@ def test_plot_queries_are_checked(clients, study_with_results, query, field):
 def test_closing_needs_a_reason(clients, study_with_results):
     url = f"/api/stability-studies/{study_with_results}/close/"
     assert clients["qa"].post(url, {}, format="json").json()["fields"].keys() == {"reason"}
+    for not_text in (0, 1.5, True, ["why"]):  # a reason is text; DRF's CharField alone took 0 as "0"
+        refused = clients["qa"].post(url, {"reason": not_text}, format="json")
+        assert refused.status_code == 400 and refused.json()["fields"].keys() == {"reason"}
+    assert StabilityStudy.objects.get(pk=study_with_results).state == "running"
     closed = clients["qa"].post(url, {"reason": "claim confirmed"}, format="json")
     assert closed.status_code == 200 and closed.json()["state"] == "closed"
 

@@ -95,3 +95,15 @@ def test_the_review_queue_leaves_out_what_i_entered(lab, clients):
     assert ids(clients["analyst2"].get("/api/tests/review/")) == []
     assert ids(clients["analyst"].get("/api/tests/review/")) == [av.pk, pv.pk]
     assert ids(clients["qa"].get("/api/tests/review/")) == [av.pk, pv.pk]
+
+
+def test_a_test_without_a_verdict_shows_null_not_an_empty_string(lab, clients):
+    """The schema's verdict enum is pass or oos; a test with no result yet has neither."""
+    sample = lab.received()
+    av = sample.tests.get(method_code="av")
+    listed = clients["analyst"].get("/api/tests/", {"sample": sample.pk}).json()["results"]
+    assert [row["verdict"] for row in listed] == [None, None]
+    assert clients["analyst"].get(f"/api/tests/{av.pk}/").json()["verdict"] is None
+    assert {row["verdict"] for row in clients["analyst"].get(f"/api/samples/{sample.pk}/").json()["tests"]} == {None}
+    accepted = [test.pk for test in lab.accepted(label="L-200-B")]
+    assert {clients["analyst"].get(f"/api/tests/{pk}/").json()["verdict"] for pk in accepted} == {"pass"}

@@ -177,12 +177,15 @@ def test_q1e_shelf_life_at_storage_matches_scipy(evaluated_study):
     crossing = optimize.brentq(lambda x: upper_bound(x) - 10, 0, 100)
     shelf = at_25["shelf_life"]
     assert shelf["estimate_months"] == pytest.approx(crossing, rel=1e-6)
-    # ICH Q1E extrapolation cap: min(2 x 6, 6 + 12) months (references.md: memory)
-    assert shelf["extrapolation_cap_months"] == 12
-    assert shelf["capped"] and shelf["months"] == 12
+    # 35 °C is the intermediate condition (10 °C above storage) and PV passes 10 there at 6 months
+    # (k = 1.6 per month): significant change at intermediate, so ICH Q1E allows no extrapolation
+    # (Q1E 2.4.2.2; found in a summary of Appendix A): the cap is X = 6 months.
+    assert outcome.evaluation["extrapolation"]["branch"] == "room_temperature.intermediate_change"
+    assert shelf["extrapolation_cap_months"] == 6
+    assert shelf["capped"] and shelf["months"] == 6
     # the prediction is the crossing itself; what 6 months of data support so far is the cap
     assert outcome.evaluation["predicted_shelf_life_months"] == pytest.approx(crossing, rel=1e-6)
-    assert outcome.evaluation["supported_shelf_life_months"] == 12
+    assert outcome.evaluation["supported_shelf_life_months"] == 6
 
 
 def test_short_shelf_life_and_out_of_limit_pulls_raise_alerts_once(evaluated_study):
@@ -213,8 +216,9 @@ def test_a_missing_specification_line_fails_that_pull_only(users, lot):
 
 
 def test_a_young_study_whose_trend_clears_the_claim_raises_no_shelf_life_alert(users, lot):
-    """Three months of slow growth: ICH Q1E caps what the data support at 6 months, but the
-    predicted crossing lies beyond the 12-month claim, so no alert (the cap is not a prediction)."""
+    """Three months of slow growth at 25 °C only: with no accelerated condition the ICH Q1E
+    tree allows no extrapolation, so the data support 3 months, but the predicted crossing
+    lies beyond the 12-month claim, so no alert (the cap is not a prediction)."""
     study = stability_study_create(users["manager"], **protocol(
         lot, code="STAB-SLOW", conditions=[{"temperature_c": 25}], pull_points=[{"offset": m} for m in (0, 1, 2, 3)],
         attributes=[{"method_code": "pv", "maximum": 10}],
@@ -225,7 +229,8 @@ def test_a_young_study_whose_trend_clears_the_claim_raises_no_shelf_life_alert(u
         pull.save(update_fields=["sample"])
         TestFactory(sample=pull.sample, specification_line=line, method_code="pv", state=TestState.ACCEPTED, value=value)
     outcome = stability_study_evaluate(study)
-    assert outcome.evaluation["supported_shelf_life_months"] == 6  # min(2 x 3, 3 + 12), ICH Q1E (references.md: memory)
+    assert outcome.evaluation["extrapolation"]["branch"] == "room_temperature.accelerated_not_shown"
+    assert outcome.evaluation["supported_shelf_life_months"] == 3  # X = 3, no extrapolation (project rule)
     assert outcome.evaluation["predicted_shelf_life_months"] > 12
     assert not Alert.objects.filter(rule="shelf_life_short").exists()
 
@@ -233,6 +238,127 @@ def test_a_young_study_whose_trend_clears_the_claim_raises_no_shelf_life_alert(u
 def test_an_arrhenius_shelf_life_far_beyond_the_data_is_flagged_as_a_time_extrapolation(evaluated_study):
     _, outcome = evaluated_study
     arrhenius = outcome.evaluation["attributes"][0]["arrhenius"]
-    # (10 - 1.0) / 0.5 = 18 months from 6 months of data: beyond min(2 x 6, 6 + 12) = 12 (ICH Q1E, memory)
+    # (10 - 1.0) / 0.5 = 18 months from 6 months of long-term data, which the branch (significant
+    # change at the intermediate 35 °C) does not let reach beyond X = 6 months (ICH Q1E 2.4.2.2)
     assert arrhenius["shelf_life_months"] == pytest.approx((10 - PV0) / K25, rel=0.1)
+    assert (arrhenius["long_term_months"], arrhenius["allowed_months"]) == (6, 6)
     assert arrhenius["time_extrapolated"] is True
+
+
+# --- storage category and the ICH Q1E branch ---------------------------------------------
+@pytest.mark.parametrize(
+    "override, field",
+    [
+        ({"storage_category": "ambient"}, "storage_category"),
+        # room temperature is more permissive than 5 °C storage allows (refrigerated)
+        ({"storage_category": "room_temperature", "storage_temperature_c": 5}, "storage_category"),
+        ({"attributes": [{"method_code": "pv", "maximum": 10, "significant_change": 0}]}, "attributes.0.significant_change"),
+        ({"attributes": [{"method_code": "pv", "maximum": 10, "significant_change": "a lot"}]}, "attributes.0.significant_change"),
+    ],
+)
+def test_bad_categories_and_amounts_name_the_field(users, lot, override, field):
+    with pytest.raises(InvalidInput) as caught:
+        stability_study_create(users["manager"], **protocol(lot, **override))
+    assert field in caught.value.fields
+    assert not StabilityStudy.objects.exists()
+
+
+@pytest.mark.parametrize(
+    "storage, declared, stored",
+    [(25, None, "room_temperature"), (5, None, "refrigerated"), (-20, None, "frozen"), (15, "refrigerated", "refrigerated")],
+)
+def test_the_storage_category_is_declared_or_taken_from_the_temperature(users, lot, storage, declared, stored):
+    study = stability_study_create(
+        users["manager"], **protocol(lot, storage_temperature_c=storage, storage_category=declared,
+                                     attributes=[{"method_code": "pv", "maximum": 10, "significant_change": 3}]),
+    )
+    assert study.storage_category == stored
+    assert study.attributes.get().significant_change == 3
+
+
+def study_with_rates(users, lot, *, code, storage_c, category, rates, months, amount, long_term_months=None):
+    """A one-lot PV study: results 1.0 + rate · t (± 0.05) under each condition {°C: rate per month};
+    the long-term condition tested only up to ``long_term_months`` if given (invented data)."""
+    study = stability_study_create(users["manager"], **protocol(
+        lot, code=code, storage_temperature_c=storage_c, storage_category=category, claimed_shelf_life_months=6,
+        conditions=[{"temperature_c": t} for t in rates], pull_points=[{"offset": m} for m in months],
+        attributes=[{"method_code": "pv", "maximum": 10, "significant_change": amount}],
+    ))
+    line = SpecificationLineFactory(method_code="pv", maximum="1000")
+    for pull in PullPoint.objects.filter(study=study).select_related("condition"):
+        at_storage = pull.condition.temperature_c == storage_c
+        if at_storage and long_term_months is not None and pull.elapsed_months > long_term_months:
+            continue
+        value = 1.0 + rates[pull.condition.temperature_c] * pull.elapsed_months + (0.05 if pull.offset % 2 else -0.05)
+        pull.sample = SampleFactory(lot=lot, kind=SampleKind.STABILITY_PULL, label=f"{code}-{pull.pk}")
+        pull.save(update_fields=["sample"])
+        TestFactory(sample=pull.sample, specification_line=line, method_code="pv", state=TestState.ACCEPTED, value=value)
+    return stability_study_evaluate(study).evaluation
+
+
+def test_branch_room_temperature_accelerated_change_no_intermediate_change_caps_supported_at_1_5x(users, lot):
+    """PV at 40 °C rises 1.2 per month: more than the study's 3 meq/kg by 3 months. At 30 °C
+    (0.1 per month) no change in 6 months. ICH Q1E 2.4.2.1: up to 1.5X, at most X + 6 (1.5X: memory)."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-RT-ACC", storage_c=25, category="room_temperature",
+        rates={25: 0.05, 30: 0.1, 40: 1.2}, months=[0, 1, 2, 3, 6], amount=3,
+    )
+    extrapolation = evaluation["extrapolation"]
+    assert extrapolation["branch"] == "room_temperature.accelerated_change_no_intermediate_change"
+    assert extrapolation["accelerated"]["found"] and extrapolation["accelerated"]["first_months"] == 3
+    assert extrapolation["intermediate"]["temperatures_c"] == [30] and not extrapolation["intermediate"]["found"]
+    pv = evaluation["attributes"][0]
+    assert (pv["long_term_months"], pv["extrapolation_limit_months"]) == (6, 9)  # min(1.5 x 6, 6 + 6)
+    # PV 1.0 + 0.05 t reaches 10 far beyond 9 months: the supported shelf life is the cap, not 12 (2X)
+    assert evaluation["predicted_shelf_life_months"] > 12
+    assert evaluation["supported_shelf_life_months"] == 9
+    at_40 = next(c for c in pv["conditions"] if c["temperature_c"] == 40)
+    assert at_40["role"] == "accelerated" and at_40["significant_change"]["found"]
+
+
+def test_branch_room_temperature_no_accelerated_change_caps_supported_at_2x(users, lot):
+    """The same oil with a study amount of 10: no significant change at 40 °C in 6 months
+    (PV 8.2 < 10): ICH Q1E 2.4.1, up to 2X, at most X + 12."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-RT-OK", storage_c=25, category="room_temperature",
+        rates={25: 0.05, 40: 1.2}, months=[0, 1, 2, 3, 6], amount=10,
+    )
+    assert evaluation["extrapolation"]["branch"] == "room_temperature.no_accelerated_change"
+    assert evaluation["supported_shelf_life_months"] == 12  # min(2 x 6, 6 + 12)
+
+
+def test_branch_refrigerated_no_accelerated_change_caps_supported_at_1_5x(users, lot):
+    """Refrigerated at 5 °C with accelerated 25 °C (Q1A(R2), found) and no significant change
+    there: ICH Q1E 2.5.1.1, up to 1.5X, at most X + 6 (1.5X: memory), never 2X."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-FRIDGE", storage_c=5, category="refrigerated",
+        rates={5: 0.02, 25: 0.2}, months=[0, 1, 2, 3, 6], amount=3,
+    )
+    assert evaluation["storage_category"] == "refrigerated"
+    assert evaluation["extrapolation"]["branch"] == "refrigerated.no_accelerated_change"
+    assert evaluation["supported_shelf_life_months"] == 9
+
+
+def test_branch_frozen_supports_no_extrapolation(users, lot):
+    evaluation = study_with_rates(
+        users, lot, code="STAB-FROZEN", storage_c=-20, category="frozen",
+        rates={-20: 0.01, 5: 0.05}, months=[0, 1, 2, 3, 6], amount=3,
+    )
+    assert evaluation["extrapolation"]["branch"] == "frozen"
+    assert evaluation["supported_shelf_life_months"] == 6  # X itself (ICH Q1E 2.5.2)
+
+
+def test_arrhenius_takes_x_from_the_long_term_condition_not_the_last_accelerated_pull(users, lot):
+    """25 °C tested to 3 months, 40 and 50 °C to 6: X is 3, so the Arrhenius shelf life is
+    judged against the branch's limit on 3 months, not on 6."""
+    evaluation = study_with_rates(
+        users, lot, code="STAB-ARR-X", storage_c=25, category="room_temperature",
+        rates={25: 0.3, 40: 0.9, 50: 2.0}, months=[0, 1, 2, 3, 6], amount=20, long_term_months=3,
+    )
+    pv = evaluation["attributes"][0]
+    # PV at 50 °C passes 10 at 6 months: a stress condition, not accelerated; 40 °C shows no change
+    assert evaluation["extrapolation"]["branch"] == "room_temperature.no_accelerated_change"
+    assert pv["arrhenius"]["long_term_months"] == 3
+    assert pv["arrhenius"]["allowed_months"] == 6  # min(2 x 3, 3 + 12); it was 12 with X from the 6-month pulls
+    assert pv["arrhenius"]["shelf_life_months"] > 6 and pv["arrhenius"]["time_extrapolated"] is True
+    assert pv["long_term_months"] == 3 and pv["supported_shelf_life_months"] <= 6

@@ -1,0 +1,1 @@
+from tests.analyses.lab_setup import *  # noqa: F403  (shared fixtures)
