@@ -30,6 +30,8 @@ preload_app = True
 accesslog = None  # the application logs each request as a JSON line (labcore.metrics middleware)
 errorlog = "-"
 loglevel = os.environ.get("GUNICORN_LOG_LEVEL", "info")
+# gunicorn 24+ opens a control socket in the home directory; the service needs none
+control_socket_disable = True
 forwarded_allow_ips = os.environ.get("FORWARDED_ALLOW_IPS", "127.0.0.1")
 
 

@@ -7,8 +7,15 @@ processes of a host: each process writes its own file there and ``/metrics`` add
 """
 from __future__ import annotations
 
+import os
+from pathlib import Path
+
 from django.db import transaction
 from prometheus_client import Counter, Histogram
+
+if os.environ.get("PROMETHEUS_MULTIPROC_DIR"):
+    # each process writes its file there from its first metric on; a missing directory would stop it
+    Path(os.environ["PROMETHEUS_MULTIPROC_DIR"]).mkdir(parents=True, exist_ok=True)
 
 RESULTS_ENTERED = Counter("oleotrace_results_entered", "Results (replicates) entered, corrections included")
 OOS_OPENED = Counter("oleotrace_oos_investigations_opened", "OOS investigations opened on an accepted result")

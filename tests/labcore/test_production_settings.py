@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 import os
-import secrets
 import subprocess
 import sys
 from pathlib import Path
@@ -11,16 +10,18 @@ ROOT = Path(__file__).resolve().parents[2]
 
 
 def production_env(tmp_path, **extra: str) -> dict[str, str]:
-    """The variables the README's "Run in production" section lists, and nothing else of ours."""
+    """The variables of deploy/oleotrace.env.example (the README's production list), with the
+    database and directories moved into ``tmp_path``."""
+    example = (ROOT / "deploy" / "oleotrace.env.example").read_text()
+    variables = dict(line.split("=", 1) for line in example.splitlines() if line and not line.startswith("#"))
     env = {k: v for k, v in os.environ.items() if k not in {"DEBUG", "DJANGO_SECRET_KEY", "ALLOWED_HOSTS"}}
+    env.update(variables)
     env.update(
-        OLEOTRACE_PRODUCTION="1",
-        DJANGO_SECRET_KEY=secrets.token_urlsafe(50),
-        ALLOWED_HOSTS="lab.example.com",
-        CSRF_TRUSTED_ORIGINS="https://lab.example.com",
-        SECURE_HSTS_PRELOAD="1",
         DATABASE_URL=f"sqlite:///{tmp_path / 'deploy.sqlite3'}",
         OLEOTRACE_VAR_DIR=str(tmp_path / "var"),
+        STATIC_ROOT=str(tmp_path / "static"),
+        AUDIT_ANCHOR_DIR=str(tmp_path / "anchors"),
+        PROMETHEUS_MULTIPROC_DIR=str(tmp_path / "metrics"),
     )
     env.update(extra)
     return env
