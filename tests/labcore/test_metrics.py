@@ -124,7 +124,7 @@ def test_queue_depth_where_the_broker_is_redis(redis_url, settings, monkeypatch)
     from labcore.metrics_http import queue_depths
 
     settings.REDIS_URL = redis_url
-    monkeypatch.setattr(app.conf, "task_default_queue", "oleotrace-test-depth")
+    monkeypatch.setitem(app.conf, "task_default_queue", "oleotrace-test-depth")
     client = redis.Redis.from_url(redis_url)
     client.delete("oleotrace-test-depth")
     client.lpush("oleotrace-test-depth", "a", "b")
@@ -139,3 +139,16 @@ def test_no_queue_depth_where_the_broker_cannot_tell(settings):
 
     settings.REDIS_URL = ""
     assert queue_depths() is None
+
+
+@pytest.mark.django_db
+def test_each_request_writes_one_access_line_with_route_status_and_user_id(client, users, caplog):
+    import logging
+
+    client.force_login(users["manager"])  # a session: this test does not depend on the token scheme
+    with caplog.at_level(logging.INFO, logger="labcore.access"):
+        response = client.get("/api/samples/")
+        client.get("/healthz")  # probes are measured, not logged
+    [line] = [r for r in caplog.records if r.name == "labcore.access"]
+    assert (line.route, line.status, line.user_id) == ("api/samples/", 200, users["manager"].pk)
+    assert line.request_id == response["X-Request-ID"]
