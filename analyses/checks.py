@@ -3,8 +3,11 @@ from django.core.checks import Tags, Warning, register
 
 from plugins.registry import method_registry
 
+# Its own tag too, so that calc and methods run this check alone (they load no API).
+PLUGINS_TAG = "plugins"
 
-@register(Tags.compatibility)
+
+@register(Tags.compatibility, PLUGINS_TAG)
 def rejected_method_plugins(app_configs, **kwargs):
     return [
         Warning(

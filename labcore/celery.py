@@ -8,3 +8,7 @@ os.environ.setdefault("DJANGO_SETTINGS_MODULE", "labcore.settings")
 app = Celery("labcore")
 app.config_from_object("django.conf:settings", namespace="CELERY")
 app.autodiscover_tasks()
+
+from labcore.task_signals import WorkerHeartbeat  # noqa: E402  (also connects task metrics and request ids)
+
+app.steps["consumer"].add(WorkerHeartbeat)

@@ -4,6 +4,8 @@ DATABASE_URL   default: SQLite file in var/ (git-ignored); PostgreSQL when set.
 REDIS_URL      Celery broker and result backend; default: a filesystem broker in var/ (no server).
 DJANGO_SECRET_KEY  default: a key generated once into var/secret_key, never committed.
 DEBUG          off unless set to 1/true/yes.
+OLEOTRACE_PRODUCTION  1 in the production processes (gunicorn sets it): DJANGO_SECRET_KEY is then
+               required, and HTTPS settings default on; see "Production" below and the README.
 BROKER_VISIBILITY_TIMEOUT  seconds before Redis redelivers a task whose worker died (default 300).
 AUDIT_ANCHOR_DIR   where the audit chain's head is anchored (default var/audit-anchors/).
 CACHE_URL      the cache that login lock-outs and API throttles count in; default: this process's
@@ -40,9 +42,19 @@ def _local_secret_key() -> str:
     return key_file.read_text().strip()
 
 
-SECRET_KEY = os.environ.get("DJANGO_SECRET_KEY") or _local_secret_key()
+def _env_list(name: str, default: str = "") -> list[str]:
+    return [item.strip() for item in os.environ.get(name, default).split(",") if item.strip()]
+
+
 DEBUG = _env_flag("DEBUG")
-ALLOWED_HOSTS = [h for h in os.environ.get("ALLOWED_HOSTS", "localhost,127.0.0.1,[::1],testserver").split(",") if h]
+PRODUCTION = _env_flag("OLEOTRACE_PRODUCTION")
+if PRODUCTION and DEBUG:
+    raise ImproperlyConfigured("DEBUG must be off when OLEOTRACE_PRODUCTION=1")
+if PRODUCTION and not os.environ.get("DJANGO_SECRET_KEY"):
+    # a key generated on one host differs on the next and is lost with the disk
+    raise ImproperlyConfigured("DJANGO_SECRET_KEY is required when DEBUG is off in production (OLEOTRACE_PRODUCTION=1)")
+SECRET_KEY = os.environ.get("DJANGO_SECRET_KEY") or _local_secret_key()
+ALLOWED_HOSTS = _env_list("ALLOWED_HOSTS", "" if PRODUCTION else "localhost,127.0.0.1,[::1],testserver")
 
 INSTALLED_APPS = [
     "django.contrib.admin",
@@ -61,7 +73,9 @@ INSTALLED_APPS = [
 
 MIDDLEWARE = [
     "labcore.request_id.RequestIdMiddleware",  # first: every layer below logs with the request id
+    "labcore.metrics_http.RequestMetricsMiddleware",  # times the whole request, under its request id
     "django.middleware.security.SecurityMiddleware",
+    "whitenoise.middleware.WhiteNoiseMiddleware",  # static files (API docs) without a separate web server
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
@@ -102,7 +116,32 @@ TIME_ZONE = "UTC"
 USE_I18N = True
 USE_TZ = True
 STATIC_URL = "static/"
-STATIC_ROOT = VAR_DIR / "static"
+STATIC_ROOT = Path(os.environ.get("STATIC_ROOT", VAR_DIR / "static"))
+STATIC_ROOT.mkdir(parents=True, exist_ok=True)  # WhiteNoise warns at each start if it is missing
+STORAGES = {
+    "default": {"BACKEND": "django.core.files.storage.FileSystemStorage"},
+    # hashed, compressed copies from `collectstatic`, cached for a year by browsers
+    "staticfiles": {
+        "BACKEND": "whitenoise.storage.CompressedManifestStaticFilesStorage" if PRODUCTION
+        else "django.contrib.staticfiles.storage.StaticFilesStorage",
+    },
+}
+# Without collectstatic (the quick start, tests) WhiteNoise serves from the apps' static folders.
+WHITENOISE_USE_FINDERS = not PRODUCTION
+
+# Production: behind a proxy that terminates TLS. Each setting from the environment; in
+# production (OLEOTRACE_PRODUCTION=1) the safe value is the default.
+CSRF_TRUSTED_ORIGINS = _env_list("CSRF_TRUSTED_ORIGINS")  # e.g. https://lab.example.com
+if _env_flag("TRUST_X_FORWARDED_PROTO", PRODUCTION):
+    # only behind a proxy that sets this header itself, overwriting what the client sent
+    SECURE_PROXY_SSL_HEADER = ("HTTP_X_FORWARDED_PROTO", "https")
+SECURE_SSL_REDIRECT = _env_flag("SECURE_SSL_REDIRECT", PRODUCTION)
+# probes and the metrics scraper talk plain HTTP inside the network
+SECURE_REDIRECT_EXEMPT = [r"^healthz$", r"^readyz$", r"^metrics$"]
+SESSION_COOKIE_SECURE = CSRF_COOKIE_SECURE = _env_flag("SECURE_COOKIES", PRODUCTION)
+SECURE_HSTS_SECONDS = int(os.environ.get("SECURE_HSTS_SECONDS", 31_536_000 if PRODUCTION else 0))
+SECURE_HSTS_INCLUDE_SUBDOMAINS = _env_flag("SECURE_HSTS_INCLUDE_SUBDOMAINS", PRODUCTION)
+SECURE_HSTS_PRELOAD = _env_flag("SECURE_HSTS_PRELOAD")
 
 REST_FRAMEWORK = {
     "DEFAULT_AUTHENTICATION_CLASSES": [
@@ -277,3 +316,18 @@ LOGGING = {
 
 # After a session login (/api/auth/login/) without ?next=: the API root, not Django's /accounts/profile/.
 LOGIN_REDIRECT_URL = "api-root"
+
+# Observability (README, "Run in production"). /metrics answers only when enabled, and only to
+# "Authorization: Bearer <METRICS_TOKEN>" when a token is set; /readyz calls a worker whose
+# heartbeat is older than WORKER_HEARTBEAT_STALE_SECONDS failed.
+METRICS_ENABLED = _env_flag("METRICS_ENABLED")
+METRICS_TOKEN = os.environ.get("METRICS_TOKEN", "")
+WORKER_HEARTBEAT_STALE_SECONDS = float(os.environ.get("WORKER_HEARTBEAT_STALE_SECONDS", 60))
+
+# Logs as JSON lines (labcore/log_format.py) unless LOG_JSON=0, which keeps LOG_FORMAT above; the
+# access log is one line per request with route, status, time and user id (labcore/metrics_http.py).
+LOGGING["formatters"] = {**LOGGING.get("formatters", {}), "json": {"()": "labcore.log_format.JsonLinesFormatter"}}
+if _env_flag("LOG_JSON", True):
+    for _handler in LOGGING["handlers"].values():
+        if _handler.get("class") == "logging.StreamHandler":
+            _handler["formatter"] = "json"

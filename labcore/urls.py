@@ -2,9 +2,13 @@ from django.contrib import admin
 from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularRedocView, SpectacularSwaggerView
 
+from labcore import health, metrics_http
 from labcore.api_root import api_root
 
 urlpatterns = [
+    path("healthz", health.healthz, name="healthz"),
+    path("readyz", health.readyz, name="readyz"),
+    path("metrics", metrics_http.metrics, name="metrics"),
     path("admin/", admin.site.urls),
     path("api/", api_root, name="api-root"),
     path("api/", include("analyses.api.urls")),

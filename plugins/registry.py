@@ -12,7 +12,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from importlib.metadata import EntryPoint, entry_points
 
-import pint
+from plugins.pint_import import pint
 
 from plugins.contract import (
     ENTRY_POINT_GROUP,

@@ -12,7 +12,7 @@ from functools import lru_cache
 from numbers import Real
 from typing import Any
 
-import pint
+from plugins.pint_import import pint
 
 MAX_TEXT_LENGTH = 64
 

@@ -2,32 +2,28 @@
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import pandas as pd
 from django.db.models import QuerySet
 
-from analyses.charts.stability_plot import stability_plot_data
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import PullPoint, StabilityStudy, StudyAttribute, Test, TestState
-from analyses.stability.extrapolation import (
-    ConditionRole,
-    ExtrapolationBranch,
-    SignificantChange,
-    change_across,
-    condition_roles,
-    extrapolation_branch,
-    initial_values,
-    significant_change,
-)
-from analyses.stability.shelf_life import shelf_life_estimate
 from plugins.registry import get_registry
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+    from analyses.stability.extrapolation import ConditionRole, ExtrapolationBranch, SignificantChange
+
+# pandas, numpy and the statistics are imported inside the functions: the URLconf imports this module.
 
 RESULT_COLUMNS = ["test_id", "method_code", "value", "condition_id", "temperature_c", "light", "lot", "months", "pull_id"]
 
 
 def study_results(study: StabilityStudy) -> pd.DataFrame:
     """Accepted results of the study's pulls, one row per test."""
+    import pandas as pd
+
     rows = Test.objects.filter(sample__pull_point__study=study, state=TestState.ACCEPTED, value__isnull=False).values_list(
         "id", "method_code", "value", "sample__pull_point__condition_id", "sample__pull_point__condition__temperature_c",
         "sample__pull_point__condition__light", "sample__pull_point__lot__code", "sample__pull_point__elapsed_months",
@@ -69,6 +65,8 @@ def attribute_changes(
 ) -> dict[int, SignificantChange]:
     """Significant change of one attribute under each accelerated or intermediate condition
     it was tested at; ``rows`` are the attribute's results under every condition."""
+    from analyses.stability.extrapolation import initial_values, significant_change
+
     if not len(rows):
         return {}
     initial = initial_values(rows["months"], rows["value"], rows["lot"].tolist())
@@ -85,6 +83,8 @@ def attribute_changes(
 
 def study_extrapolation(study: StabilityStudy, results: pd.DataFrame | None = None) -> StudyExtrapolation:
     """Which ICH Q1E branch the study's data put it on (``extrapolation.py``)."""
+    from analyses.stability.extrapolation import change_across, condition_roles, extrapolation_branch
+
     results = study_results(study) if results is None else results
     conditions = list(study.conditions.all())
     roles = condition_roles(study.storage_temperature_c, [(c.pk, c.temperature_c, c.light) for c in conditions])
@@ -122,6 +122,9 @@ def pull_point_list(study_id: int) -> QuerySet[PullPoint]:
 
 def study_plot(study_id: int, method_code: str, condition_id: int) -> dict[str, Any]:
     """Data, fitted line, one-sided bound, limit and shelf life of one attribute under one condition."""
+    from analyses.charts.stability_plot import stability_plot_data
+    from analyses.stability.shelf_life import shelf_life_estimate
+
     study = study_get(study_id)
     attribute = study.attributes.filter(method_code=method_code).first()
     if attribute is None:

@@ -5,14 +5,13 @@ from typing import Any
 
 from django.conf import settings
 
-from analyses.charts.control_chart import ewma_chart_data, shewhart_chart_data
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import ControlBaseline, SeriesKind
 from analyses.selectors.trend_series import trend_series_frame
-from analyses.trends.ewma import ewma_chart
-from analyses.trends.run_rules import nelson_evaluate
-from analyses.trends.westgard import MINIMUM_BASELINE_POINTS, baseline_establish, westgard_evaluate
 from plugins.registry import get_registry
+
+# The charts and rules (numpy, scipy, matplotlib) are imported inside series_chart: the
+# URLconf imports this module.
 
 CHART_KINDS = ("shewhart", "ewma")
 
@@ -39,6 +38,11 @@ def series_overview() -> list[dict[str, Any]]:
 def series_chart(series_key: str, chart: str = "shewhart") -> dict[str, Any]:
     """Chart data of a series: Shewhart (Westgard rules for QC series, Nelson rules for
     production) or EWMA; the baseline is QA's, else its first 20 results."""
+    from analyses.charts.control_chart import ewma_chart_data, shewhart_chart_data
+    from analyses.trends.ewma import ewma_chart
+    from analyses.trends.run_rules import nelson_evaluate
+    from analyses.trends.westgard import MINIMUM_BASELINE_POINTS, baseline_establish, westgard_evaluate
+
     if chart not in CHART_KINDS:
         raise InvalidInput.for_field("chart", f"must be one of {', '.join(CHART_KINDS)}")
     frame = trend_series_frame([series_key])

@@ -9,12 +9,14 @@ on the same day form one run, and alerts comparing them carry the key "qc-runs:<
 from __future__ import annotations
 
 from collections.abc import Iterable
-
-import pandas as pd
+from typing import TYPE_CHECKING
 
 from django.db.models import Q
 
 from analyses.models import SampleKind, SeriesKind, Test, TestState
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 QC_RUNS_PREFIX = "qc-runs"
 SERIES_COLUMNS = [
@@ -51,6 +53,8 @@ def trend_series_frame(series_keys: Iterable[str] | None = None, qc_methods: Ite
     ``qc_methods``, or all), one row per test, ordered by series and receipt. A QC check's
     run is its day of receipt: every control material of a method checked that day is in
     the same run, which the Westgard R-4s, 2-2s and 2 of 3 2s rules compare within."""
+    import pandas as pd  # here, not at the top: the URLconf imports this module
+
     rows = Test.objects.filter(
         state=TestState.ACCEPTED,
         value__isnull=False,

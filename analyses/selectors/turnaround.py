@@ -4,8 +4,6 @@ from __future__ import annotations
 import datetime as dt
 from typing import Any
 
-import pandas as pd
-
 from analyses.models import Test, TestState
 
 
@@ -22,6 +20,8 @@ def turnaround_by_method(
     rows = list(accepted.values_list("method_code", "sample__received_at", "reviewed_at"))
     if not rows:
         return []
+    import pandas as pd  # here, not at the top: the URLconf imports this module
+
     frame = pd.DataFrame(rows, columns=["method", "received_at", "accepted_at"])
     frame["hours"] = (
         pd.to_datetime(frame["accepted_at"], utc=True) - pd.to_datetime(frame["received_at"], utc=True)

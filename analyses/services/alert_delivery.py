@@ -25,6 +25,7 @@ from analyses.models import Alert, AuditAction
 from analyses.services.access import fetch
 from analyses.services.alerts import alert_payload
 from analyses.services.system import scheduler_actor
+from labcore.metrics import ALERT_DELIVERIES, count_on_commit
 
 CLAIM = dt.timedelta(minutes=5)
 FIRST_RETRY = dt.timedelta(minutes=1)
@@ -113,6 +114,10 @@ def alert_notify(alert_id: int) -> DeliveryOutcome:
         alert.notify_after = timezone.now() + retry_delay(alert.webhook_attempts or 1) if owed else None
         alert.save(update_fields=["emailed_at", "webhook_attempts", "webhook_last_error", "webhook_delivered_at", "notify_after"])
         audit_append(scheduler_actor(), AuditAction.CHANGE, alert, changes, reason="; ".join(errors), lot_ref=alert.lot_id)
+        if "emailed_at" in changes or any(e.startswith("e-mail") for e in errors):
+            count_on_commit(ALERT_DELIVERIES, channel="email", outcome="delivered" if emailed else "failed")
+        if "webhook_attempts" in changes:
+            count_on_commit(ALERT_DELIVERIES, channel="webhook", outcome="delivered" if delivered else "failed")
     return DeliveryOutcome(alert.pk, emailed, delivered, owed, tuple(errors))
 
 

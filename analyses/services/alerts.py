@@ -15,6 +15,7 @@ from analyses.models import Alert, AlertSeverity, AlertState, AuditAction
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.background import enqueue_on_commit
 from analyses.services.system import scheduler_actor
+from labcore.metrics import ALERTS_RAISED, count_on_commit
 
 logger = logging.getLogger(__name__)
 
@@ -65,6 +66,7 @@ def alerts_raise(drafts: Sequence[AlertDraft], actor: Actor = None) -> list[Aler
             if made:
                 audit_append(actor, AuditAction.CREATE, alert, created(alert, ALERT_FIELDS), lot_ref=alert.lot_id)
                 enqueue_on_commit(NOTIFY_TASK, alert.pk)
+                count_on_commit(ALERTS_RAISED, source=alert.source)
                 raised.append(alert)
     return raised
 

@@ -45,6 +45,7 @@ from analyses.services.access import (
 from analyses.services.review_warnings import line_inputs, test_review_warnings
 from analyses.services.transitions import record_test_move, sample_require_workable
 from analyses.services.verdicts import line_verdict
+from labcore.metrics import RESULTS_ENTERED, count_on_commit
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult, exact_context, float_as_decimal
 from plugins.registry import UnknownMethod, get_registry
 
@@ -233,6 +234,7 @@ def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Res
         if twin is None:
             raise Conflict(f"test {test.pk}: replicate {result.replicate} was entered at the same time by someone else") from None
         return _replay(twin, test, result.inputs, key, supersedes=result.supersedes_id, reason=result.correction_reason)
+    count_on_commit(RESULTS_ENTERED)
     return result
 
 

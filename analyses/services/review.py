@@ -16,6 +16,7 @@ from analyses.services.access import Actor, actor_name, require_permission, requ
 from analyses.services.follow_up import test_accepted_follow_up
 from analyses.services.results import AGGREGATE_FIELDS, lock_test_row, set_test_aggregate
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
+from labcore.metrics import OOS_OPENED, count_on_commit
 
 INVESTIGATION_FIELDS = ("lot", "test", "state")
 
@@ -63,6 +64,7 @@ def test_accept(actor: Actor, test: Test | int, *, note: str = "") -> Test:
                 reason=f"{test.method_code} {test.reported} {test.unit} out of specification",
                 lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
             )
+            count_on_commit(OOS_OPENED)
         sample_sync(actor, test.sample, reason=f"test {test.pk} accepted")
         test_accepted_follow_up(test)
     return test

@@ -41,7 +41,6 @@ from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.stability_evaluation import study_evaluation
 from analyses.services.system import scheduler_actor
-from analyses.stability.extrapolation import category_fits, storage_category_for
 from plugins.registry import get_registry
 
 logger = logging.getLogger(__name__)
@@ -128,6 +127,8 @@ def _clean_pulls(raw: Any) -> list[tuple[int, str]]:
 def _clean_category(raw: Any, storage_c: float) -> str:
     """The declared ICH Q1E storage category, or the one of the storage temperature; a
     declared one may be stricter than the temperature's, never more permissive."""
+    from analyses.stability.extrapolation import category_fits, storage_category_for  # numpy: not at start-up
+
     if raw is None:
         return storage_category_for(storage_c)
     if raw not in StorageCategory.values:

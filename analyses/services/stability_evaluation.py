@@ -10,17 +10,21 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from analyses.errors import InvalidInput
 from analyses.models import AlertSource, StabilityStudy
 from analyses.selectors.stability import study_extrapolation, study_results
 from analyses.services.alerts import AlertDraft
-from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
-from analyses.stability.extrapolation import ExtrapolationBranch
-from analyses.stability.kinetics import kinetics_fit
-from analyses.stability.shelf_life import shelf_life_estimate
 from plugins.contract import float_as_decimal
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+    from analyses.stability.extrapolation import ExtrapolationBranch
+
+# The fits (numpy, scipy, statsmodels behind analyses.stability) are imported inside the
+# functions: the URLconf imports this module through the stability services.
 
 
 def _beyond(value: float, attribute) -> bool:
@@ -34,6 +38,9 @@ def _beyond(value: float, attribute) -> bool:
 def condition_evaluation(rows: pd.DataFrame, limit: float, side: str, branch: ExtrapolationBranch) -> dict[str, Any]:
     """Kinetics and ICH Q1E shelf life of one attribute under one condition, the shelf life
     capped at what the study's Appendix A branch allows beyond this condition's data."""
+    from analyses.stability.kinetics import kinetics_fit
+    from analyses.stability.shelf_life import shelf_life_estimate
+
     out: dict[str, Any] = {"n": len(rows), "last_months": float(rows["months"].max())}
     try:
         kinetics = kinetics_fit(rows["months"], rows["value"])
@@ -77,6 +84,8 @@ def arrhenius_evaluation(
     Its shelf life is checked against what ``branch`` allows beyond X, the period covered
     by the long-term condition's data (not the last pull at any condition: accelerated
     pulls say nothing about how long the oil has been watched at its storage temperature)."""
+    from analyses.stability.arrhenius import arrhenius_fit, arrhenius_shelf_life
+
     sign = 1.0 if side == "upper" else -1.0
     points = [
         (c["temperature_c"], sign * c["kinetics"]["zero_order"]["slope"], c["kinetics"]["zero_order"]["initial_value"])

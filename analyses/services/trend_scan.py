@@ -10,8 +10,8 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
-import pandas as pd
 from django.conf import settings
 from django.db import transaction
 from django.utils import timezone
@@ -23,11 +23,14 @@ from analyses.selectors.trend_series import qc_runs_key, trend_series_frame
 from analyses.services.access import Actor, require_permission
 from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.system import scheduler_actor
-from analyses.trends.across_materials import across_materials_scan
 from analyses.services.uniqueness import insert_or_fetch
 from analyses.trends.rules import RULES
-from analyses.trends.scan import series_scan
-from analyses.trends.westgard import MINIMUM_BASELINE_POINTS
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+# The statistics (pandas, numpy, scipy, statsmodels behind analyses.trends) are imported
+# inside the functions, so that loading the URLconf and every management command stays fast.
 
 FAMILIES_BY_KIND: dict[str, tuple[str, ...]] = {
     SeriesKind.QC_CHECK: ("westgard",),
@@ -84,6 +87,8 @@ def control_baseline_set(actor: Actor, *, series_key: str, mean: float, sd: floa
 def trend_scan(series_keys: Iterable[str] | None = None) -> ScanSummary:
     """Scan the given series (default: all) and raise one alert per new episode. A QC
     series brings in every QC series of its method, whose runs it is compared within."""
+    from analyses.trends.scan import series_scan
+
     keys = None if series_keys is None else [str(key) for key in series_keys]
     frame = trend_series_frame(keys, qc_methods=_qc_methods(keys or []))
     summary = ScanSummary(results_scanned=len(frame), series_scanned=int(frame["series_id"].nunique()))
@@ -143,6 +148,10 @@ def _parse_key(series_key: str) -> tuple[str, str]:
 
 def _baselines(frame: pd.DataFrame, summary: ScanSummary) -> pd.DataFrame:
     """Mean and SD per series; establishes and stores missing ones that have enough results."""
+    import pandas as pd
+
+    from analyses.trends.westgard import MINIMUM_BASELINE_POINTS
+
     keys = frame["series_id"].unique().tolist()
     stored = {b.series_key: b for b in ControlBaseline.objects.filter(series_key__in=keys)}
     counts = frame.groupby("series_id")["value"].size()
@@ -215,6 +224,8 @@ def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:
 def _across_material_drafts(part: pd.DataFrame, limits: pd.DataFrame, summary: ScanSummary) -> list[AlertDraft]:
     """Alerts of the rules comparing a method's control materials within a run; an
     alert names the method's runs ("qc-runs:<method>"), not one lot."""
+    from analyses.trends.across_materials import across_materials_scan
+
     ordered = part.sort_values(["method_code", "sequence"], kind="stable").reset_index(drop=True)
     runs = ordered[["series_id", "sequence", "value", "run_id"]].assign(run_group=ordered["method_code"])
     episodes = across_materials_scan(runs, limits.reset_index())

@@ -2,6 +2,7 @@
 names the same id (issue 8, section 3), with DEBUG off as in production."""
 from __future__ import annotations
 
+import json
 import logging
 
 import pytest
@@ -56,10 +57,12 @@ def test_the_service_log_format_puts_the_id_and_the_traceback_on_standard_error(
     with caplog.at_level(logging.INFO):
         response = client.get("/api/test-only/broken/")
     [record] = server_error_records(caplog)
-    line = handler.format(record)
-    assert f"ERROR django.request [request {response.json()['request_id']}] Internal Server Error: /api/test-only/broken/" in line
-    assert "Traceback (most recent call last)" in line
-    assert "ZeroDivisionError: the view's own bug" in line
+    line = json.loads(handler.format(record))  # JSON lines by default (LOG_JSON, labcore/log_format.py)
+    assert (line["level"], line["logger"]) == ("ERROR", "django.request")
+    assert line["request_id"] == response.json()["request_id"]
+    assert line["message"] == "Internal Server Error: /api/test-only/broken/"
+    assert "Traceback (most recent call last)" in line["exception"]
+    assert "ZeroDivisionError: the view's own bug" in line["exception"]
 
 
 def test_a_sane_incoming_request_id_is_kept(client, caplog):

@@ -22,7 +22,6 @@ from analyses.api.serializers.alerts import (
     SeriesSerializer,
 )
 from analyses.api.views.common import PagedListView, validated
-from analyses.charts.control_chart import control_chart_png, control_chart_svg
 from analyses.models import Alert, AlertSeverity, AlertSource, AlertState, ControlBaseline, Product, StabilityStudy
 from analyses.selectors.alerts import alert_list
 from analyses.selectors.trend_charts import series_chart, series_overview
@@ -113,5 +112,9 @@ class SeriesChartImageView(APIView):
     def get(self, request: Request, key: str, fmt: str) -> HttpResponse:
         data = series_chart(key, request.query_params.get("chart", "shewhart"))
         if fmt == "svg":
+            from analyses.charts.control_chart import control_chart_svg  # matplotlib: only when drawing
+
             return HttpResponse(control_chart_svg(data), content_type="image/svg+xml")
+        from analyses.charts.control_chart import control_chart_png
+
         return HttpResponse(control_chart_png(data), content_type="image/png")

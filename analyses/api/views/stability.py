@@ -16,7 +16,6 @@ from analyses.api.schema import errors
 from analyses.api.serializers.common import ReasonSerializer
 from analyses.api.serializers.stability import PullPointSerializer, StudyCreateSerializer, StudySerializer
 from analyses.api.views.common import PagedListView, validated
-from analyses.charts.stability_plot import stability_plot_png, stability_plot_svg
 from analyses.errors import InvalidInput
 from analyses.models import PullPoint
 from analyses.selectors.stability import pull_point_list, study_list, study_plot
@@ -117,5 +116,9 @@ class StudyPlotImageView(APIView):
     def get(self, request: Request, pk: int, fmt: str) -> HttpResponse:
         data = study_plot(**_plot_arguments(request, pk))
         if fmt == "svg":
+            from analyses.charts.stability_plot import stability_plot_svg  # matplotlib: only when drawing
+
             return HttpResponse(stability_plot_svg(data), content_type="image/svg+xml")
+        from analyses.charts.stability_plot import stability_plot_png
+
         return HttpResponse(stability_plot_png(data), content_type="image/png")

@@ -5,12 +5,16 @@ import json
 
 from django.core.management.base import BaseCommand, CommandError
 
+from analyses.checks import PLUGINS_TAG
 from analyses.errors import DomainError
 from analyses.services.calculation import calculation_run
 
 
 class Command(BaseCommand):
     help = 'Compute one determination: calc CODE name=value ... (values may carry units, e.g. sample_mass="2015 mg").'
+    # Only the check that concerns a calculation: rejected plugins (analyses.W001). The others load
+    # the whole API (URLconf, DRF) only to look at it; `manage.py check` runs them all.
+    requires_system_checks = [PLUGINS_TAG]
 
     def add_arguments(self, parser):
         parser.add_argument("code", help="method code, e.g. sv, iv, av, pv, ffa")

@@ -5,6 +5,7 @@ import json
 
 from django.core.management.base import BaseCommand
 
+from analyses.checks import PLUGINS_TAG
 from analyses.selectors.methods import method_list
 from plugins.registry import get_registry
 
@@ -22,6 +23,9 @@ def _range(scope: dict) -> str:
 
 class Command(BaseCommand):
     help = "List the registered method plugins with code, title, unit, standards and inputs."
+    # Only the check that concerns the methods: rejected plugins (analyses.W001). The others load
+    # the whole API (URLconf, DRF) only to look at it; `manage.py check` runs them all.
+    requires_system_checks = [PLUGINS_TAG]
 
     def add_arguments(self, parser):
         parser.add_argument("--json", action="store_true", help="print a JSON list of objects, each with a 'code' key")

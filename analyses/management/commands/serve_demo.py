@@ -34,8 +34,8 @@ class Command(BaseCommand):
         host = options["addrport"]
         self.stdout.write(f"API: http://{host}/api/   docs: http://{host}/api/docs/   (Ctrl-C stops everything)")
         try:
-            # --insecure: serve the docs pages' scripts although DEBUG is off (a local demo server only)
-            call_command("runserver", host, use_reloader=False, insecure_serving=True)
+            # the docs pages' scripts come through WhiteNoise (settings.MIDDLEWARE), no --insecure needed
+            call_command("runserver", host, use_reloader=False)
         finally:
             for process in workers:
                 process.terminate()

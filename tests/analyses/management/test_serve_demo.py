@@ -24,7 +24,8 @@ def test_serve_demo_runs_each_step_and_stops_the_workers(monkeypatch, capsys):
     call_command("serve_demo", "127.0.0.1:8099")
     assert [name for name, _, _ in steps] == ["migrate", "demo_load", "runserver"]
     assert steps[1][2] == {"new_tokens": True}  # tokens are shown once: fresh demo tokens each start
-    assert steps[-1][1] == ("127.0.0.1:8099",) and steps[-1][2]["insecure_serving"] is True
+    # no --insecure: WhiteNoise serves the docs' scripts (tests/labcore/test_static_files.py)
+    assert steps[-1][1] == ("127.0.0.1:8099",) and "insecure_serving" not in steps[-1][2]
     assert [p.args[:6] for p in processes] == [
         [sys.executable, "-m", "celery", "-A", "labcore", "worker"],
         [sys.executable, "-m", "celery", "-A", "labcore", "beat"],
