@@ -2,9 +2,24 @@
 from analyses.models.audit import AuditAction, AuditChainHead, AuditEntry
 from analyses.models.certificates import Certificate
 from analyses.models.immutable import AppendOnlyModel, ImmutableRowError
+from analyses.models.instruments import (
+    Calibration,
+    CheckKind,
+    Instrument,
+    InstrumentCheck,
+    InstrumentKind,
+    ResultInstrument,
+)
 from analyses.models.investigations import Conclusion, Investigation, InvestigationState
 from analyses.models.lots import Lot, LotOrigin, LotState
 from analyses.models.products import Product
+from analyses.models.reagents import (
+    ReagentKind,
+    ReagentLot,
+    Standardisation,
+    StandardisationStatus,
+    TitrantSubstance,
+)
 from analyses.models.results import Result, ResultStatus
 from analyses.models.samples import Sample, SampleKind, SampleState
 from analyses.models.stability import (
@@ -36,6 +51,17 @@ from analyses.models.testing import (
 )
 
 __all__ = [
+    "Calibration",
+    "CheckKind",
+    "Instrument",
+    "InstrumentCheck",
+    "InstrumentKind",
+    "ResultInstrument",
+    "ReagentKind",
+    "ReagentLot",
+    "Standardisation",
+    "StandardisationStatus",
+    "TitrantSubstance",
     "Light",
     "OffsetUnit",
     "PullPoint",
