@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import MethodPlugin, QuantityInput, Repeatability, WorkedExample
+from plugins.contract import TITRATION_INSTRUMENTS, MethodPlugin, QuantityInput, Repeatability, WorkedExample
 from plugins.titration import blank_volume, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
 DICHROMATE_FACTOR = 20.394  # AOCS Cd 8b-90: c = 20.394 x g K2Cr2O7 / mL of thiosulfate
@@ -38,6 +38,8 @@ class PeroxideValue(MethodPlugin):
     code = "pv"
     title = "Peroxide value"
     version = "1.0"
+    titrants = ("Na2S2O3",)
+    instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 8b-90", "ISO 3960")
     inputs = (
         sample_mass("Test portion, 5.00 ± 0.05 g"),
