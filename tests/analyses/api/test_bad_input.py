@@ -11,7 +11,7 @@ import pytest
 from analyses.models import Result
 from analyses.services.results import result_record
 from tests.analyses.api.support import Call, Lab, row_counts
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, PV_TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -50,7 +50,7 @@ def _assign(lab: Lab, **changes) -> Call:
 
 def _record(lab: Lab, headers=None, **changes) -> Call:
     av_test, _ = lab.assigned("analyst")
-    return Call("post", "/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **changes}, headers=headers or {})
+    return Call("post", "/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **changes, **AV_TRACE}, headers=headers or {})
 
 
 def _bulk(lab: Lab, *items) -> Call:
@@ -61,7 +61,7 @@ def _bulk(lab: Lab, *items) -> Call:
 
 def _correct(lab: Lab, **body) -> Call:
     av_test, _ = lab.assigned("analyst")
-    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW, **AV_TRACE)
     return Call("post", f"/api/results/{result.pk}/correct/", body)
 
 
@@ -185,14 +185,14 @@ CASES = [
     Bad(
         "bulk: third item bad, the first two not written", "analyst",
         lambda lab: _bulk(
-            lab, {"test": "av", "inputs": AV_LOW}, {"test": "av", "inputs": AV_LOW_TWIN},
-            {"test": "pv", "inputs": {"sample_mass": "x", "sample_volume": "1", "blank_volume": "0", "titrant_concentration": "0.01"}},
+            lab, {"test": "av", "inputs": AV_LOW, **AV_TRACE}, {"test": "av", "inputs": AV_LOW_TWIN, **AV_TRACE},
+            {"test": "pv", "inputs": {"sample_mass": "x", "sample_volume": "1", "blank_volume": "0"}, **PV_TRACE},
         ),
         "results.2.inputs.sample_mass",
     ),
-    Bad("bulk: unknown test", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW}, {"test": 999999, "inputs": AV_LOW}), "results.1.test"),
+    Bad("bulk: unknown test", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, **AV_TRACE}, {"test": 999999, "inputs": AV_LOW, **AV_TRACE}), "results.1.test"),
     Bad("bulk: inputs missing", "analyst", lambda lab: _bulk(lab, {"test": "av"}), "results.0.inputs"),
-    Bad("bulk: misspelt item field", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicat": 1}), "results.0.replicat"),
+    Bad("bulk: misspelt item field", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicat": 1, **AV_TRACE}), "results.0.replicat"),
     Bad("correct: reason missing", "analyst", lambda lab: _correct(lab, inputs=AV_LOW_TWIN), "reason"),
     Bad("correct: input not a number", "analyst", lambda lab: _correct(lab, inputs={**AV_LOW, "sample_volume": "?"}, reason="misread"), "inputs.sample_volume"),
     Bad("close: unknown conclusion", "qa", lambda lab: _close(lab, conclusion="maybe", findings="x"), "conclusion"),
@@ -322,7 +322,7 @@ ODD_BODIES = {
 
 def _a_result(lab: Lab) -> Result:
     av_test, _ = lab.assigned("analyst", label="L-200-C")
-    return result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+    return result_record(lab.users["analyst"], av_test, inputs=AV_LOW, **AV_TRACE)
 
 
 @pytest.mark.parametrize("body_name", list(ODD_BODIES))
@@ -359,8 +359,8 @@ ONE_HUGE_ID = [
     Bad("huge id: assignee", "manager", lambda lab: _assign(lab, assignee=HUGE_ID), "assignee"),
     Bad("huge id: result test", "analyst", lambda lab: _record(lab, test=HUGE_ID), "test"),
     Bad("huge id: result replicate", "analyst", lambda lab: _record(lab, replicate=HUGE_ID), "replicate"),
-    Bad("huge id: bulk item test", "analyst", lambda lab: _bulk(lab, {"test": HUGE_ID, "inputs": AV_LOW}), "results.0.test"),
-    Bad("huge id: bulk item replicate", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicate": HUGE_ID}), "results.0.replicate"),
+    Bad("huge id: bulk item test", "analyst", lambda lab: _bulk(lab, {"test": HUGE_ID, "inputs": AV_LOW, **AV_TRACE}), "results.0.test"),
+    Bad("huge id: bulk item replicate", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicate": HUGE_ID, **AV_TRACE}), "results.0.replicate"),
     Bad("huge quantity", "manager", lambda lab: _lot(lab, quantity_kg="1e30"), "quantity_kg"),
 ]
 

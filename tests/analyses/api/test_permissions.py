@@ -19,7 +19,7 @@ from analyses.services.results import result_record
 from analyses.services.samples import sample_hold
 from analyses.services.stability import stability_study_create
 from tests.analyses.api.support import Call, Lab, row_counts
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE
 from tests.factories import UserFactory
 
 pytestmark = pytest.mark.django_db
@@ -42,7 +42,7 @@ def _resume(lab: Lab) -> Call:
 
 def _correct(lab: Lab) -> Call:
     av_test, _ = lab.assigned("analyst")
-    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW, **AV_TRACE)
     return Call("post", f"/api/results/{result.pk}/correct/", {"inputs": AV_LOW_TWIN, "reason": "burette misread"})
 
 
@@ -130,10 +130,10 @@ CASES = [
         lambda lab: Call("post", f"/api/tests/{lab.entered('analyst2')[0].pk}/send-back/", {"reason": "blank too high"}),
         REVIEWERS,
     ),
-    Case("result record", lambda lab: Call("post", "/api/results/", {"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW}), ENTERERS),
+    Case("result record", lambda lab: Call("post", "/api/results/", {"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW, **AV_TRACE}), ENTERERS),
     Case(
         "result record bulk",
-        lambda lab: Call("post", "/api/results/bulk/", {"results": [{"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW}]}),
+        lambda lab: Call("post", "/api/results/bulk/", {"results": [{"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW, **AV_TRACE}]}),
         ENTERERS,
     ),
     Case("result correct", _correct, ENTERERS),
@@ -228,7 +228,7 @@ def test_qa_in_the_analyst_group_still_may_not_enter_results(users, lab, clients
     av_test, _ = lab.assigned("analyst")
     test_assign_bulk(lab.manager, [av_test], assignee=both)
     both.groups.add(Group.objects.get(name="qa_reviewer"))  # joined QA after the assignment
-    response = client_for(both).post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
+    response = client_for(both).post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, format="json")
     assert response.status_code == 403
     assert "QA reviewer" in response.json()["detail"]
     assert not Result.objects.exists()
@@ -254,6 +254,6 @@ def test_four_eyes_the_enterer_may_not_accept(lab, clients):
 
 def test_an_analyst_may_not_enter_results_on_another_analysts_test(lab, clients):
     av_test, _ = lab.assigned("analyst2")
-    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
+    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, format="json")
     assert response.status_code == 403
     assert "assigned to analyst2" in response.json()["detail"]
