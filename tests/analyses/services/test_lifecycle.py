@@ -70,6 +70,12 @@ def test_receipt_to_release_with_certificate(users, received_sample):
     assert by_method["av"]["verdict"] == "pass"
     assert by_method["av"]["accepted_by"] == "analyst2"
     assert by_method["pv"]["maximum"] == "10.0"  # CXS 210 appendix / CXS 19, refined oils (found)
+    # issue 9: each replicate names what it was measured with
+    measured = by_method["av"]["measured_with"][0]
+    assert measured["titrant_lot"] == "KOH-BENCH" and measured["titrant_concentration"] == "0.1"
+    assert [i["asset_id"] for i in measured["instruments"]] == ["BAL-BENCH", "BUR-BENCH"]
+    assert measured["instruments"][0]["calibration"] and measured["instruments"][0]["check"]
+    assert by_method["pv"]["measured_with"][1]["titrant_lot"] == "THIO-BENCH"
     assert Certificate.objects.get(lot=received_sample.lot).number == "COA-L-100"
     assert Result.objects.filter(test__sample=received_sample).count() == 4
     assert AuditEntry.objects.filter(sample_ref=received_sample.pk).count() > 10
