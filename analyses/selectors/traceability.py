@@ -82,3 +82,33 @@ def instruments_by_reference(references: Iterable[int | str]) -> dict[int | str,
 
 def due_within(today: dt.date, days: int) -> dt.date:
     return today + dt.timedelta(days=days)
+
+
+# --- lists for the API: a fixed number of queries whatever the page -------------------
+def reagent_kind_list():
+    from analyses.models import ReagentKind
+
+    return ReagentKind.objects.select_related("created_by").order_by("name", "id")
+
+
+def reagent_lot_list():
+    return lots_with_current(ReagentLot.objects.select_related("kind", "created_by")).order_by("kind__name", "-prepared_on", "-id")
+
+
+def standardisation_list(lot_id: int | None = None):
+    queryset = Standardisation.objects.select_related("lot", "performed_by", "balance", "burette")
+    if lot_id is not None:
+        queryset = queryset.filter(lot_id=lot_id)
+    return queryset.order_by("-performed_at", "-id")
+
+
+def instrument_list():
+    return instruments_with_status(Instrument.objects.select_related("created_by")).order_by("asset_id")
+
+
+def calibration_list(instrument_id: int):
+    return Calibration.objects.filter(instrument_id=instrument_id).select_related("instrument", "recorded_by").order_by("-calibrated_on", "-id")
+
+
+def check_list(instrument_id: int):
+    return InstrumentCheck.objects.filter(instrument_id=instrument_id).select_related("instrument", "performed_by").order_by("-performed_at", "-id")
