@@ -4,6 +4,7 @@ DATABASE_URL   default: SQLite file in var/ (git-ignored); PostgreSQL when set.
 REDIS_URL      Celery broker and result backend; default: a filesystem broker in var/ (no server).
 DJANGO_SECRET_KEY  default: a key generated once into var/secret_key, never committed.
 DEBUG          off unless set to 1/true/yes.
+TRACEABILITY_DUE_DAYS  look-ahead of the daily reagent and instrument due scan; default 14.
 """
 from __future__ import annotations
 
@@ -164,7 +165,11 @@ CELERY_BEAT_SCHEDULE = {
     "stability-pulls": {"task": "analyses.tasks.stability_pulls_schedule_task", "schedule": float(os.environ.get("PULL_SCHEDULE_SECONDS", 600))},
     "stability-evaluate": {"task": "analyses.tasks.stability_studies_evaluate_task", "schedule": 3600.0},
     "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 60.0},
+    "traceability-due": {"task": "analyses.tasks.traceability_due_scan_task", "schedule": 86400.0},
 }
+# Calibrations, checks and standardisations falling due, and titrant lots expiring, within this
+# many days are raised as alerts by the daily traceability scan.
+TRACEABILITY_DUE_DAYS = int(os.environ.get("TRACEABILITY_DUE_DAYS", 14))
 
 # EWMA chart of production series: smoothing λ and limit width L (NIST/SEMATECH typical: 0.2-0.3, 3).
 TREND_EWMA_SMOOTHING = float(os.environ.get("TREND_EWMA_SMOOTHING", 0.2))
