@@ -239,6 +239,20 @@ def _replay(
     return first
 
 
+def _check_same_trace(first: Result, key: str, titrant_lot: Any, instruments: Any) -> None:
+    """Conflict when a repeated key names another titrant lot or other instruments than the
+    result it first recorded (each as an id or a code)."""
+    if titrant_lot not in (None, ""):
+        lot = first.reagent_lot
+        if lot is None or titrant_lot not in (lot.pk, lot.code):
+            raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with another titrant lot")
+    if instruments is not None:
+        used = [(u.instrument_id, u.instrument.asset_id) for u in first.instrument_uses.select_related("instrument")]
+        named = list(instruments) if isinstance(instruments, (list, tuple)) else [instruments]
+        if len(named) != len(used) or any(not any(ref in pair for pair in used) for ref in named):
+            raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with other instruments")
+
+
 def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Result:
     """Insert ``result``; a concurrent twin with the same idempotency key wins and is returned."""
     try:
@@ -283,6 +297,7 @@ def result_record_once(
         if key:
             first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
             if first is not None:
+                _check_same_trace(first, key, titrant_lot, instruments)
                 return Recorded(_replay(first, test, inputs, key), replayed=True)
         _check_may_enter(actor, test)
         _check_workable(test)

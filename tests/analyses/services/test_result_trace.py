@@ -199,3 +199,15 @@ def test_a_correction_may_name_other_instruments(users, av):
                                instruments=["BAL-BENCH", "BUR-2"])
     assert corrected.reagent_lot.code == "KOH-BENCH"
     assert sorted(u.instrument.asset_id for u in corrected.instrument_uses.all()) == ["BAL-BENCH", "BUR-2"]
+
+
+def test_a_repeated_key_with_another_lot_or_instruments_is_a_conflict(users, av):
+    first = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="t-1", **AV_TRACE)
+    again = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="t-1", titrant_lot=first.reagent_lot_id,
+                          instruments=["BUR-BENCH", "BAL-BENCH"])
+    assert again.pk == first.pk
+    usable_instrument("BUR-2", "burette")
+    with pytest.raises(Conflict, match="other instruments"):
+        result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="t-1", titrant_lot="KOH-BENCH", instruments=["BAL-BENCH", "BUR-2"])
+    with pytest.raises(Conflict, match="another titrant lot"):
+        result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="t-1", titrant_lot="THIO-BENCH", instruments=AV_TRACE["instruments"])
