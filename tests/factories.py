@@ -247,22 +247,26 @@ class InstrumentCheckFactory(factory.django.DjangoModelFactory):
     performed_at = factory.LazyFunction(lambda: timezone.now() - dt.timedelta(hours=1))
 
 
-def usable_instrument(asset_id: str, kind: str = InstrumentKind.BALANCE, **calibration) -> Instrument:
-    """An instrument with a passed calibration (and, when it needs one, a passed check)."""
-    instrument = InstrumentFactory(asset_id=asset_id, kind=kind)
+def usable_instrument(asset_id: str, kind: str = InstrumentKind.BALANCE, *, by=None, **calibration) -> Instrument:
+    """An instrument with a passed calibration (and, when it needs one, a passed check);
+    ``by`` records them all (default: new users)."""
+    who = {} if by is None else {"created_by": by}
+    instrument = InstrumentFactory(asset_id=asset_id, kind=kind, **who)
     if not instrument.calibrations.exists():
         defaults = {"standard_uncertainty": "0.00009", "unit": "g"} if kind == InstrumentKind.BALANCE else {
             "standard_uncertainty": "", "tolerance": "0.03", "unit": "mL"
         }
-        CalibrationFactory(instrument=instrument, **{**defaults, **calibration})
+        CalibrationFactory(instrument=instrument, **{**defaults, **calibration}, **({} if by is None else {"recorded_by": by}))
     if instrument.check_every_days and not instrument.checks.exists():
-        InstrumentCheckFactory(instrument=instrument)
+        InstrumentCheckFactory(instrument=instrument, **({} if by is None else {"performed_by": by}))
     return instrument
 
 
-def usable_titrant_lot(code: str, *, kind: ReagentKind | None = None, concentration: str = "0.1", **lot) -> ReagentLot:
-    """A titrant lot in date with a current standardisation giving ``concentration``."""
-    titrant = ReagentLotFactory(code=code, kind=kind or ReagentKindFactory(), **lot)
+def usable_titrant_lot(code: str, *, kind: ReagentKind | None = None, concentration: str = "0.1", by=None, **lot) -> ReagentLot:
+    """A titrant lot in date with a current standardisation giving ``concentration``;
+    ``by`` records them (default: new users)."""
+    who = {} if by is None else {"created_by": by}
+    titrant = ReagentLotFactory(code=code, kind=kind or ReagentKindFactory(**who), **who, **lot)
     if not titrant.standardisations.exists():
-        StandardisationFactory(lot=titrant, concentration=concentration)
+        StandardisationFactory(lot=titrant, concentration=concentration, **({} if by is None else {"performed_by": by}))
     return titrant

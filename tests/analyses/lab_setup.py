@@ -57,16 +57,20 @@ BENCH_INSTRUMENTS = {"BAL-BENCH": "balance", "BUR-BENCH": "burette", "UV-BENCH":
 
 
 @pytest.fixture(autouse=True)
-def bench(db):
+def bench(db, request):
     """The titrant lots and instruments of ``TRACE`` and ``BENCH_LOTS``, usable: in date,
     standardised, calibrated and checked (autouse: every test of these directories may enter
-    results)."""
+    results). Recorded by the ``users`` fixture's manager when the test has it, so that the
+    bench adds no users of its own there."""
+    keeper = request.getfixturevalue("users")["manager"] if "users" in request.fixturenames else UserFactory(username="bench-keeper")
     made = {}
     for (substance, concentration), code in BENCH_LOTS.items():
-        kind = ReagentKindFactory(name=f"{substance} {concentration} mol/L", substance=substance, nominal_concentration=concentration)
-        made[code] = usable_titrant_lot(code, kind=kind, concentration=concentration)
+        kind = ReagentKindFactory(
+            name=f"{substance} {concentration} mol/L", substance=substance, nominal_concentration=concentration, created_by=keeper
+        )
+        made[code] = usable_titrant_lot(code, kind=kind, concentration=concentration, by=keeper)
     for asset_id, kind in BENCH_INSTRUMENTS.items():
-        made[asset_id] = usable_instrument(asset_id, kind)
+        made[asset_id] = usable_instrument(asset_id, kind, by=keeper)
     return made
 
 

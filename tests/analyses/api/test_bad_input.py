@@ -8,7 +8,7 @@ from dataclasses import dataclass
 
 import pytest
 
-from analyses.models import Result
+from analyses.models import ReagentLot, Result
 from analyses.services.results import result_record
 from tests.analyses.api.support import Call, Lab, row_counts
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, PV_TRACE
@@ -50,7 +50,7 @@ def _assign(lab: Lab, **changes) -> Call:
 
 def _record(lab: Lab, headers=None, **changes) -> Call:
     av_test, _ = lab.assigned("analyst")
-    return Call("post", "/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **changes, **AV_TRACE}, headers=headers or {})
+    return Call("post", "/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE, **changes}, headers=headers or {})
 
 
 def _bulk(lab: Lab, *items) -> Call:
@@ -172,8 +172,8 @@ CASES = [
     Bad("result: input in the wrong unit", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_mass": "20 mL"}), "inputs.sample_mass"),
     Bad(
         "result: input missing", "analyst",
-        lambda lab: _record(lab, inputs={k: v for k, v in AV_LOW.items() if k != "titrant_concentration"}),
-        "inputs.titrant_concentration",
+        lambda lab: _record(lab, inputs={k: v for k, v in AV_LOW.items() if k != "sample_volume"}),
+        "inputs.sample_volume",
     ),
     Bad("result: inputs giving a result too large to report", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_mass": "1e-300"}), "inputs"),
     Bad("result: replicate zero", "analyst", lambda lab: _record(lab, replicate=0), "replicate"),
@@ -338,7 +338,9 @@ def test_odd_bodies_are_refused_as_input_never_a_server_error(role, method, path
 
 def test_form_encoded_input_is_read_or_refused_never_a_server_error(lab, clients):
     av_test, _ = lab.assigned("analyst")
-    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": "sample_mass=20"})  # multipart
+    response = clients["analyst"].post(  # multipart
+        "/api/results/", {"test": av_test.pk, "inputs": "sample_mass=20", **AV_TRACE}
+    )
     assert response.status_code == 400
     assert all(name.startswith("inputs") for name in response.json()["fields"])
     plain = clients["analyst"].generic("POST", "/api/results/", "test=1", content_type="text/plain")
@@ -362,6 +364,15 @@ ONE_HUGE_ID = [
     Bad("huge id: bulk item test", "analyst", lambda lab: _bulk(lab, {"test": HUGE_ID, "inputs": AV_LOW, **AV_TRACE}), "results.0.test"),
     Bad("huge id: bulk item replicate", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicate": HUGE_ID, **AV_TRACE}), "results.0.replicate"),
     Bad("huge quantity", "manager", lambda lab: _lot(lab, quantity_kg="1e30"), "quantity_kg"),
+    Bad("huge id: result titrant lot", "analyst", lambda lab: _record(lab, titrant_lot=HUGE_ID), "titrant_lot"),
+    Bad("huge id: result instrument", "analyst", lambda lab: _record(lab, instruments=["BAL-BENCH", HUGE_ID]), "instruments.1"),
+    Bad(
+        "huge id: standardisation burette", "analyst",
+        lambda lab: Call("post", f"/api/reagent-lots/{ReagentLot.objects.get(code='KOH-BENCH').pk}/standardisations/", {
+            "primary_standard": "khp", "replicates": [{"mass": "0.4", "titre": "20"}] * 2, "burette": HUGE_ID,
+        }),
+        "burette",
+    ),
 ]
 
 
