@@ -11,7 +11,13 @@ from django.contrib.auth.models import Group
 from analyses.models import (
     ApiToken,
     AuditEntry,
+    Calibration,
     Certificate,
+    Instrument,
+    InstrumentCheck,
+    ReagentKind,
+    ReagentLot,
+    Standardisation,
     Investigation,
     LoginLockout,
     Lot,
@@ -104,5 +110,21 @@ class LotAdmin(ViewOnlyAdmin):
     search_fields = ("code", "supplier")
 
 
-for model in (Product, Specification, SpecificationLine, Investigation, Certificate):
+@admin.register(Standardisation)
+class StandardisationAdmin(ViewOnlyAdmin):
+    list_display = ("id", "lot", "primary_standard", "concentration", "uncertainty", "performed_at", "valid_until", "status")
+    list_filter = ("status", "primary_standard")
+
+
+@admin.register(Instrument)
+class InstrumentAdmin(ViewOnlyAdmin):
+    list_display = ("asset_id", "kind", "location", "check_every_days")
+    list_filter = ("kind",)
+    search_fields = ("asset_id", "location")
+
+
+for model in (
+    Product, Specification, SpecificationLine, Investigation, Certificate, ReagentKind, ReagentLot, Calibration,
+    InstrumentCheck,
+):
     admin.site.register(model, ViewOnlyAdmin)

@@ -39,6 +39,12 @@ PERMISSION_MODELS: dict[str, str] = {
     "manage_stability_study": "stabilitystudy",
     "set_control_baseline": "controlbaseline",
     "acknowledge_alert": "alert",
+    # traceable measurements (issue 9)
+    "manage_reagent_kinds": "reagentkind",
+    "register_reagent_lot": "reagentlot",
+    "record_standardisation": "standardisation",
+    "manage_instruments": "instrument",
+    "record_instrument_check": "instrumentcheck",
 }
 
 # "Only QA approves specifications and releases or rejects lots" (issue 3): not even admins,
@@ -60,8 +66,11 @@ ROLE_PERMISSIONS: dict[str, tuple[str, ...]] = {
         "review_test",
         "view_audit_trail",
         "manage_stability_study",
+        "manage_reagent_kinds",
+        "manage_instruments",
+        "register_reagent_lot",
     ),
-    ANALYST: ("record_result", "review_test"),
+    ANALYST: ("record_result", "review_test", "register_reagent_lot", "record_standardisation", "record_instrument_check"),
     QA_REVIEWER: (
         "draft_specification",
         "approve_specification",

@@ -11,6 +11,7 @@ from django.db import InterfaceError, OperationalError
 
 from analyses.services.alert_delivery import alert_notify, alerts_pending_notification
 from analyses.services.audit_anchors import audit_anchor_write
+from analyses.services.due_scan import traceability_due_scan
 from analyses.services.stability import stability_pulls_schedule, stability_studies_evaluate, stability_study_evaluate
 from analyses.services.trend_scan import trend_scan
 
@@ -40,6 +41,11 @@ def stability_study_evaluate_task(study_id: int) -> dict:
 @shared_task(name="analyses.tasks.stability_studies_evaluate_task", **RETRY)
 def stability_studies_evaluate_task() -> int:
     return stability_studies_evaluate()
+
+
+@shared_task(name="analyses.tasks.traceability_due_scan_task", **RETRY)
+def traceability_due_scan_task() -> dict:
+    return traceability_due_scan().__dict__
 
 
 @shared_task(name="analyses.tasks.alert_notify_task", **RETRY)

@@ -22,6 +22,9 @@ def api_root(request, format=None):
             "stability_studies": reverse("study-list", request=request, format=format),
             "alerts": reverse("alert-list", request=request, format=format),
             "trend_series": reverse("series-list", request=request, format=format),
+            "reagent_kinds": reverse("reagent-kind-list", request=request, format=format),
+            "reagent_lots": reverse("reagent-lot-list", request=request, format=format),
+            "instruments": reverse("instrument-list", request=request, format=format),
             "schema": reverse("schema", request=request, format=format),
             "docs": reverse("api-docs", request=request, format=format),
         }

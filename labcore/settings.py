@@ -11,6 +11,7 @@ AUDIT_ANCHOR_DIR   where the audit chain's head is anchored (default var/audit-a
 CACHE_URL      the cache that login lock-outs and API throttles count in; default: this process's
                memory. Set a Redis database of its own (redis://host:6379/2) when several processes serve.
 API_TOKEN_TTL_DAYS, LOGIN_*, API_THROTTLE_*: see "API tokens" and "Login lock-out" below.
+TRACEABILITY_DUE_DAYS  look-ahead of the daily reagent and instrument due scan; default 14.
 """
 from __future__ import annotations
 
@@ -270,7 +271,11 @@ CELERY_BEAT_SCHEDULE = {
     "stability-evaluate": {"task": "analyses.tasks.stability_studies_evaluate_task", "schedule": 3600.0},
     "alerts-notify-pending": {"task": "analyses.tasks.alerts_notify_pending_task", "schedule": 60.0},
     "audit-anchor": {"task": "analyses.tasks.audit_anchor_task", "schedule": float(os.environ.get("AUDIT_ANCHOR_SECONDS", 300))},
+    "traceability-due": {"task": "analyses.tasks.traceability_due_scan_task", "schedule": 86400.0},
 }
+# Calibrations, checks and standardisations falling due, and titrant lots expiring, within this
+# many days are raised as alerts by the daily traceability scan.
+TRACEABILITY_DUE_DAYS = int(os.environ.get("TRACEABILITY_DUE_DAYS", 14))
 
 # The audit chain's head is appended to a file here (analyses/services/audit_anchors.py); audit_verify
 # checks the chain against it. Put it where the database's administrators cannot write.

@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import BlankRule, MethodPlugin, Repeatability, WorkedExample
+from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import (
     KOH_MOLAR_MASS,
     blank_volume,
@@ -38,6 +38,8 @@ class AcidValue(MethodPlugin):
     code = "av"
     title = "Acid value"
     version = "1.0"
+    titrants = ("KOH", "NaOH")  # ISO 660 titrates with KOH or NaOH
+    instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 3d-63", "ISO 660")
     inputs = (
         sample_mass("Test portion"),

@@ -82,6 +82,7 @@ class AnisidineValue(MethodPlugin):
     code = "anv"
     title = "p-Anisidine value"
     version = "1.0"
+    instruments = (("balance",), ("spectrophotometer",))
     standards = ("AOCS Cd 18-90",)
     inputs = (
         sample_mass("Test portion, dissolved and made up to 25 mL with iso-octane"),

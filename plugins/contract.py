@@ -17,6 +17,15 @@ Static facts
     examples        worked examples, each a :class:`WorkedExample` with its source
     cautions        reagent hazards, for the docs and the API
 
+Traceability (what a result must name when it is entered; issue 9)
+    titrants        the titrant substances the method accepts, e.g. ("KOH", "NaOH"); the
+                    lot's standardised concentration becomes the ``titrant_concentration``
+                    input. Empty: the method uses no titrant. A method with titrants must
+                    declare a ``titrant_concentration`` input.
+    instruments     the instrument kinds it needs, one tuple per need, met by any kind in it:
+                    (("balance",), ("burette", "automatic_titrator")) for a titration. Kinds
+                    are those of :data:`INSTRUMENT_KINDS`.
+
 Computation
     ``compute(values)`` receives the validated inputs as exact ``Decimal`` values in each
     input's default unit, as the analyst wrote them ("1.965" is 1.965, "2015 mg" is
@@ -56,6 +65,11 @@ from typing import Any, ClassVar
 from plugins.units import UnitProblem, to_decimal, to_magnitude
 
 ENTRY_POINT_GROUP = "oleotrace.methods"
+# the instrument kinds a plugin may require (the lab's instrument register uses the same words)
+INSTRUMENT_KINDS = ("balance", "burette", "automatic_titrator", "spectrophotometer", "oven", "thermometer", "gc")
+TITRANT_INPUT = "titrant_concentration"
+# what a titration needs: a balance for the test portion, a burette or titrator for the titre
+TITRATION_INSTRUMENTS: tuple[tuple[str, ...], ...] = (("balance",), ("burette", "automatic_titrator"))
 _ROUNDING_DIGITS = 320  # enough for any finite float written out in full
 # compute() runs in this context: 60 digits hold every product and quotient of inputs written
 # to a few places exactly where the true result is a finite decimal (a limit on paper is one).
@@ -291,6 +305,10 @@ class MethodPlugin:
     blank: ClassVar[BlankRule | None] = None
     basis: ClassVar[ResultBasis | None] = None
 
+    # --- traceability (issue 9): see "Traceability" in the module docstring ---------
+    titrants: ClassVar[tuple[str, ...]] = ()
+    instruments: ClassVar[tuple[tuple[str, ...], ...]] = ()
+
     REQUIRED_ATTRIBUTES: ClassVar[tuple[str, ...]] = (
         "code", "title", "version", "standards", "inputs", "result_unit", "decimals",
     )
@@ -420,6 +438,8 @@ class MethodPlugin:
             "exact_arithmetic": cls.exact_arithmetic,
             "inexact_reason": cls.inexact_reason,
             **describe_declarations(cls),
+            "titrants": list(cls.titrants),
+            "instruments": [{"any_of": list(need)} for need in cls.instruments],
         }
 
 

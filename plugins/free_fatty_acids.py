@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import BlankRule, ChoiceInput, MethodPlugin, MethodScope, Repeatability, ResultBasis, WorkedExample
+from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, ChoiceInput, MethodPlugin, MethodScope, Repeatability, ResultBasis, WorkedExample
 from plugins.titration import blank_volume, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
 BASIS_FACTORS = {"oleic": Decimal("28.2"), "palmitic": Decimal("25.6"), "lauric": Decimal("20.0")}  # AOCS Ca 5a-40
@@ -21,6 +21,8 @@ class FreeFattyAcids(MethodPlugin):
     code = "ffa"
     title = "Free fatty acids"
     version = "1.0"
+    titrants = ("NaOH",)  # AOCS Ca 5a-40 titrates with NaOH
+    instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Ca 5a-40",)
     inputs = (
         sample_mass("Test portion; Ca 5a-40 sets it by the expected FFA (e.g. 28.2 g for 0.2-1 %)"),

@@ -12,7 +12,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import BlankRule, MethodPlugin, MethodScope, Repeatability, WorkedExample
+from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, MethodScope, Repeatability, WorkedExample
 from plugins.titration import back_titration_volume, blank_volume, sample_mass, sample_volume, titrant_concentration
 
 IODINE_FACTOR = Decimal("12.69")  # AOCS Cd 1d-92 / ISO 3961
@@ -22,6 +22,8 @@ class IodineValueWijs(MethodPlugin):
     code = "iv"
     title = "Iodine value (Wijs)"
     version = "1.0"
+    titrants = ("Na2S2O3",)
+    instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 1d-92", "ISO 3961")
     inputs = (
         sample_mass("Test portion; ISO 3961 scales it to the expected IV (0.13 g near IV 100-150)"),

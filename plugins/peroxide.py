@@ -21,7 +21,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.blanks import check_blank_declared, prescribed_blank_inputs
-from plugins.contract import BlankRule, MethodPlugin, MethodScope, QuantityInput, Repeatability, WorkedExample
+from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, MethodScope, QuantityInput, Repeatability, WorkedExample
 from plugins.titration import direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
 DICHROMATE_FACTOR = 20.394  # AOCS Cd 8b-90 (found): c = 20.394 x g K2Cr2O7 / mL of thiosulfate
@@ -49,6 +49,8 @@ class PeroxideValue(MethodPlugin):
     code = "pv"
     title = "Peroxide value"
     version = "1.0"
+    titrants = ("Na2S2O3",)
+    instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 8b-90", "ISO 3960")
     inputs = (
         sample_mass("Test portion, 5.00 ± 0.05 g (AOCS Cd 8b-90)"),

@@ -16,6 +16,8 @@ from plugins.pint_import import pint
 
 from plugins.contract import (
     ENTRY_POINT_GROUP,
+    INSTRUMENT_KINDS,
+    TITRANT_INPUT,
     ChoiceInput,
     MethodInputError,  # noqa: F401  (kept importable from here)
     MethodPlugin,
@@ -124,6 +126,13 @@ def plugin_problem(plugin_class: object) -> str | None:
                 return f"input {spec.name!r} has unit {spec.unit!r}, which pint does not know"
     if plugin_class.compute is MethodPlugin.compute:
         return "does not implement compute()"
+    if isinstance(plugin_class.titrants, str) or not all(isinstance(t, str) and t for t in plugin_class.titrants):
+        return "titrants must be a tuple of substance names such as ('KOH',)"
+    if plugin_class.titrants and TITRANT_INPUT not in names:
+        return f"names titrants but declares no {TITRANT_INPUT!r} input"
+    for need in plugin_class.instruments:
+        if isinstance(need, str) or not need or any(kind not in INSTRUMENT_KINDS for kind in need):
+            return f"instrument need {need!r} must be a tuple of kinds from {', '.join(INSTRUMENT_KINDS)}"
     if not plugin_class.exact_arithmetic and not str(plugin_class.inexact_reason).strip():
         return "sets exact_arithmetic = False without saying why in inexact_reason"
     for limit in plugin_class.spec_limits:

@@ -11,7 +11,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import BlankRule, MethodPlugin, Repeatability, WorkedExample
+from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import (
     KOH_MOLAR_MASS,
     back_titration_volume,
@@ -26,6 +26,8 @@ class SaponificationValue(MethodPlugin):
     code = "sv"
     title = "Saponification value"
     version = "1.0"
+    titrants = ("HCl",)  # the excess ethanolic KOH is titrated back with HCl
+    instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 3-25", "ISO 3657")
     inputs = (
         sample_mass("Test portion, about 2 g"),

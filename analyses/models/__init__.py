@@ -2,10 +2,25 @@
 from analyses.models.audit import AuditAction, AuditChainHead, AuditEntry
 from analyses.models.certificates import Certificate
 from analyses.models.immutable import AppendOnlyModel, ImmutableRowError
+from analyses.models.instruments import (
+    Calibration,
+    CheckKind,
+    Instrument,
+    InstrumentCheck,
+    InstrumentKind,
+    ResultInstrument,
+)
 from analyses.models.investigations import Conclusion, Investigation, InvestigationState
 from analyses.models.logins import LockoutScope, LoginLockout
 from analyses.models.lots import Lot, LotOrigin, LotState
 from analyses.models.products import Product
+from analyses.models.reagents import (
+    ReagentKind,
+    ReagentLot,
+    Standardisation,
+    StandardisationStatus,
+    TitrantSubstance,
+)
 from analyses.models.results import Result, ResultStatus
 from analyses.models.samples import Sample, SampleKind, SampleState
 from analyses.models.stability import (
@@ -42,6 +57,17 @@ __all__ = [
     "ApiToken",
     "LockoutScope",
     "LoginLockout",
+    "Calibration",
+    "CheckKind",
+    "Instrument",
+    "InstrumentCheck",
+    "InstrumentKind",
+    "ResultInstrument",
+    "ReagentKind",
+    "ReagentLot",
+    "Standardisation",
+    "StandardisationStatus",
+    "TitrantSubstance",
     "Light",
     "OffsetUnit",
     "PullPoint",

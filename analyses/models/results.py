@@ -41,6 +41,16 @@ class Result(models.Model):
     entered_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+")
     entered_at = models.DateTimeField()
     idempotency_key = models.CharField(max_length=100, null=True, blank=True)
+    # traceability (issue 9): the titrant lot and the standardisation whose concentration
+    # the result used; the instruments are in ``instrument_uses``
+    reagent_lot = models.ForeignKey(
+        "analyses.ReagentLot", null=True, blank=True, on_delete=models.PROTECT, related_name="results"
+    )
+    standardisation = models.ForeignKey(
+        "analyses.Standardisation", null=True, blank=True, on_delete=models.PROTECT, related_name="results"
+    )
+    titrant_concentration = models.TextField(blank=True, help_text="mol/L from the standardisation, Decimal string")
+    titrant_uncertainty = models.TextField(blank=True, help_text="its standard uncertainty, mol/L, Decimal string")
 
     class Meta:
         ordering = ["test_id", "replicate", "version"]

@@ -40,6 +40,7 @@ class ControlBaseline(models.Model):
 class AlertSource(models.TextChoices):
     TREND = "trend", "Trend rule"
     STABILITY = "stability", "Stability study"
+    TRACEABILITY = "traceability", "Reagent or instrument falling due"
 
 
 class AlertSeverity(models.TextChoices):

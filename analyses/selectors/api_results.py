@@ -8,4 +8,8 @@ from analyses.models import Result
 
 def result_rows() -> QuerySet[Result]:
     """Every result, with the user who entered it."""
-    return Result.objects.select_related("entered_by").order_by("test_id", "replicate", "version", "id")
+    return (
+        Result.objects.select_related("entered_by", "reagent_lot")
+        .prefetch_related("instrument_uses__instrument")
+        .order_by("test_id", "replicate", "version", "id")
+    )

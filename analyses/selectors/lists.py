@@ -59,7 +59,8 @@ def result_history(test: Test | int) -> QuerySet[Result]:
     test_id = test.pk if isinstance(test, Test) else test
     return (
         Result.objects.filter(test_id=test_id)
-        .select_related("entered_by", "supersedes")
+        .select_related("entered_by", "supersedes", "reagent_lot")
+        .prefetch_related("instrument_uses__instrument")
         .order_by("replicate", "version", "id")
     )
 

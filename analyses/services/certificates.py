@@ -29,6 +29,22 @@ def _method_facts(code: str) -> dict[str, Any]:
     return {"method_title": plugin.title, "standards": list(plugin.standards)}
 
 
+def measured_with(result) -> dict[str, Any]:
+    """What a replicate was measured with (issue 9): the titrant lot and its standardisation,
+    and each instrument with the calibration and check that made it usable."""
+    return {
+        "replicate": result.replicate,
+        "titrant_lot": result.reagent_lot.code if result.reagent_lot_id else None,
+        "standardisation": result.standardisation_id,
+        "titrant_concentration": result.titrant_concentration or None,
+        "titrant_uncertainty": result.titrant_uncertainty or None,
+        "instruments": [
+            {"asset_id": use.instrument.asset_id, "kind": use.instrument.kind, "calibration": use.calibration_id, "check": use.routine_check_id}
+            for use in result.instrument_uses.all()
+        ],
+    }
+
+
 def certificate_content(actor: Actor, lot: Lot, issued_at) -> dict[str, Any]:
     results = []
     specification_ids: set[int] = set()
@@ -38,7 +54,12 @@ def certificate_content(actor: Actor, lot: Lot, issued_at) -> dict[str, Any]:
                 continue
             line = test.specification_line
             specification_ids.add(line.specification_id)
-            replicates = test.results.filter(status=ResultStatus.CURRENT).order_by("replicate")
+            replicates = list(
+                test.results.filter(status=ResultStatus.CURRENT)
+                .select_related("reagent_lot", "standardisation")
+                .prefetch_related("instrument_uses__instrument")
+                .order_by("replicate")
+            )
             results.append(
                 {
                     "sample": sample.label,
@@ -48,6 +69,7 @@ def certificate_content(actor: Actor, lot: Lot, issued_at) -> dict[str, Any]:
                     **_method_facts(test.method_code),
                     "method_versions": sorted({r.method_version for r in replicates}),
                     "replicates": [r.reported for r in replicates],
+                    "measured_with": [measured_with(r) for r in replicates],
                     "reported": test.reported,
                     "unit": test.unit,
                     "minimum": line.minimum or None,

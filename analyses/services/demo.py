@@ -21,6 +21,7 @@ from django.utils import timezone
 from analyses.models import ApiToken, Investigation, Lot, Product, Sample, Test
 from analyses.roles import roles_ensure
 from analyses.services.assignments import test_assign_bulk
+from analyses.services.demo_bench import demo_bench_load, demo_bench_show, demo_trace
 from analyses.services.demo_monitoring import demo_monitoring_load
 from analyses.services.emergency import superuser_flags_clear
 from analyses.services.investigations import investigation_close
@@ -59,7 +60,8 @@ def demo_data(path: Path | str | None = None) -> dict[str, Any]:
 class _Lab:
     """The demo's people and products, and the steps each scenario is made of."""
 
-    def __init__(self, users: Mapping[str, Any], products: Mapping[str, Mapping[str, Any]]):
+    def __init__(self, users: Mapping[str, Any], products: Mapping[str, Mapping[str, Any]], bench: Mapping[str, Any]):
+        self.bench = bench
         self.users = users
         self.products = products
 
@@ -84,7 +86,7 @@ class _Lab:
         data = self.products[product]
         pair = (data["failing_inputs"] if failing else data["passing_inputs"])[test.method_code]
         for inputs in pair:
-            result_record(self.users[who], test, inputs=inputs)
+            result_record(self.users[who], test, **demo_trace(self.bench, test.method_code, inputs))
 
     def failing_method(self, product: str) -> str:
         return next(iter(self.products[product]["failing_inputs"]))
@@ -132,7 +134,7 @@ class _Lab:
         elif scenario == "in_testing":
             self.assign(tests, "analyst")
             inputs = self.products[product]["passing_inputs"][tests[0].method_code][0]
-            result_record(self.users["analyst"], tests[0], inputs=inputs)
+            result_record(self.users["analyst"], tests[0], **demo_trace(self.bench, tests[0].method_code, inputs))
         elif scenario == "overdue":
             self.assign(tests, "analyst2")
         elif scenario == "sent_back":
@@ -145,7 +147,7 @@ class _Lab:
                 self.enter(test, "analyst", product)
             first = tests[0].results.get(replicate=1, status="current")
             second_inputs = self.products[product]["passing_inputs"][tests[0].method_code][1]
-            result_correct(self.users["analyst"], first, inputs=second_inputs, reason=reason)
+            result_correct(self.users["analyst"], first, inputs=demo_trace(self.bench, first.method_code, second_inputs)["inputs"], reason=reason)
         else:
             raise ValueError(f"unknown demo scenario {scenario!r}")
 
@@ -245,9 +247,13 @@ def demo_load(*, path: Path | str | None = None, log: Log | None = None, new_tok
     users = _users(data, summary, log, new_tokens)
     log("Products and specifications:")
     _products(data, users, summary, log)
+    log("Instruments and titrant lots:")
+    demo_bench_load(data["bench"], users, log=log)
     log("Lots and samples:")
     products = {p["code"]: p for p in data["products"]}
-    _lots(data, _Lab(users, products), summary, log)
+    _lots(data, _Lab(users, products, data["bench"]), summary, log)
     log("QC series and stability study:")
-    demo_monitoring_load(users, log=log)
+    demo_monitoring_load(users, log=log, trace=lambda code, inputs: demo_trace(data["bench"], code, inputs))
+    log("Reagents and instruments at work:")
+    demo_bench_show(data["bench"], users, log=log)
     return summary

@@ -46,12 +46,17 @@ def pv_inputs(value: float) -> dict[str, str]:
 INPUTS_FOR = {"av": av_inputs, "pv": pv_inputs}
 
 
-def _complete(users: Mapping[str, Any], test: Test, value: float) -> None:
+# the result_record keywords for a method's readings: the inputs without the titrant strength
+# they were written for, the titrant lot of that strength and the instruments (demo_bench)
+Trace = Callable[[str, Mapping[str, Any]], dict[str, Any]]
+
+
+def _complete(users: Mapping[str, Any], test: Test, value: float, trace: Trace) -> None:
     """Assign, enter duplicates (identical readings) and accept as a second analyst."""
     test_assign_bulk(users["manager"], [test], assignee=users["analyst"])
-    inputs = INPUTS_FOR[test.method_code](value)
+    keywords = trace(test.method_code, INPUTS_FOR[test.method_code](value))
     for _ in range(test.replicates):
-        result_record(users["analyst"], test, inputs=inputs)
+        result_record(users["analyst"], test, **keywords)
     test_accept(users["analyst2"], Test.objects.get(pk=test.pk))
 
 
@@ -63,7 +68,7 @@ def qc_values(spec: Mapping[str, Any]) -> list[float]:
     return [round(float(v), 4) for v in np.concatenate([baseline, drift])]
 
 
-def _qc_series(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log) -> None:
+def _qc_series(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log, trace: Trace) -> None:
     if Lot.objects.filter(code=spec["lot"]).exists():
         log(f"  QC reference lot {spec['lot']}: exists, skipped")
         return
@@ -76,7 +81,7 @@ def _qc_series(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log) -> N
         )
         sample_receive(users["manager"], sample, condition="reference oil, sealed ampoule", storage_place="QC fridge",
                        received_at=received, methods=[spec["method"]])
-        _complete(users, sample.tests.get(), value)
+        _complete(users, sample.tests.get(), value, trace)
         if (index + 1) % 10 == 0:
             log(f"  QC reference lot {lot.code}: {index + 1}/{len(values)} check samples tested")
 
@@ -92,7 +97,7 @@ def pull_value(kinetics: Mapping[str, Any], method: str, celsius: float, months:
     return float((attribute["initial"] + rate * months) * scatter)
 
 
-def _stability_study(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log) -> None:
+def _stability_study(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log, trace: Trace) -> None:
     if StabilityStudy.objects.filter(code=spec["code"]).exists():
         log(f"  stability study {spec['code']}: exists, skipped")
         return
@@ -112,17 +117,19 @@ def _stability_study(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log
         for pull in pulls.order_by("condition__temperature_c"):
             for test in pull.sample.tests.order_by("method_code"):
                 value = pull_value(spec["kinetics"], test.method_code, pull.condition.temperature_c, pull.elapsed_months, index)
-                _complete(users, test, value)
+                _complete(users, test, value, trace)
         log(f"  stability study {study.code}: pulls due {due_on} taken and tested")
 
 
-def demo_monitoring_load(users: Mapping[str, Any], *, path: Path | str | None = None, log: Log | None = None) -> None:
+def demo_monitoring_load(
+    users: Mapping[str, Any], *, trace: Trace, path: Path | str | None = None, log: Log | None = None
+) -> None:
     """Build the QC series and the stability study, then scan and evaluate once so the
     alerts and the predicted shelf life are there at once (the worker repeats this)."""
     log = log or (lambda line: None)
     data = json.loads(Path(path or MONITORING_FILE).read_text(encoding="utf-8"))
-    _qc_series(data["qc_series"], users, log)
-    _stability_study(data["stability_study"], users, log)
+    _qc_series(data["qc_series"], users, log, trace)
+    _stability_study(data["stability_study"], users, log, trace)
     scan = trend_scan()
     log(f"  trend scan: {scan.results_scanned} results in {scan.series_scanned} series, {scan.alerts_raised} new alerts")
     log(f"  stability evaluation: {stability_studies_evaluate()} running studies evaluated")

@@ -6,6 +6,12 @@ version, and its verdict against the specification line. When the last replicate
 test arrives, the test gets the mean of its replicates (reported and judged the same way)
 and the plugin's duplicate check, and moves to ``result_entered``.
 
+Traceability (issue 9): an entry names the titrant lot and the instruments used
+(``titrant_lot``, ``instruments``); the plugin receives the lot's current standardised
+concentration as its ``titrant_concentration``, and the result keeps the lot, the
+standardisation, the concentration and its uncertainty, and each instrument with the
+calibration and check that made it usable (``analyses.services.result_trace``).
+
 Idempotency: a result entered with ``idempotency_key`` is returned, not entered again,
 when the same user sends the same key (a unique constraint backs this); the ``*_once``
 functions say whether a call was such a replay. A batch key gives item i the key "<key>#i".
@@ -43,6 +49,14 @@ from analyses.services.access import (
     required_text,
 )
 from analyses.services.review_warnings import line_inputs, test_review_warnings
+from analyses.services.result_trace import (
+    Trace,
+    refuse_typed_titrant,
+    trace_for_entry,
+    trace_is_complete,
+    trace_of,
+    trace_save,
+)
 from analyses.services.transitions import record_test_move, sample_require_workable
 from analyses.services.verdicts import line_verdict
 from labcore.metrics import RESULTS_ENTERED, count_on_commit
@@ -52,10 +66,10 @@ from plugins.registry import UnknownMethod, get_registry
 RESULT_FIELDS = (
     "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
     "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
-    "idempotency_key",
+    "idempotency_key", "reagent_lot", "standardisation", "titrant_concentration", "titrant_uncertainty",
 )
 AGGREGATE_FIELDS = ("value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "review_warnings")
-BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key"}
+BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key", "titrant_lot", "instruments"}
 KEY_MAX_CHARS = Result._meta.get_field("idempotency_key").max_length
 # the characters a reported value may take, in a result and in its test
 REPORTED_MAX_CHARS = min(Result._meta.get_field("reported").max_length, Test._meta.get_field("reported").max_length)
@@ -68,13 +82,13 @@ def _plugin(test: Test) -> MethodPlugin:
         raise Conflict(f"test {test.pk}: {exc}") from None
 
 
-def _calculate(plugin: MethodPlugin, test: Test, inputs: Any) -> MethodResult:
-    """The plugin's result for ``inputs``; MethodInputError becomes InvalidInput on
-    ``inputs.<field>``."""
+def _calculate(plugin: MethodPlugin, test: Test, inputs: Any, trace: Trace) -> MethodResult:
+    """The plugin's result for ``inputs`` with the trace's titrant concentration;
+    MethodInputError becomes InvalidInput on ``inputs.<field>``."""
     if not isinstance(inputs, Mapping):
         raise InvalidInput.for_field("inputs", "must be an object of name=value pairs")
     try:
-        outcome = plugin.calculate(line_inputs(plugin, test.specification_line, inputs))
+        outcome = plugin.calculate(trace.plugin_inputs(line_inputs(plugin, test.specification_line, inputs)))
     except MethodInputError as exc:
         field = "inputs" if exc.field == "inputs" else f"inputs.{exc.field}"
         raise InvalidInput.for_field(field, exc.reason) from None
@@ -187,10 +201,14 @@ def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | Non
         )
 
 
-def _result_fields(actor: Actor, test: Test, inputs: Any, outcome: MethodResult, aggregate: dict[str, Any] | None) -> dict[str, Any]:
+def _result_fields(
+    actor: Actor, test: Test, inputs: Any, outcome: MethodResult, aggregate: dict[str, Any] | None, trace: Trace
+) -> dict[str, Any]:
     """What every new result row records: the raw inputs, the plugin's outcome, the verdict,
-    the duplicate check once all replicates are in, and who entered it when."""
+    the duplicate check once all replicates are in, the titrant lot and standardisation, and
+    who entered it when."""
     return {
+        **trace.result_fields(),
         "test": test,
         "inputs": json_safe(dict(inputs)),
         "value": outcome.value,
@@ -204,6 +222,13 @@ def _result_fields(actor: Actor, test: Test, inputs: Any, outcome: MethodResult,
         "entered_by": actor,
         "entered_at": timezone.now(),
     }
+
+
+def _created_with_trace(result: Result, trace: Trace) -> dict[str, Any]:
+    """The audit entry's fields of a new result, with what it was measured with."""
+    changes = created(result, RESULT_FIELDS)
+    changes["measured_with"] = [None, json_safe(trace.describe())]
+    return changes
 
 
 def _replay(
@@ -222,6 +247,20 @@ def _replay(
     if first.correction_reason != reason:
         raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with another reason")
     return first
+
+
+def _check_same_trace(first: Result, key: str, titrant_lot: Any, instruments: Any) -> None:
+    """Conflict when a repeated key names another titrant lot or other instruments than the
+    result it first recorded (each as an id or a code)."""
+    if titrant_lot not in (None, ""):
+        lot = first.reagent_lot
+        if lot is None or titrant_lot not in (lot.pk, lot.code):
+            raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with another titrant lot")
+    if instruments is not None:
+        used = [(u.instrument_id, u.instrument.asset_id) for u in first.instrument_uses.select_related("instrument")]
+        named = list(instruments) if isinstance(instruments, (list, tuple)) else [instruments]
+        if len(named) != len(used) or any(not any(ref in pair for pair in used) for ref in named):
+            raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with other instruments")
 
 
 def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Result:
@@ -245,9 +284,14 @@ def result_record_once(
     inputs: Mapping[str, Any],
     replicate: int | None = None,
     idempotency_key: str | None = None,
+    titrant_lot: int | str | None = None,
+    instruments: Sequence[int | str] | None = None,
 ) -> Recorded:
     """Enter one replicate of a test (the next free one, or ``replicate``), and say whether
-    this was a replay.
+    this was a replay. ``titrant_lot`` and ``instruments`` (ids, or the lot code and asset
+    ids) name what it was measured with; the method's titrant concentration comes from the
+    lot's current standardisation, and a lot or instrument that may not be used is a
+    Conflict naming it.
 
     Only the test's assignee may enter (admins: any test); QA reviewers never. The test
     must be assigned or sent back, its sample workable and its lot open. Plugin input
@@ -264,6 +308,7 @@ def result_record_once(
         if key:
             first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
             if first is not None:
+                _check_same_trace(first, key, titrant_lot, instruments)
                 return Recorded(_replay(first, test, inputs, key), replayed=True)
         _check_may_enter(actor, test)
         _check_workable(test)
@@ -278,19 +323,21 @@ def result_record_once(
         elif replicate in current:
             raise Conflict(f"test {test.pk} already has replicate {replicate} (result {current[replicate].pk}); correct it instead")
         plugin = _plugin(test)
-        outcome = _calculate(plugin, test, inputs)
+        trace = trace_for_entry(plugin, inputs, titrant_lot=titrant_lot, instruments=instruments, now=timezone.now())
+        outcome = _calculate(plugin, test, inputs, trace)
         values = [exact_value(r) for r in current.values()] + [outcome.judged]
         complete = len(values) == test.replicates
         aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
         result = Result(
             replicate=replicate, idempotency_key=key,
-            **_result_fields(actor, test, inputs, outcome, aggregate),
+            **_result_fields(actor, test, inputs, outcome, aggregate, trace),
         )
         inserted = _insert(result, actor=actor, key=key, test=test)
         if inserted is not result:  # a concurrent twin of this request won
             return Recorded(inserted, replayed=True)
+        trace_save(result, trace)
         audit_append(
-            actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS),
+            actor, AuditAction.CREATE, result, _created_with_trace(result, trace),
             lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
         )
         if complete:
@@ -307,9 +354,14 @@ def result_record(
     inputs: Mapping[str, Any],
     replicate: int | None = None,
     idempotency_key: str | None = None,
+    titrant_lot: int | str | None = None,
+    instruments: Sequence[int | str] | None = None,
 ) -> Result:
     """``result_record_once`` for callers that need only the result."""
-    return result_record_once(actor, test, inputs=inputs, replicate=replicate, idempotency_key=idempotency_key).result
+    return result_record_once(
+        actor, test, inputs=inputs, replicate=replicate, idempotency_key=idempotency_key,
+        titrant_lot=titrant_lot, instruments=instruments,
+    ).result
 
 
 def _prefixed(exc: DomainError, index: int) -> DomainError:
@@ -329,7 +381,7 @@ def result_record_bulk_once(
     actor: Actor, results: Sequence[Mapping[str, Any]], *, idempotency_key: str | None = None
 ) -> RecordedBatch:
     """Enter many results in one transaction, each item ``{"test", "inputs", "replicate"?,
-    "idempotency_key"?}``. With the batch's ``idempotency_key``, item i without its own
+    "idempotency_key"?, "titrant_lot"?, "instruments"?}``. With the batch's ``idempotency_key``, item i without its own
     key uses "<key>#i", so the whole batch can be retried. All or nothing: the first error
     rolls everything back and names the item, e.g. InvalidInput with fields
     ``{"results.2.inputs.sample_mass": [...]}``; an unknown test is InvalidInput on
@@ -357,7 +409,8 @@ def result_record_bulk_once(
                     key = f"{batch_key}#{index}"
                 recorded.append(
                     result_record_once(
-                        actor, item["test"], inputs=item.get("inputs"), replicate=item.get("replicate"), idempotency_key=key
+                        actor, item["test"], inputs=item.get("inputs"), replicate=item.get("replicate"), idempotency_key=key,
+                        titrant_lot=item.get("titrant_lot"), instruments=item.get("instruments"),
                     )
                 )
             except DomainError as exc:
@@ -379,9 +432,13 @@ def result_correct_once(
     inputs: Mapping[str, Any],
     reason: str,
     idempotency_key: str | None = None,
+    titrant_lot: int | str | None = None,
+    instruments: Sequence[int | str] | None = None,
 ) -> Recorded:
     """Correct a current result: a new version with the new inputs and the mandatory
-    ``reason`` is inserted and the old one marked superseded (it stays visible). Only
+    ``reason`` is inserted and the old one marked superseded (it stays visible). Without
+    ``titrant_lot`` and ``instruments`` the correction keeps what the result was measured
+    with (judged usable when it was entered); naming either checks them as for an entry. Only
     before acceptance, by the test's assignee (admins: any). A complete test's mean,
     verdict and duplicate check are recomputed. With ``idempotency_key``, the same
     correction repeated returns the first one, ``replayed``."""
@@ -407,7 +464,18 @@ def result_correct_once(
             raise Conflict(f"test {test.pk} is {test.state}; its results can no longer be corrected")
         sample_require_workable(test.sample)
         plugin = _plugin(test)
-        outcome = _calculate(plugin, test, inputs)
+        kept = trace_of(old)
+        if titrant_lot is None and instruments is None and trace_is_complete(plugin, kept):
+            refuse_typed_titrant(plugin, inputs)
+            trace = kept
+        else:
+            trace = trace_for_entry(
+                plugin, inputs,
+                titrant_lot=titrant_lot if titrant_lot is not None else (kept.lot.pk if kept.lot else None),
+                instruments=instruments if instruments is not None else ([u.instrument.pk for u in kept.uses] or None),
+                now=timezone.now(),
+            )
+        outcome = _calculate(plugin, test, inputs, trace)
         old.status = ResultStatus.SUPERSEDED
         old.status_reason = reason
         old.save(update_fields=["status", "status_reason"])
@@ -421,15 +489,16 @@ def result_correct_once(
         aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
         correction = Result(
             replicate=old.replicate, version=old.version + 1, supersedes=old, correction_reason=reason,
-            idempotency_key=key, **_result_fields(actor, test, inputs, outcome, aggregate),
+            idempotency_key=key, **_result_fields(actor, test, inputs, outcome, aggregate, trace),
         )
         inserted = _insert(correction, actor=actor, key=key, test=test)
         if inserted is not correction:
             # a concurrent twin of this very request won; undo the superseding above
             transaction.set_rollback(True)
             return Recorded(inserted, replayed=True)
+        trace_save(correction, trace)
         audit_append(
-            actor, AuditAction.CREATE, correction, created(correction, RESULT_FIELDS),
+            actor, AuditAction.CREATE, correction, _created_with_trace(correction, trace),
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
         )
         if complete:
@@ -445,6 +514,11 @@ def result_correct(
     inputs: Mapping[str, Any],
     reason: str,
     idempotency_key: str | None = None,
+    titrant_lot: int | str | None = None,
+    instruments: Sequence[int | str] | None = None,
 ) -> Result:
     """``result_correct_once`` for callers that need only the correction."""
-    return result_correct_once(actor, result, inputs=inputs, reason=reason, idempotency_key=idempotency_key).result
+    return result_correct_once(
+        actor, result, inputs=inputs, reason=reason, idempotency_key=idempotency_key,
+        titrant_lot=titrant_lot, instruments=instruments,
+    ).result

@@ -6,6 +6,7 @@ from collections.abc import Mapping
 from typing import Any
 
 from analyses.models import ResultStatus, SpecificationLine, Test
+from analyses.services.result_trace import TITRANT_INPUT
 from plugins.blanks import blank_warnings
 from plugins.contract import MethodInputError, MethodPlugin
 from plugins.review_warnings import scope_warnings
@@ -27,8 +28,11 @@ def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
     """Blank warnings of each current replicate, one line per distinct warning naming the replicates."""
     by_warning: dict[str, list[int]] = {}
     for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
+        stored = dict(result.inputs)
+        if result.titrant_concentration:  # entered from a standardised lot (issue 9), not typed
+            stored.setdefault(TITRANT_INPUT, result.titrant_concentration)
         try:
-            values = plugin.validate(line_inputs(plugin, test.specification_line, result.inputs))
+            values = plugin.validate(line_inputs(plugin, test.specification_line, stored))
         except MethodInputError as exc:  # entered under an older version of the method's checks
             found = [f"its inputs no longer pass method {plugin.code}'s checks ({exc.field}: {exc.reason})"]
         else:

@@ -77,6 +77,22 @@ class CertificateSpecificationSerializer(serializers.Serializer):
     approved_at = serializers.DateTimeField(allow_null=True)
 
 
+class CertificateInstrumentSerializer(serializers.Serializer):
+    asset_id = serializers.CharField()
+    kind = serializers.CharField()
+    calibration = serializers.IntegerField(help_text="The calibration that made it usable")
+    check = serializers.IntegerField(allow_null=True, help_text="The routine check that made it usable")
+
+
+class CertificateMeasuredWithSerializer(serializers.Serializer):
+    replicate = serializers.IntegerField()
+    titrant_lot = serializers.CharField(allow_null=True)
+    standardisation = serializers.IntegerField(allow_null=True)
+    titrant_concentration = serializers.CharField(allow_null=True, help_text="mol/L, from the standardisation")
+    titrant_uncertainty = serializers.CharField(allow_null=True, help_text="its standard uncertainty, mol/L")
+    instruments = CertificateInstrumentSerializer(many=True)
+
+
 class CertificateResultSerializer(serializers.Serializer):
     sample = serializers.CharField(help_text="Sample label")
     sample_kind = serializers.CharField()
@@ -86,6 +102,7 @@ class CertificateResultSerializer(serializers.Serializer):
     standards = serializers.ListField(child=serializers.CharField())
     method_versions = serializers.ListField(child=serializers.CharField())
     replicates = serializers.ListField(child=serializers.CharField(), help_text="Each replicate as reported")
+    measured_with = CertificateMeasuredWithSerializer(many=True, required=False, help_text="Per replicate (issue 9)")
     reported = serializers.CharField(help_text="Mean of the replicates, ASTM E29 rounded")
     unit = serializers.CharField()
     minimum = serializers.CharField(allow_null=True)

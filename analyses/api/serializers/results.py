@@ -1,6 +1,7 @@
 """Results: entry one at a time or in bulk, corrections, history."""
 from __future__ import annotations
 
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
@@ -13,15 +14,45 @@ INPUTS_HELP = (
 )
 
 
+@extend_schema_field({"oneOf": [{"type": "integer"}, {"type": "string"}]})
+class ReferenceField(serializers.Field):
+    """An item named by its id (an integer) or its code (a string): a titrant lot's code, an
+    instrument's asset id."""
+
+    default_error_messages = {"invalid": "must be an id or a code"}
+
+    def to_internal_value(self, data):
+        if isinstance(data, bool) or not isinstance(data, (int, str)) or (isinstance(data, str) and not data.strip()):
+            self.fail("invalid")
+        return data
+
+    def to_representation(self, value):
+        return value
+
+
+TRACE_HELP = "Titrant lot (id or lot code) whose current standardisation gives the titrant concentration"
+INSTRUMENTS_HELP = "Instruments used (ids or asset ids); see the method's `instruments` at /api/methods/{code}/"
+
+
+class ResultInstrumentSerializer(serializers.Serializer):
+    asset_id = serializers.CharField(source="instrument.asset_id")
+    kind = serializers.CharField(source="instrument.kind")
+    calibration = serializers.IntegerField(source="calibration_id")
+    check = serializers.IntegerField(source="routine_check_id", allow_null=True)
+
+
 class ResultSerializer(serializers.ModelSerializer):
     entered_by = username_field("entered_by")
+    titrant_lot = serializers.CharField(source="reagent_lot.code", read_only=True, allow_null=True)
+    instruments = ResultInstrumentSerializer(source="instrument_uses", many=True, read_only=True)
 
     class Meta:
         model = Result
         fields = [
             "id", "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
             "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
-            "status_reason", "entered_by", "entered_at",
+            "status_reason", "entered_by", "entered_at", "titrant_lot", "standardisation", "titrant_concentration",
+            "titrant_uncertainty", "instruments",
         ]
         read_only_fields = fields
 
@@ -29,12 +60,16 @@ class ResultSerializer(serializers.ModelSerializer):
 class ResultRecordSerializer(StrictSerializer):
     test = serializers.PrimaryKeyRelatedField(queryset=Test.objects.all())
     inputs = serializers.DictField(help_text=INPUTS_HELP)
+    titrant_lot = ReferenceField(required=False, help_text=TRACE_HELP)
+    instruments = serializers.ListField(child=ReferenceField(), required=False, max_length=20, help_text=INSTRUMENTS_HELP)
     replicate = serializers.IntegerField(required=False, min_value=1, help_text="Default: the next free replicate")
 
 
 class BulkResultItemSerializer(StrictSerializer):
     test = serializers.IntegerField(help_text="Test id")
     inputs = serializers.DictField(help_text=INPUTS_HELP)
+    titrant_lot = ReferenceField(required=False, help_text=TRACE_HELP)
+    instruments = serializers.ListField(child=ReferenceField(), required=False, max_length=20, help_text=INSTRUMENTS_HELP)
     replicate = serializers.IntegerField(required=False, min_value=1, help_text="Default: the next free replicate")
     idempotency_key = TextField(
         required=False, max_length=100,
@@ -48,4 +83,8 @@ class ResultRecordBulkSerializer(StrictSerializer):
 
 class ResultCorrectSerializer(StrictSerializer):
     inputs = serializers.DictField(help_text=INPUTS_HELP)
+    titrant_lot = ReferenceField(required=False, help_text=TRACE_HELP + "; default: the corrected result's")
+    instruments = serializers.ListField(
+        child=ReferenceField(), required=False, max_length=20, help_text=INSTRUMENTS_HELP + "; default: the corrected result's"
+    )
     reason = TextField(help_text="Why the result is corrected; kept with the new version")

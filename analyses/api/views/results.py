@@ -49,7 +49,7 @@ class ResultRecordView(APIView):
         data = validated(ResultRecordSerializer, request)
         recorded = result_record_once(
             request.user, data["test"], inputs=data["inputs"], replicate=data.get("replicate"),
-            idempotency_key=idempotency_key(request),
+            idempotency_key=idempotency_key(request), titrant_lot=data.get("titrant_lot"), instruments=data.get("instruments"),
         )
         return _created(ResultSerializer(recorded.result).data, recorded.replayed)
 
@@ -98,6 +98,7 @@ class ResultCorrectView(APIView):
     def post(self, request: Request, pk: int) -> Response:
         data = validated(ResultCorrectSerializer, request)
         recorded = result_correct_once(
-            request.user, pk, inputs=data["inputs"], reason=data["reason"], idempotency_key=idempotency_key(request)
+            request.user, pk, inputs=data["inputs"], reason=data["reason"], idempotency_key=idempotency_key(request),
+            titrant_lot=data.get("titrant_lot"), instruments=data.get("instruments"),
         )
         return _created(ResultSerializer(recorded.result).data, recorded.replayed)

@@ -9,9 +9,16 @@ from rest_framework.test import APIClient
 
 from analyses.models import (
     AuditEntry,
+    Calibration,
     Certificate,
+    Instrument,
+    InstrumentCheck,
     Investigation,
     Lot,
+    ReagentKind,
+    ReagentLot,
+    ResultInstrument,
+    Standardisation,
     Product,
     Result,
     Sample,
@@ -29,7 +36,10 @@ from analyses.services.specifications import specification_approve, specificatio
 from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
 from tests.factories import ProductFactory
 
-WRITTEN_MODELS = (Product, Specification, SpecificationLine, Lot, Sample, Test, Result, Investigation, Certificate, AuditEntry)
+WRITTEN_MODELS = (
+    Product, Specification, SpecificationLine, Lot, Sample, Test, Result, Investigation, Certificate, AuditEntry,
+    ReagentKind, ReagentLot, Standardisation, Instrument, Calibration, InstrumentCheck, ResultInstrument,
+)
 
 
 def row_counts() -> dict[str, int]:

@@ -8,10 +8,10 @@ from dataclasses import dataclass
 
 import pytest
 
-from analyses.models import Result
+from analyses.models import ReagentLot, Result
 from analyses.services.results import result_record
 from tests.analyses.api.support import Call, Lab, row_counts
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, PV_TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -50,7 +50,7 @@ def _assign(lab: Lab, **changes) -> Call:
 
 def _record(lab: Lab, headers=None, **changes) -> Call:
     av_test, _ = lab.assigned("analyst")
-    return Call("post", "/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **changes}, headers=headers or {})
+    return Call("post", "/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE, **changes}, headers=headers or {})
 
 
 def _bulk(lab: Lab, *items) -> Call:
@@ -61,7 +61,7 @@ def _bulk(lab: Lab, *items) -> Call:
 
 def _correct(lab: Lab, **body) -> Call:
     av_test, _ = lab.assigned("analyst")
-    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW, **AV_TRACE)
     return Call("post", f"/api/results/{result.pk}/correct/", body)
 
 
@@ -176,8 +176,8 @@ CASES = [
     Bad("result: input in the wrong unit", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_mass": "20 mL"}), "inputs.sample_mass"),
     Bad(
         "result: input missing", "analyst",
-        lambda lab: _record(lab, inputs={k: v for k, v in AV_LOW.items() if k != "titrant_concentration"}),
-        "inputs.titrant_concentration",
+        lambda lab: _record(lab, inputs={k: v for k, v in AV_LOW.items() if k != "sample_volume"}),
+        "inputs.sample_volume",
     ),
     Bad("result: inputs giving a result too large to report", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_mass": "1e-300"}), "inputs"),
     Bad("result: replicate zero", "analyst", lambda lab: _record(lab, replicate=0), "replicate"),
@@ -189,14 +189,14 @@ CASES = [
     Bad(
         "bulk: third item bad, the first two not written", "analyst",
         lambda lab: _bulk(
-            lab, {"test": "av", "inputs": AV_LOW}, {"test": "av", "inputs": AV_LOW_TWIN},
-            {"test": "pv", "inputs": {"sample_mass": "x", "sample_volume": "1", "blank_volume": "0", "titrant_concentration": "0.01"}},
+            lab, {"test": "av", "inputs": AV_LOW, **AV_TRACE}, {"test": "av", "inputs": AV_LOW_TWIN, **AV_TRACE},
+            {"test": "pv", "inputs": {"sample_mass": "x", "sample_volume": "1", "blank_volume": "0"}, **PV_TRACE},
         ),
         "results.2.inputs.sample_mass",
     ),
-    Bad("bulk: unknown test", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW}, {"test": 999999, "inputs": AV_LOW}), "results.1.test"),
+    Bad("bulk: unknown test", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, **AV_TRACE}, {"test": 999999, "inputs": AV_LOW, **AV_TRACE}), "results.1.test"),
     Bad("bulk: inputs missing", "analyst", lambda lab: _bulk(lab, {"test": "av"}), "results.0.inputs"),
-    Bad("bulk: misspelt item field", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicat": 1}), "results.0.replicat"),
+    Bad("bulk: misspelt item field", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicat": 1, **AV_TRACE}), "results.0.replicat"),
     Bad("correct: reason missing", "analyst", lambda lab: _correct(lab, inputs=AV_LOW_TWIN), "reason"),
     Bad("correct: reason a number, not text", "analyst", lambda lab: _correct(lab, inputs=AV_LOW_TWIN, reason=1.5), "reason"),
     Bad("correct: input not a number", "analyst", lambda lab: _correct(lab, inputs={**AV_LOW, "sample_volume": "?"}, reason="misread"), "inputs.sample_volume"),
@@ -332,7 +332,7 @@ ODD_BODIES = {
 
 def _a_result(lab: Lab) -> Result:
     av_test, _ = lab.assigned("analyst", label="L-200-C")
-    return result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+    return result_record(lab.users["analyst"], av_test, inputs=AV_LOW, **AV_TRACE)
 
 
 @pytest.mark.parametrize("body_name", list(ODD_BODIES))
@@ -348,7 +348,9 @@ def test_odd_bodies_are_refused_as_input_never_a_server_error(role, method, path
 
 def test_form_encoded_input_is_read_or_refused_never_a_server_error(lab, clients):
     av_test, _ = lab.assigned("analyst")
-    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": "sample_mass=20"})  # multipart
+    response = clients["analyst"].post(  # multipart
+        "/api/results/", {"test": av_test.pk, "inputs": "sample_mass=20", **AV_TRACE}
+    )
     assert response.status_code == 400
     assert all(name.startswith("inputs") for name in response.json()["fields"])
     plain = clients["analyst"].generic("POST", "/api/results/", "test=1", content_type="text/plain")
@@ -369,9 +371,18 @@ ONE_HUGE_ID = [
     Bad("huge id: assignee", "manager", lambda lab: _assign(lab, assignee=HUGE_ID), "assignee"),
     Bad("huge id: result test", "analyst", lambda lab: _record(lab, test=HUGE_ID), "test"),
     Bad("huge id: result replicate", "analyst", lambda lab: _record(lab, replicate=HUGE_ID), "replicate"),
-    Bad("huge id: bulk item test", "analyst", lambda lab: _bulk(lab, {"test": HUGE_ID, "inputs": AV_LOW}), "results.0.test"),
-    Bad("huge id: bulk item replicate", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicate": HUGE_ID}), "results.0.replicate"),
+    Bad("huge id: bulk item test", "analyst", lambda lab: _bulk(lab, {"test": HUGE_ID, "inputs": AV_LOW, **AV_TRACE}), "results.0.test"),
+    Bad("huge id: bulk item replicate", "analyst", lambda lab: _bulk(lab, {"test": "av", "inputs": AV_LOW, "replicate": HUGE_ID, **AV_TRACE}), "results.0.replicate"),
     Bad("huge quantity", "manager", lambda lab: _lot(lab, quantity_kg="1e30"), "quantity_kg"),
+    Bad("huge id: result titrant lot", "analyst", lambda lab: _record(lab, titrant_lot=HUGE_ID), "titrant_lot"),
+    Bad("huge id: result instrument", "analyst", lambda lab: _record(lab, instruments=["BAL-BENCH", HUGE_ID]), "instruments.1"),
+    Bad(
+        "huge id: standardisation burette", "analyst",
+        lambda lab: Call("post", f"/api/reagent-lots/{ReagentLot.objects.get(code='KOH-BENCH').pk}/standardisations/", {
+            "primary_standard": "khp", "replicates": [{"mass": "0.4", "titre": "20"}] * 2, "burette": HUGE_ID,
+        }),
+        "burette",
+    ),
 ]
 
 

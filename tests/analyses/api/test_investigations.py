@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
+from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, AV_TRACE, PV_LOW, PV_LOW_TWIN, TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -21,7 +21,7 @@ def oos(lab, clients) -> dict:
     analyst, accepted by a second analyst, all through the API."""
     av_test, pv_test = lab.assigned("analyst")
     for test, pair in ((av_test, (AV_HIGH, AV_HIGH_TWIN)), (pv_test, (PV_LOW, PV_LOW_TWIN))):
-        items = [{"test": test.pk, "inputs": inputs} for inputs in pair]
+        items = [{"test": test.pk, "inputs": inputs, **TRACE[test.method_code]} for inputs in pair]
         ok(clients["analyst"].post("/api/results/bulk/", {"results": items}, format="json"), 201)
     av = ok(clients["analyst2"].post(f"/api/tests/{av_test.pk}/accept/", format="json"))
     assert av["verdict"] == "oos" and av["state"] == "accepted"
@@ -79,7 +79,7 @@ def test_lab_error_invalidates_and_the_retest_goes_to_release(oos, users, lab, c
 
     ok(clients["manager"].post("/api/tests/assign/", {"tests": [retest_id], "assignee": users["analyst2"].pk}, format="json"))
     for inputs in (AV_LOW, AV_LOW_TWIN):
-        ok(clients["analyst2"].post("/api/results/", {"test": retest_id, "inputs": inputs}, format="json"), 201)
+        ok(clients["analyst2"].post("/api/results/", {"test": retest_id, "inputs": inputs, **AV_TRACE}, format="json"), 201)
     accepted = ok(clients["analyst"].post(f"/api/tests/{retest_id}/accept/", format="json"))
     assert accepted["verdict"] == "pass"
     certificate = ok(clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json"), 201)

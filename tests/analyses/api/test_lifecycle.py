@@ -8,7 +8,7 @@ from decimal import Decimal
 import pytest
 
 from analyses.audit import audit_chain_verify
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -62,7 +62,7 @@ def test_receipt_to_release_and_certificate(users, clients):
     for code, pair in (("av", (AV_LOW, AV_LOW_TWIN)), ("pv", (PV_LOW, PV_LOW_TWIN))):
         for number, inputs in enumerate(pair, start=1):
             entered.append(ok(analyst.post(
-                "/api/results/", {"test": tests[code]["id"], "inputs": inputs}, format="json",
+                "/api/results/", {"test": tests[code]["id"], "inputs": inputs, **TRACE[code]}, format="json",
                 HTTP_IDEMPOTENCY_KEY=f"bench-7-{code}-{number}",
             ), 201))
     # ISO 660: (1.30 - 0.05) * 0.1 * 56.1 / 20.0 = 0.350625 mg KOH/g -> "0.35" (ASTM E29, 2 places)

@@ -17,6 +17,11 @@ def test_method_list_carries_metadata(api, db):
 
 def test_method_detail_and_unknown_method(api, db):
     assert api.get("/api/methods/pv/").json()["standards"] == ["AOCS Cd 8b-90", "ISO 3960"]
+    # issue 9: what an entry must name
+    av = api.get("/api/methods/av/").json()
+    assert av["titrants"] == ["KOH", "NaOH"]
+    assert av["instruments"] == [{"any_of": ["balance"]}, {"any_of": ["burette", "automatic_titrator"]}]
+    assert api.get("/api/methods/anv/").json()["instruments"] == [{"any_of": ["balance"]}, {"any_of": ["spectrophotometer"]}]
     missing = api.get("/api/methods/nope/")
     assert missing.status_code == 404
     assert "unknown method 'nope'" in missing.json()["detail"]

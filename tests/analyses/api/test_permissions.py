@@ -15,13 +15,14 @@ from django.utils import timezone
 
 from analyses.api.urls import urlpatterns
 from analyses.api.urls_monitoring import urlpatterns as monitoring_urlpatterns
-from analyses.models import Alert, Result, SampleState
+from analyses.api.urls_traceability import urlpatterns as traceability_urlpatterns
+from analyses.models import Alert, Instrument, ReagentKind, ReagentLot, Result, SampleState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.results import result_record
 from analyses.services.samples import sample_hold
 from analyses.services.stability import stability_study_create
 from tests.analyses.api.support import Call, Lab, row_counts
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE
 from tests.factories import UserFactory
 
 pytestmark = pytest.mark.django_db
@@ -44,7 +45,7 @@ def _resume(lab: Lab) -> Call:
 
 def _correct(lab: Lab) -> Call:
     av_test, _ = lab.assigned("analyst")
-    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW)
+    result = result_record(lab.users["analyst"], av_test, inputs=AV_LOW, **AV_TRACE)
     return Call("post", f"/api/results/{result.pk}/correct/", {"inputs": AV_LOW_TWIN, "reason": "burette misread"})
 
 
@@ -72,6 +73,28 @@ def _alert(lab: Lab) -> int:
     return alert.pk
 
 
+def _bench(name: str) -> int:
+    """A row of the bench fixture (tests/analyses/lab_setup.py) by its code."""
+    if name.startswith(("BAL", "BUR", "UV")):
+        return Instrument.objects.get(asset_id=name).pk
+    return ReagentLot.objects.get(code=name).pk
+
+
+KHP_REPLICATES = [{"mass": "0.4084", "titre": "20.00"}, {"mass": "0.4085", "titre": "20.01"}]
+
+
+def _standardise(lab: Lab) -> Call:
+    body = {"primary_standard": "khp", "replicates": KHP_REPLICATES, "balance": _bench("BAL-BENCH"), "burette": _bench("BUR-BENCH")}
+    return Call("post", f"/api/reagent-lots/{_bench('KOH-BENCH')}/standardisations/", body)
+
+
+def _supersede(lab: Lab) -> Call:
+    lot = ReagentLot.objects.get(code="KOH-BENCH")
+    body = {"primary_standard": "khp", "replicates": KHP_REPLICATES, "balance": _bench("BAL-BENCH"),
+            "burette": _bench("BUR-BENCH"), "reason": "KHP mass transcribed wrongly"}
+    return Call("post", f"/api/standardisations/{lot.standardisations.get().pk}/supersede/", body)
+
+
 MANAGER_ADMIN = {"manager": 201, "admin": 201, "superuser": 201}
 DRAFTERS = {"manager": 201, "qa": 201, "admin": 201, "superuser": 201}
 QA_ADMIN_200 = {"qa": 200, "admin": 200, "superuser": 200}
@@ -79,6 +102,7 @@ ENTERERS = {"analyst": 201, "admin": 201, "superuser": 201}
 REVIEWERS = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200, "superuser": 200}
 MANAGER_QA_ADMIN_200 = {"manager": 200, "qa": 200, "admin": 200, "superuser": 200}
 MANAGER_ADMIN_200 = {"manager": 200, "admin": 200, "superuser": 200}
+SIGNED_IN_READ = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200, "nobody": 200, "superuser": 200}
 
 CASES = [
     Case("product create", lambda lab: Call("post", "/api/products/", {"code": "HOO", "name": "High-oleic oil"}), MANAGER_ADMIN),
@@ -134,10 +158,10 @@ CASES = [
         lambda lab: Call("post", f"/api/tests/{lab.entered('analyst2')[0].pk}/send-back/", {"reason": "blank too high"}),
         REVIEWERS,
     ),
-    Case("result record", lambda lab: Call("post", "/api/results/", {"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW}), ENTERERS),
+    Case("result record", lambda lab: Call("post", "/api/results/", {"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW, **AV_TRACE}), ENTERERS),
     Case(
         "result record bulk",
-        lambda lab: Call("post", "/api/results/bulk/", {"results": [{"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW}]}),
+        lambda lab: Call("post", "/api/results/bulk/", {"results": [{"test": lab.assigned("analyst")[0].pk, "inputs": AV_LOW, **AV_TRACE}]}),
         ENTERERS,
     ),
     Case("result correct", _correct, ENTERERS),
@@ -167,6 +191,47 @@ CASES = [
         }),
         {"qa": 201, "admin": 201, "superuser": 201},
     ),
+    # traceable measurements (issue 9): analysts record standardisations and routine checks; lab
+    # managers and admins register instruments, reagent kinds and calibrations; QA reads everything
+    Case(
+        "reagent kind create",
+        lambda lab: Call("post", "/api/reagent-kinds/", {"name": "HCl 1 mol/L", "substance": "HCl", "nominal_concentration": "1 N", "validity_days": 30}),
+        MANAGER_ADMIN,
+    ),
+    Case(
+        "reagent kind change",
+        lambda lab: Call("post", f"/api/reagent-kinds/{ReagentKind.objects.get(name='KOH 0.1 mol/L').pk}/change/",
+                         {"validity_days": 1, "reason": "drifts in warm weather"}),
+        {"manager": 200, "admin": 200},
+    ),
+    Case(
+        "reagent lot register",
+        lambda lab: Call("post", "/api/reagent-lots/", {
+            "kind": ReagentKind.objects.get(name="KOH 0.1 mol/L").pk, "code": "KOH-PERM", "prepared_on": "2026-01-05",
+            "expires_on": "2027-01-05", "prepared_by": "T. Reyne",
+        }),
+        {"manager": 201, "analyst": 201, "admin": 201},
+    ),
+    Case("standardisation record", _standardise, ENTERERS),
+    Case("standardisation supersede", _supersede, ENTERERS),
+    Case("instrument register", lambda lab: Call("post", "/api/instruments/", {"asset_id": "OV-1", "kind": "oven"}), MANAGER_ADMIN),
+    Case(
+        "calibration record",
+        lambda lab: Call("post", f"/api/instruments/{_bench('BUR-BENCH')}/calibrations/", {
+            "calibrated_on": "2026-01-10", "due_on": "2027-01-10", "certificate_ref": "CERT-9", "passed": True,
+            "tolerance": "0.03", "unit": "mL",
+        }),
+        MANAGER_ADMIN,
+    ),
+    Case(
+        "instrument check record",
+        lambda lab: Call("post", f"/api/instruments/{_bench('BAL-BENCH')}/checks/", {
+            "kind": "check_weight", "nominal": "100.0000", "measured": "100.0001", "tolerance": "0.0005",
+        }),
+        ENTERERS,
+    ),
+    Case("reagent lot impact", lambda lab: Call("get", f"/api/reagent-lots/{_bench('KOH-BENCH')}/impact/"), SIGNED_IN_READ),
+    Case("instrument impact", lambda lab: Call("get", f"/api/instruments/{_bench('BAL-BENCH')}/impact/?from=2026-01-01"), SIGNED_IN_READ),
     # restricted reads
     Case("lot audit trail", lambda lab: Call("get", f"/api/lots/{lab.lot.pk}/audit-trail/"), MANAGER_QA_ADMIN_200),
     Case(
@@ -210,7 +275,7 @@ def test_every_state_changing_route_is_in_the_matrix():
     """A new write endpoint must be added to the matrix above."""
     covered = {case.name for case in CASES}
     writers = {
-        pattern.name for pattern in [*urlpatterns, *monitoring_urlpatterns]
+        pattern.name for pattern in [*urlpatterns, *monitoring_urlpatterns, *traceability_urlpatterns]
         if any(hasattr(pattern.callback.view_class, method) for method in ("post", "put", "patch", "delete"))
     }
     expected_names = {
@@ -225,6 +290,10 @@ def test_every_state_changing_route_is_in_the_matrix():
         "study-list": "stability study create", "study-evaluate": "stability study evaluate",
         "study-close": "stability study close", "alert-acknowledge": "alert acknowledge",
         "baseline-list": "control baseline create",
+        "reagent-kind-list": "reagent kind create", "reagent-kind-change": "reagent kind change",
+        "reagent-lot-list": "reagent lot register", "reagent-lot-standardisations": "standardisation record",
+        "standardisation-supersede": "standardisation supersede", "instrument-list": "instrument register",
+        "instrument-calibrations": "calibration record", "instrument-checks": "instrument check record",
     }
     # stateless or open to everyone: the calculator and the token endpoint; and revoking one's
     # own token, open to every signed-in user (tests/analyses/api/test_tokens.py: others' are 404)
@@ -240,7 +309,7 @@ def test_qa_in_the_analyst_group_still_may_not_enter_results(users, lab, clients
     av_test, _ = lab.assigned("analyst")
     test_assign_bulk(lab.manager, [av_test], assignee=both)
     both.groups.add(Group.objects.get(name="qa_reviewer"))  # joined QA after the assignment
-    response = client_for(both).post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
+    response = client_for(both).post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, format="json")
     assert response.status_code == 403
     assert "QA reviewer" in response.json()["detail"]
     assert not Result.objects.exists()
@@ -266,7 +335,7 @@ def test_four_eyes_the_enterer_may_not_accept(lab, clients):
 
 def test_an_analyst_may_not_enter_results_on_another_analysts_test(lab, clients):
     av_test, _ = lab.assigned("analyst2")
-    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json")
+    response = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, format="json")
     assert response.status_code == 403
     assert "assigned to analyst2" in response.json()["detail"]
 

@@ -11,10 +11,16 @@ from django.test.utils import CaptureQueriesContext
 from django.utils import timezone
 
 from analyses.audit import audit_append
-from analyses.models import AuditAction, Investigation, Result, SpecificationStatus, TestState
+from analyses.models import AuditAction, Instrument, Investigation, ReagentKind, ReagentLot, Result, SpecificationStatus, TestState
 from tests.analyses.api.support import Lab
 from tests.factories import (
+    CalibrationFactory,
+    InstrumentCheckFactory,
+    InstrumentFactory,
     LotFactory,
+    ReagentKindFactory,
+    ReagentLotFactory,
+    StandardisationFactory,
     ProductFactory,
     SampleFactory,
     SpecificationFactory,
@@ -78,6 +84,19 @@ def _result(lab: Lab) -> None:
     )
 
 
+def _kind():
+    return ReagentKindFactory(name=f"kind {ReagentKind.objects.count()}", created_by=UserFactory())
+
+
+def _reagent_lot():
+    lot = ReagentLotFactory(kind=_kind(), created_by=UserFactory())
+    StandardisationFactory(lot=lot, performed_by=UserFactory())
+
+
+def _bench_row(model, **lookup):
+    return model.objects.get(**lookup)
+
+
 @dataclass(frozen=True)
 class Listing:
     name: str
@@ -103,6 +122,21 @@ LISTINGS = [
     Listing("users", lambda lab: "/api/users/", lambda lab: UserFactory(roles=["analyst", "qa_reviewer"])),
     Listing("users by role", lambda lab: "/api/users/?role=analyst", lambda lab: UserFactory(roles=["analyst"])),
     Listing("result history", lambda lab: f"/api/tests/{lab.result_test.pk}/results/", _result),
+    Listing("reagent kinds", lambda lab: "/api/reagent-kinds/", lambda lab: _kind()),
+    Listing("reagent lots", lambda lab: "/api/reagent-lots/", lambda lab: _reagent_lot()),
+    Listing(
+        "standardisations of a lot",
+        lambda lab: f"/api/reagent-lots/{_bench_row(ReagentLot, code='KOH-BENCH').pk}/standardisations/",
+        lambda lab: StandardisationFactory(lot=_bench_row(ReagentLot, code="KOH-BENCH"), performed_by=UserFactory(),
+                                           balance=_bench_row(Instrument, asset_id="BAL-BENCH"),
+                                           burette=_bench_row(Instrument, asset_id="BUR-BENCH")),
+    ),
+    Listing("instruments", lambda lab: "/api/instruments/",
+            lambda lab: CalibrationFactory(instrument=InstrumentFactory(created_by=UserFactory()), recorded_by=UserFactory())),
+    Listing("calibrations", lambda lab: f"/api/instruments/{_bench_row(Instrument, asset_id='BAL-BENCH').pk}/calibrations/",
+            lambda lab: CalibrationFactory(instrument=_bench_row(Instrument, asset_id="BAL-BENCH"), recorded_by=UserFactory())),
+    Listing("routine checks", lambda lab: f"/api/instruments/{_bench_row(Instrument, asset_id='BAL-BENCH').pk}/checks/",
+            lambda lab: InstrumentCheckFactory(instrument=_bench_row(Instrument, asset_id="BAL-BENCH"), performed_by=UserFactory())),
 ]
 
 

@@ -4,14 +4,14 @@ from __future__ import annotations
 import pytest
 
 from analyses.models import Result, ResultStatus
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, PV_LOW, PV_LOW_TWIN, PV_TRACE, entry
 
 pytestmark = pytest.mark.django_db
 
 
 def test_the_same_idempotency_key_twice_records_one_result(lab, clients):
     av_test, _ = lab.assigned("analyst")
-    body = {"test": av_test.pk, "inputs": AV_LOW}
+    body = {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}
     first = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-1")
     retry = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-1")
     assert first.status_code == retry.status_code == 201
@@ -30,7 +30,7 @@ def test_the_same_idempotency_key_twice_records_one_result(lab, clients):
 
 def test_without_a_key_a_repeat_is_a_new_replicate_and_then_a_conflict(lab, clients):
     av_test, _ = lab.assigned("analyst")
-    body = {"test": av_test.pk, "inputs": AV_LOW}
+    body = {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}
     assert [clients["analyst"].post("/api/results/", body, format="json").status_code for _ in range(2)] == [201, 201]
     third = clients["analyst"].post("/api/results/", body, format="json")
     assert third.status_code == 409  # both replicates are in; a third is refused
@@ -39,8 +39,8 @@ def test_without_a_key_a_repeat_is_a_new_replicate_and_then_a_conflict(lab, clie
 
 def test_a_key_reused_for_another_test_is_a_conflict(lab, clients):
     av_test, pv_test = lab.assigned("analyst")
-    clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json", HTTP_IDEMPOTENCY_KEY="k1")
-    clash = clients["analyst"].post("/api/results/", {"test": pv_test.pk, "inputs": PV_LOW}, format="json", HTTP_IDEMPOTENCY_KEY="k1")
+    clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, format="json", HTTP_IDEMPOTENCY_KEY="k1")
+    clash = clients["analyst"].post("/api/results/", {"test": pv_test.pk, "inputs": PV_LOW, **PV_TRACE}, format="json", HTTP_IDEMPOTENCY_KEY="k1")
     assert clash.status_code == 409 and "already used" in clash.json()["detail"]
     assert Result.objects.count() == 1
 
@@ -48,8 +48,8 @@ def test_a_key_reused_for_another_test_is_a_conflict(lab, clients):
 def test_bulk_entry_records_all_and_a_retry_with_the_same_key_records_nothing_more(lab, clients):
     av_test, pv_test = lab.assigned("analyst")
     items = [
-        {"test": av_test.pk, "inputs": AV_LOW}, {"test": av_test.pk, "inputs": AV_LOW_TWIN},
-        {"test": pv_test.pk, "inputs": PV_LOW}, {"test": pv_test.pk, "inputs": PV_LOW_TWIN},
+        {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, {"test": av_test.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},
+        {"test": pv_test.pk, "inputs": PV_LOW, **PV_TRACE}, {"test": pv_test.pk, "inputs": PV_LOW_TWIN, **PV_TRACE},
     ]
     first = clients["analyst"].post("/api/results/bulk/", {"results": items}, format="json", HTTP_IDEMPOTENCY_KEY="batch-1")
     assert first.status_code == 201, first.content
@@ -68,7 +68,7 @@ def test_bulk_entry_records_all_and_a_retry_with_the_same_key_records_nothing_mo
 def test_bulk_refusal_names_the_item_and_rolls_back(lab, clients):
     av_test, _ = lab.assigned("analyst")
     other, _ = lab.assigned("analyst2", label="L-200-B")
-    items = [{"test": av_test.pk, "inputs": AV_LOW}, {"test": other.pk, "inputs": AV_LOW}]
+    items = [{"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, {"test": other.pk, "inputs": AV_LOW, **AV_TRACE}]
     response = clients["analyst"].post("/api/results/bulk/", {"results": items}, format="json")
     assert response.status_code == 403
     assert response.json()["detail"].startswith("results.1: ")
@@ -77,7 +77,7 @@ def test_bulk_refusal_names_the_item_and_rolls_back(lab, clients):
 
 def test_a_correction_keeps_the_old_result_and_its_reason(lab, clients):
     av_test, _ = lab.assigned("analyst")
-    first = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW}, format="json").json()
+    first = clients["analyst"].post("/api/results/", {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, format="json").json()
     correction = clients["analyst"].post(
         f"/api/results/{first['id']}/correct/", {"inputs": AV_LOW_TWIN, "reason": "burette read at 1.33 mL"},
         format="json", HTTP_IDEMPOTENCY_KEY="fix-1",
@@ -117,9 +117,10 @@ def test_results_exactly_at_the_limit_pass_over_rest(lab, clients):
     av = {"sample_mass": "9.35", "sample_volume": "1.00", "titrant_concentration": "0.1"}
     pv = {"sample_mass": "4.97", "sample_volume": "4.97", "blank_volume": "0", "titrant_concentration": "0.01"}
     for test, inputs in ((av_test, av), (pv_test, pv)):
-        as_text = clients["analyst"].post("/api/results/", {"test": test.pk, "inputs": inputs}, format="json")
+        code = test.method_code
+        as_text = clients["analyst"].post("/api/results/", {"test": test.pk, **entry(code, inputs)}, format="json")
         as_numbers = clients["analyst"].post(
-            "/api/results/", {"test": test.pk, "inputs": {k: float(v) for k, v in inputs.items()}}, format="json"
+            "/api/results/", {"test": test.pk, **entry(code, {k: float(v) for k, v in inputs.items()})}, format="json"
         )
         assert as_text.status_code == as_numbers.status_code == 201, as_text.json()
         assert as_text.json()["verdict"] == as_numbers.json()["verdict"] == "pass"

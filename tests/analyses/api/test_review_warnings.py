@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from analyses.services.results import result_record
-from tests.analyses.lab_setup import PV_LOW, PV_LOW_TWIN
+from tests.analyses.lab_setup import PV_LOW, PV_LOW_TWIN, entry_for
 
 # 12.5 mL and 12.7 mL of 0.002 mol/L thiosulfate on 5.0 g, no blank run: 5.0 and 5.08 meq O2/kg
 NO_BLANK = {**{k: v for k, v in PV_LOW.items() if k != "blank_volume"}, "blank_not_run": True}
@@ -39,8 +39,8 @@ def test_calculation_returns_its_review_warnings(clients):
 
 def test_review_queue_and_readiness_show_the_warning(lab, users, clients):
     tests = {t.method_code: t for t in lab.assigned("analyst")}
-    result_record(users["analyst"], tests["pv"], inputs=NO_BLANK)
-    result_record(users["analyst"], tests["pv"], inputs=NO_BLANK_TWIN)
+    result_record(users["analyst"], tests["pv"], **entry_for(tests["pv"], NO_BLANK))
+    result_record(users["analyst"], tests["pv"], **entry_for(tests["pv"], NO_BLANK_TWIN))
     queue = clients["analyst2"].get("/api/tests/review/").json()["results"]
     (row,) = [r for r in queue if r["id"] == tests["pv"].pk]
     assert len(row["review_warnings"]) == 1 and row["review_warnings"][0].startswith("replicates 1, 2: no blank was run")

@@ -7,7 +7,7 @@ import pytest
 from django.utils import timezone
 
 from analyses.models import Test
-from tests.analyses.lab_setup import AV_HIGH, AV_LOW, AV_LOW_TWIN, enter_duplicates
+from tests.analyses.lab_setup import AV_HIGH, AV_LOW, AV_LOW_TWIN, AV_TRACE, enter_duplicates
 
 pytestmark = pytest.mark.django_db
 
@@ -76,7 +76,7 @@ def test_send_back_invalidates_the_results_and_the_analyst_enters_new_ones(lab, 
     history = clients["qa"].get(f"/api/tests/{av.pk}/results/").json()["results"]
     assert {r["status"] for r in history} == {"invalidated"}
     for inputs in (AV_LOW, AV_LOW_TWIN):
-        assert clients["analyst"].post("/api/results/", {"test": av.pk, "inputs": inputs}, format="json").status_code == 201
+        assert clients["analyst"].post("/api/results/", {"test": av.pk, "inputs": inputs, **AV_TRACE}, format="json").status_code == 201
     accepted = clients["qa"].post(f"/api/tests/{av.pk}/accept/", {"note": "ok now"}, format="json").json()
     assert accepted["state"] == "accepted" and accepted["review_note"] == "ok now"
 

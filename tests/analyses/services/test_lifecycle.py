@@ -11,7 +11,7 @@ from analyses.services.assignments import test_assign_bulk
 from analyses.services.lots import lot_release
 from analyses.services.results import result_record
 from analyses.services.review import test_accept
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, AV_TRACE, PV_TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -27,7 +27,7 @@ def test_receipt_to_release_with_certificate(users, received_sample):
     assert received_sample.state == SampleState.IN_TESTING
 
     av, pv = tests
-    first = result_record(analyst, av, inputs=AV_LOW)
+    first = result_record(analyst, av, inputs=AV_LOW, **AV_TRACE)
     # ISO 660 formula by hand: (1.30 - 0.05) * 0.1 * 56.1 / 20.0 = 0.350625 -> 0.35 at 2 places (ASTM E29)
     assert first.value == pytest.approx(0.350625)
     assert first.reported == "0.35"
@@ -35,7 +35,7 @@ def test_receipt_to_release_with_certificate(users, received_sample):
     assert first.inputs == AV_LOW  # kept exactly as entered (strings stay strings)
     assert first.method_code == "av" and first.method_version == "1.0"
     assert first.duplicate_check is None  # only one replicate so far
-    second = result_record(analyst, av, inputs=AV_LOW_TWIN)
+    second = result_record(analyst, av, inputs=AV_LOW_TWIN, **AV_TRACE)
     assert second.replicate == 2
     av.refresh_from_db()
     assert av.state == TestState.RESULT_ENTERED
@@ -45,8 +45,8 @@ def test_receipt_to_release_with_certificate(users, received_sample):
     assert av.verdict == Verdict.PASS
     assert av.duplicate_check["agrees"] is True
 
-    result_record(analyst, pv, inputs=PV_LOW)
-    result_record(analyst, pv, inputs=PV_LOW_TWIN)
+    result_record(analyst, pv, inputs=PV_LOW, **PV_TRACE)
+    result_record(analyst, pv, inputs=PV_LOW_TWIN, **PV_TRACE)
 
     test_accept(analyst2, av)
     test_accept(analyst2, pv)
@@ -70,6 +70,12 @@ def test_receipt_to_release_with_certificate(users, received_sample):
     assert by_method["av"]["verdict"] == "pass"
     assert by_method["av"]["accepted_by"] == "analyst2"
     assert by_method["pv"]["maximum"] == "10.0"  # CXS 210 appendix / CXS 19, refined oils (found)
+    # issue 9: each replicate names what it was measured with
+    measured = by_method["av"]["measured_with"][0]
+    assert measured["titrant_lot"] == "KOH-BENCH" and measured["titrant_concentration"] == "0.1"
+    assert [i["asset_id"] for i in measured["instruments"]] == ["BAL-BENCH", "BUR-BENCH"]
+    assert measured["instruments"][0]["calibration"] and measured["instruments"][0]["check"]
+    assert by_method["pv"]["measured_with"][1]["titrant_lot"] == "THIO-BENCH"
     assert Certificate.objects.get(lot=received_sample.lot).number == "COA-L-100"
     assert Result.objects.filter(test__sample=received_sample).count() == 4
     assert AuditEntry.objects.filter(sample_ref=received_sample.pk).count() > 10

@@ -11,7 +11,7 @@ from analyses.services.results import result_record
 from analyses.services.review import test_accept
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
-from tests.analyses.lab_setup import enter_passing
+from tests.analyses.lab_setup import entry, enter_passing
 
 pytestmark = pytest.mark.django_db
 
@@ -103,8 +103,8 @@ def test_a_non_critical_result_awaiting_review_blocks_release(users, product):
     test_accept(users["analyst2"], enter_passing(users["analyst"], [av])[0])
     # AOCS Cd 3-25: SV = (B - S) * c * 56.1 / m; (24.0 - 4.0) * 0.5 * 56.1 / 2.9 = 193.4 (in the Codex soybean range)
     sv_inputs = {"sample_mass": "2.9", "sample_volume": "4.0", "blank_volume": "24.0", "titrant_concentration": "0.5"}
-    result_record(users["analyst"], sv, inputs=sv_inputs)
-    result_record(users["analyst"], sv, inputs=sv_inputs)
+    result_record(users["analyst"], sv, **entry("sv", sv_inputs))
+    result_record(users["analyst"], sv, **entry("sv", sv_inputs))
     sv.refresh_from_db()
     assert sv.state == TestState.RESULT_ENTERED
     with pytest.raises(Conflict) as caught:

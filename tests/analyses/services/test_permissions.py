@@ -25,7 +25,16 @@ from analyses.services.results import result_correct, result_record
 from analyses.services.review import test_accept, test_send_back
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
-from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
+from tests.analyses.lab_setup import (
+    AV_HIGH,
+    AV_HIGH_TWIN,
+    AV_LOW,
+    AV_LOW_TWIN,
+    PV_LOW,
+    PV_LOW_TWIN,
+    enter_duplicates,
+    AV_TRACE,
+)
 from tests.factories import UserFactory
 
 pytestmark = pytest.mark.django_db
@@ -107,11 +116,11 @@ CASES: dict[str, tuple[Callable, Callable, set[str]]] = {
     # the test is assigned to "analyst": analyst2 may not enter it, admin may enter any
     "result_record": (
         lambda r: r.getfixturevalue("assigned_tests"),
-        lambda actor, tests: result_record(actor, tests[0], inputs=AV_LOW),
+        lambda actor, tests: result_record(actor, tests[0], inputs=AV_LOW, **AV_TRACE),
         {"analyst", "admin", "superuser"},
     ),
     "result_correct": (
-        lambda r: result_record(r.getfixturevalue("users")["analyst"], r.getfixturevalue("assigned_tests")[0], inputs=AV_LOW),
+        lambda r: result_record(r.getfixturevalue("users")["analyst"], r.getfixturevalue("assigned_tests")[0], inputs=AV_LOW, **AV_TRACE),
         lambda actor, result: result_correct(actor, result, inputs=AV_LOW_TWIN, reason="typo in titre"),
         {"analyst", "admin", "superuser"},
     ),
@@ -175,7 +184,7 @@ def test_qa_may_not_enter_results_even_as_an_analyst_too(users, assigned_tests):
     # a test that reached them anyway (assigned before they joined QA) is still refused
     Test.objects.filter(pk=assigned_tests[0].pk).update(assignee=qa)
     with pytest.raises(NotAllowed, match="QA reviewer"):
-        result_record(qa, assigned_tests[0], inputs=AV_LOW)
+        result_record(qa, assigned_tests[0], inputs=AV_LOW, **AV_TRACE)
     assert not assigned_tests[0].results.exists()
 
 

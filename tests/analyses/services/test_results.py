@@ -14,7 +14,7 @@ from analyses.services.results import (
     result_record_once,
 )
 from analyses.services.review import test_accept
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, AV_TRACE, PV_TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -36,14 +36,14 @@ def _written() -> tuple[int, int]:
 def test_a_plugin_input_error_names_the_input_and_writes_nothing(users, av):
     before = _written()
     with pytest.raises(InvalidInput) as caught:
-        result_record(users["analyst"], av, inputs={**AV_LOW, "sample_mass": "0"})
+        result_record(users["analyst"], av, inputs={**AV_LOW, "sample_mass": "0"}, **AV_TRACE)
     # the plugin's bound: sample mass must be greater than 0 g
     assert list(caught.value.fields) == ["inputs.sample_mass"]
     with pytest.raises(InvalidInput) as caught:
-        result_record(users["analyst"], av, inputs={"sample_mass": "20"})
+        result_record(users["analyst"], av, inputs={"sample_mass": "20"}, **AV_TRACE)
     assert "inputs.sample_volume" in caught.value.fields
     with pytest.raises(InvalidInput) as caught:
-        result_record(users["analyst"], av, inputs=["not", "a", "mapping"])
+        result_record(users["analyst"], av, inputs=["not", "a", "mapping"], **AV_TRACE)
     assert list(caught.value.fields) == ["inputs"]
     assert _written() == before
     assert Test.objects.get(pk=av.pk).state == TestState.ASSIGNED
@@ -57,13 +57,13 @@ def test_a_plugin_input_error_names_the_input_and_writes_nothing(users, av):
 def test_inputs_giving_a_result_too_large_to_report_are_refused(users, av, changed):
     before = _written()
     with pytest.raises(InvalidInput) as caught:
-        result_record(users["analyst"], av, inputs={**AV_LOW, **changed})
+        result_record(users["analyst"], av, inputs={**AV_LOW, **changed}, **AV_TRACE)
     assert list(caught.value.fields) == ["inputs"]
     assert "too large to report" in caught.value.fields["inputs"][0]
     with pytest.raises(InvalidInput) as caught:
-        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": {**AV_LOW, **changed}}])
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": {**AV_LOW, **changed}, **AV_TRACE}])
     assert list(caught.value.fields) == ["results.0.inputs"]
-    first = result_record(users["analyst"], av, inputs=AV_LOW)
+    first = result_record(users["analyst"], av, inputs=AV_LOW, **AV_TRACE)
     before = _written()
     with pytest.raises(InvalidInput) as caught:
         result_correct(users["analyst"], first, inputs={**AV_LOW, **changed}, reason="titre misread")
@@ -73,61 +73,61 @@ def test_inputs_giving_a_result_too_large_to_report_are_refused(users, av, chang
 
 def test_only_the_assignee_enters_and_not_before_assignment(users, received_sample, av):
     with pytest.raises(NotAllowed, match="assigned to analyst"):
-        result_record(users["analyst2"], av, inputs=AV_LOW)
+        result_record(users["analyst2"], av, inputs=AV_LOW, **AV_TRACE)
     pending = Test.objects.create(
         sample=received_sample, specification_line=av.specification_line, method_code="av",
         replicates=2, due_on=av.due_on, created_at=av.created_at,
     )
     with pytest.raises(Conflict, match="pending"):
-        result_record(users["admin"], pending, inputs=AV_LOW)
+        result_record(users["admin"], pending, inputs=AV_LOW, **AV_TRACE)
 
 
 def test_replicates_fill_in_order_and_a_full_test_refuses_more(users, av):
-    assert result_record(users["analyst"], av, inputs=AV_LOW).replicate == 1
+    assert result_record(users["analyst"], av, inputs=AV_LOW, **AV_TRACE).replicate == 1
     with pytest.raises(Conflict, match="already has replicate 1"):
-        result_record(users["analyst"], av, inputs=AV_LOW, replicate=1)
+        result_record(users["analyst"], av, inputs=AV_LOW, replicate=1, **AV_TRACE)
     with pytest.raises(InvalidInput) as caught:
-        result_record(users["analyst"], av, inputs=AV_LOW, replicate=3)
+        result_record(users["analyst"], av, inputs=AV_LOW, replicate=3, **AV_TRACE)
     assert "replicate" in caught.value.fields
-    assert result_record(users["analyst"], av, inputs=AV_LOW_TWIN).replicate == 2
+    assert result_record(users["analyst"], av, inputs=AV_LOW_TWIN, **AV_TRACE).replicate == 2
     with pytest.raises(Conflict):  # the test has moved on to result_entered
-        result_record(users["analyst"], av, inputs=AV_LOW)
+        result_record(users["analyst"], av, inputs=AV_LOW, **AV_TRACE)
 
 
 def test_the_same_idempotency_key_twice_records_one_result(users, av):
-    first = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="tablet-7:0001")
+    first = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="tablet-7:0001", **AV_TRACE)
     before = _written()
-    again = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="tablet-7:0001")
+    again = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="tablet-7:0001", **AV_TRACE)
     assert again.pk == first.pk
     assert _written() == before
     # a new key is a new result
-    second = result_record(users["analyst"], av, inputs=AV_LOW_TWIN, idempotency_key="tablet-7:0002")
+    second = result_record(users["analyst"], av, inputs=AV_LOW_TWIN, idempotency_key="tablet-7:0002", **AV_TRACE)
     assert second.pk != first.pk and second.replicate == 2
 
 
 def test_a_key_reused_for_another_test_is_a_conflict(users, av, pv):
-    result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="k1")
+    result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="k1", **AV_TRACE)
     with pytest.raises(Conflict, match="already used"):
-        result_record(users["analyst"], pv, inputs=PV_LOW, idempotency_key="k1")
+        result_record(users["analyst"], pv, inputs=PV_LOW, idempotency_key="k1", **PV_TRACE)
 
 
 def test_a_key_reused_with_other_inputs_is_a_conflict_not_a_silent_replay(users, av):
-    first = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="k2")
+    first = result_record(users["analyst"], av, inputs=AV_LOW, idempotency_key="k2", **AV_TRACE)
     before = _written()
     with pytest.raises(Conflict, match="other inputs"):
-        result_record(users["analyst"], av, inputs=AV_LOW_TWIN, idempotency_key="k2")
+        result_record(users["analyst"], av, inputs=AV_LOW_TWIN, idempotency_key="k2", **AV_TRACE)
     with pytest.raises(Conflict, match="other inputs"):
         result_record(users["analyst"], av, inputs="not an object", idempotency_key="k2")
     assert _written() == before
-    assert result_record(users["analyst"], av, inputs=dict(AV_LOW), idempotency_key="k2").pk == first.pk
+    assert result_record(users["analyst"], av, inputs=dict(AV_LOW), idempotency_key="k2", **AV_TRACE).pk == first.pk
 
 
 def test_bulk_entry_is_all_or_nothing_and_names_the_item_and_field(users, av, pv):
     before = _written()
     items = [
-        {"test": av.pk, "inputs": AV_LOW},
-        {"test": av.pk, "inputs": AV_LOW_TWIN},
-        {"test": pv.pk, "inputs": {**PV_LOW, "sample_mass": "-5"}},
+        {"test": av.pk, "inputs": AV_LOW, **AV_TRACE},
+        {"test": av.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},
+        {"test": pv.pk, "inputs": {**PV_LOW, "sample_mass": "-5"}, **PV_TRACE},
     ]
     with pytest.raises(InvalidInput) as caught:
         result_record_bulk(users["analyst"], items)
@@ -136,7 +136,7 @@ def test_bulk_entry_is_all_or_nothing_and_names_the_item_and_field(users, av, pv
     assert Test.objects.get(pk=av.pk).state == TestState.ASSIGNED
 
     with pytest.raises(InvalidInput) as caught:
-        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW}, {"inputs": AV_LOW}])
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}, {"inputs": AV_LOW}])
     assert list(caught.value.fields) == ["results.1.test"]
     with pytest.raises(InvalidInput) as caught:
         result_record_bulk(users["analyst"], [])
@@ -147,21 +147,21 @@ def test_bulk_entry_is_all_or_nothing_and_names_the_item_and_field(users, av, pv
 def test_bulk_entry_stops_on_a_refusal_too(users, av, pv):
     before = _written()
     with pytest.raises(InvalidInput) as caught:  # test 0 does not exist
-        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW}, {"test": 0, "inputs": AV_LOW}])
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}, {"test": 0, "inputs": AV_LOW, **AV_TRACE}])
     assert list(caught.value.fields) == ["results.1.test"]
     Test.objects.filter(pk=pv.pk).update(assignee=users["analyst2"])
     with pytest.raises(NotAllowed) as caught:
-        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW}, {"test": pv.pk, "inputs": PV_LOW}])
+        result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}, {"test": pv.pk, "inputs": PV_LOW, **PV_TRACE}])
     assert caught.value.detail.startswith("results.1:")
     assert _written() == before
 
 
 def test_bulk_entry_and_its_idempotent_retry(users, av, pv):
     items = [
-        {"test": av.pk, "inputs": AV_LOW, "idempotency_key": "batch-1"},
-        {"test": av.pk, "inputs": AV_LOW_TWIN, "idempotency_key": "batch-2"},
-        {"test": pv.pk, "inputs": PV_LOW, "idempotency_key": "batch-3"},
-        {"test": pv.pk, "inputs": PV_LOW_TWIN, "idempotency_key": "batch-4"},
+        {"test": av.pk, "inputs": AV_LOW, "idempotency_key": "batch-1", **AV_TRACE},
+        {"test": av.pk, "inputs": AV_LOW_TWIN, "idempotency_key": "batch-2", **AV_TRACE},
+        {"test": pv.pk, "inputs": PV_LOW, "idempotency_key": "batch-3", **PV_TRACE},
+        {"test": pv.pk, "inputs": PV_LOW_TWIN, "idempotency_key": "batch-4", **PV_TRACE},
     ]
     recorded = result_record_bulk(users["analyst"], items)
     assert [r.replicate for r in recorded] == [1, 2, 1, 2]
@@ -174,11 +174,11 @@ def test_bulk_entry_and_its_idempotent_retry(users, av, pv):
 
 def test_the_once_functions_say_whether_they_replayed(users, av):
     analyst = users["analyst"]
-    first = result_record_once(analyst, av, inputs=AV_LOW, idempotency_key="k-1")
+    first = result_record_once(analyst, av, inputs=AV_LOW, idempotency_key="k-1", **AV_TRACE)
     assert not first.replayed
-    again = result_record_once(analyst, av, inputs=AV_LOW, idempotency_key="k-1")
+    again = result_record_once(analyst, av, inputs=AV_LOW, idempotency_key="k-1", **AV_TRACE)
     assert again.replayed and again.result.pk == first.result.pk
-    assert not result_record_once(analyst, av, inputs=AV_LOW_TWIN).replayed  # no key: never a replay
+    assert not result_record_once(analyst, av, inputs=AV_LOW_TWIN, **AV_TRACE).replayed  # no key: never a replay
     fixed = result_correct_once(analyst, first.result, inputs=AV_LOW_TWIN, reason="titre misread", idempotency_key="k-2")
     assert not fixed.replayed
     refixed = result_correct_once(analyst, first.result, inputs=AV_LOW_TWIN, reason="titre misread", idempotency_key="k-2")
@@ -187,9 +187,9 @@ def test_the_once_functions_say_whether_they_replayed(users, av):
 
 def test_a_batch_key_gives_each_item_its_own_key_and_a_retry_replays_the_batch(users, av, pv):
     items = [
-        {"test": av.pk, "inputs": AV_LOW},
-        {"test": av.pk, "inputs": AV_LOW_TWIN},
-        {"test": pv.pk, "inputs": PV_LOW, "idempotency_key": "own-key"},  # an item's own key wins
+        {"test": av.pk, "inputs": AV_LOW, **AV_TRACE},
+        {"test": av.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},
+        {"test": pv.pk, "inputs": PV_LOW, "idempotency_key": "own-key", **PV_TRACE},  # an item's own key wins
     ]
     batch = result_record_bulk_once(users["analyst"], items, idempotency_key="tablet-7:batch-9")
     assert not batch.replayed
@@ -200,7 +200,7 @@ def test_a_batch_key_gives_each_item_its_own_key_and_a_retry_replays_the_batch(u
     assert _written() == before
     # a batch that adds a new item is not a replay, though its first items are
     grown = result_record_bulk_once(
-        users["analyst"], [*items, {"test": pv.pk, "inputs": PV_LOW_TWIN}], idempotency_key="tablet-7:batch-9"
+        users["analyst"], [*items, {"test": pv.pk, "inputs": PV_LOW_TWIN, **PV_TRACE}], idempotency_key="tablet-7:batch-9"
     )
     assert not grown.replayed and grown.results[3].idempotency_key == "tablet-7:batch-9#3"
     with pytest.raises(InvalidInput) as caught:  # no room left for "#<item>"
@@ -210,8 +210,8 @@ def test_a_batch_key_gives_each_item_its_own_key_and_a_retry_replays_the_batch(u
 
 def test_a_correction_is_a_new_version_and_the_old_one_stays(users, av):
     analyst = users["analyst"]
-    first = result_record(analyst, av, inputs=AV_LOW)
-    result_record(analyst, av, inputs=AV_LOW_TWIN)
+    first = result_record(analyst, av, inputs=AV_LOW, **AV_TRACE)
+    result_record(analyst, av, inputs=AV_LOW_TWIN, **AV_TRACE)
     with pytest.raises(InvalidInput) as caught:
         result_correct(analyst, first, inputs=AV_LOW_TWIN, reason="")
     assert caught.value.fields == {"reason": ["is required"]}
@@ -238,8 +238,8 @@ def test_a_correction_is_a_new_version_and_the_old_one_stays(users, av):
 
 def test_a_correction_key_replays_only_the_same_correction(users, av):
     analyst = users["analyst"]
-    first = result_record(analyst, av, inputs=AV_LOW)
-    second = result_record(analyst, av, inputs=AV_LOW_TWIN)
+    first = result_record(analyst, av, inputs=AV_LOW, **AV_TRACE)
+    second = result_record(analyst, av, inputs=AV_LOW_TWIN, **AV_TRACE)
     reason = "titre misread: 1.33 not 1.30"
     corrected = result_correct(analyst, first, inputs=AV_LOW_TWIN, reason=reason, idempotency_key="fix-1")
     before = _written()
@@ -254,10 +254,10 @@ def test_a_correction_key_replays_only_the_same_correction(users, av):
 
 
 def test_no_correction_after_acceptance_and_never_by_qa(users, av):
-    first = result_record(users["analyst"], av, inputs=AV_LOW)
+    first = result_record(users["analyst"], av, inputs=AV_LOW, **AV_TRACE)
     with pytest.raises(NotAllowed):
         result_correct(users["qa"], first, inputs=AV_LOW_TWIN, reason="QA thinks so")
-    result_record(users["analyst"], av, inputs=AV_LOW_TWIN)
+    result_record(users["analyst"], av, inputs=AV_LOW_TWIN, **AV_TRACE)
     test_accept(users["analyst2"], av)
     with pytest.raises(Conflict, match="accepted"):
         result_correct(users["analyst"], first, inputs=AV_LOW_TWIN, reason="late")
@@ -280,7 +280,7 @@ def test_a_retry_racing_the_first_request_still_records_one_result_on_postgresql
     def send() -> None:
         try:
             start.wait()
-            returned.append(result_record(users["analyst"], av.pk, inputs=AV_LOW, idempotency_key="retry-1").pk)
+            returned.append(result_record(users["analyst"], av.pk, inputs=AV_LOW, idempotency_key="retry-1", **AV_TRACE).pk)
         except Exception as exc:  # reported below, never swallowed
             errors.append(exc)
         finally:

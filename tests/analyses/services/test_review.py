@@ -8,7 +8,7 @@ from analyses.models import AuditEntry, ResultStatus, Test, TestState
 from analyses.services import review
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.results import result_record
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, enter_duplicates
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, enter_duplicates, AV_TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -32,8 +32,8 @@ def test_an_admin_cannot_bypass_four_eyes(users, received_sample):
     test = Test.objects.get(sample=received_sample, method_code="av")
     test_assign_bulk(users["manager"], [test], assignee=users["analyst"])
     # admins may enter results for any test ...
-    result_record(admin, test, inputs=AV_LOW)
-    result_record(users["analyst"], test, inputs=AV_LOW_TWIN)
+    result_record(admin, test, inputs=AV_LOW, **AV_TRACE)
+    result_record(users["analyst"], test, inputs=AV_LOW_TWIN, **AV_TRACE)
     # ... but having entered one, may not accept it; nor may the analyst
     with pytest.raises(NotAllowed, match="four-eyes"):
         review.test_accept(admin, test)
@@ -46,7 +46,7 @@ def test_an_admin_cannot_bypass_four_eyes(users, received_sample):
 
 def test_duplicates_that_disagree_cannot_be_accepted(users, assigned_tests):
     # ISO 660 repeatability here is 5 % of the mean (plugin value, from memory); 0.35 vs 0.69 is far outside.
-    far = {"sample_mass": "20.0", "sample_volume": "2.50", "blank_volume": "0.05", "titrant_concentration": "0.1"}
+    far = {"sample_mass": "20.0", "sample_volume": "2.50", "blank_volume": "0.05"}  # with KOH-BENCH, 0.1 mol/L
     av = enter_duplicates(users["analyst"], _av(assigned_tests), AV_LOW, far)
     assert av.duplicate_check["agrees"] is False
     with pytest.raises(Conflict, match="send it back"):

@@ -12,7 +12,7 @@ from analyses.models import Result, Test
 from analyses.selectors.lists import lot_readiness
 from analyses.services.results import result_correct, result_record
 from analyses.services.review import test_accept, test_send_back
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates, entry_for
 
 pytestmark = pytest.mark.django_db
 
@@ -59,7 +59,7 @@ def test_a_correction_back_into_scope_clears_the_warning_and_a_send_back_clears_
     pv = enter_duplicates(users["analyst"], by_method(assigned_tests)["pv"], ABOVE_ISO_3960, INSIDE_ISO_3960)
     assert pv.reported == "30.0" and pv.review_warnings == []  # mean of 31.0 and 29.0 is inside 0-30
     second = pv.results.get(replicate=2)
-    result_correct(users["analyst"], second, inputs=ABOVE_ISO_3960_TWIN, reason="titre misread")
+    result_correct(users["analyst"], second, **entry_for(pv, ABOVE_ISO_3960_TWIN), reason="titre misread")
     pv.refresh_from_db()
     assert pv.reported == "31.1" and len(pv.review_warnings) == 1
     test_send_back(users["analyst2"], pv, reason="retest the pair")
@@ -69,10 +69,10 @@ def test_a_correction_back_into_scope_clears_the_warning_and_a_send_back_clears_
 
 def test_a_replicate_entered_under_older_checks_is_named_not_refused(users, assigned_tests):
     pv = by_method(assigned_tests)["pv"]
-    first = result_record(users["analyst"], pv, inputs=PV_LOW)
+    first = result_record(users["analyst"], pv, **entry_for(pv, PV_LOW))
     # as a result entered before the blank became required would have been stored
     Result.objects.filter(pk=first.pk).update(inputs={k: v for k, v in PV_LOW.items() if k != "blank_volume"})
-    result_record(users["analyst"], pv, inputs=PV_LOW_TWIN)
+    result_record(users["analyst"], pv, **entry_for(pv, PV_LOW_TWIN))
     pv.refresh_from_db()
     assert len(pv.review_warnings) == 1
     assert pv.review_warnings[0].startswith("replicate 1: its inputs no longer pass method pv's checks (blank_volume:")

@@ -14,7 +14,7 @@ from analyses.services.results import result_record
 from analyses.services.review import test_accept
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register, sample_resume
 from analyses.services.specifications import specification_approve, specification_revise
-from tests.analyses.lab_setup import AV_LOW, PV_LOW, PV_LOW_TWIN, enter_duplicates, enter_passing
+from tests.analyses.lab_setup import AV_LOW, PV_LOW, PV_LOW_TWIN, enter_duplicates, enter_passing, AV_TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -73,12 +73,12 @@ def test_hold_remembers_where_to_resume_and_blocks_work(users, assigned_tests):
     assert held.resume_state == SampleState.IN_TESTING
     assert held.state_reason == "label does not match the lot"
     with pytest.raises(Conflict, match="on hold"):
-        result_record(users["analyst"], assigned_tests[0], inputs=AV_LOW)
+        result_record(users["analyst"], assigned_tests[0], inputs=AV_LOW, **AV_TRACE)
     with pytest.raises(Conflict):
         sample_hold(users["manager"], sample, reason="again")
     resumed = sample_resume(users["manager"], sample, reason="label confirmed with production")
     assert resumed.state == SampleState.IN_TESTING and resumed.resume_state == ""
-    assert result_record(users["analyst"], assigned_tests[0], inputs=AV_LOW).replicate == 1
+    assert result_record(users["analyst"], assigned_tests[0], inputs=AV_LOW, **AV_TRACE).replicate == 1
 
 
 @pytest.mark.parametrize("service", [sample_hold, sample_cancel, sample_resume])

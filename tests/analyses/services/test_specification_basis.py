@@ -16,6 +16,7 @@ from analyses.services.lots import lot_create
 from analyses.services.results import result_record
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create, specification_revise
+from tests.analyses.lab_setup import entry
 from tests.factories import ProductFactory
 
 pytestmark = pytest.mark.django_db
@@ -87,17 +88,18 @@ def palm_ffa_test(users) -> Test:
 def test_a_result_without_a_basis_takes_the_line_s(users, palm_ffa_test):
     # 56.4 g with 0.1 mol/L NaOH (Ca 5a-40 table, found), 2.0 mL: 2.0 x 0.1 x 25.6 / 56.4 = 0.0908 % as palmitic
     inputs = {"sample_mass": "56.4", "sample_volume": "2.0", "titrant_concentration": "0.1"}
-    result = result_record(users["analyst"], palm_ffa_test, inputs=inputs)
+    keywords = entry("ffa", inputs)  # the 0.1 mol/L NaOH comes from a standardised lot (issue 9)
+    result = result_record(users["analyst"], palm_ffa_test, **keywords)
     assert result.unit == "% as palmitic"
     assert result.value == pytest.approx(2.0 * 0.1 * 25.6 / 56.4, rel=1e-12)
     assert result.reported == "0.09" and result.verdict == "pass"
-    assert result.inputs == inputs  # kept as entered
+    assert result.inputs == keywords["inputs"]  # kept as entered: no basis added
 
 
 def test_a_result_on_another_basis_is_refused(users, palm_ffa_test):
     inputs = {"sample_mass": "56.4", "sample_volume": "2.0", "titrant_concentration": "0.1", "fatty_acid_basis": "oleic"}
     with pytest.raises(InvalidInput) as refused:
-        result_record(users["analyst"], palm_ffa_test, inputs=inputs)
+        result_record(users["analyst"], palm_ffa_test, **entry("ffa", inputs))
     assert "% as oleic" in refused.value.fields["inputs"][0] and "% as palmitic" in refused.value.fields["inputs"][0]
     named = {**inputs, "fatty_acid_basis": "palmitic"}
-    assert result_record(users["analyst"], palm_ffa_test, inputs=named).unit == "% as palmitic"
+    assert result_record(users["analyst"], palm_ffa_test, **entry("ffa", named)).unit == "% as palmitic"

@@ -18,6 +18,7 @@ from analyses.services.results import result_record
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
 from analyses.services.verdicts import limit_places, verdict_for
+from tests.analyses.lab_setup import entry
 
 PASS, OOS = Verdict.PASS, Verdict.OUT_OF_SPECIFICATION
 
@@ -112,19 +113,19 @@ def test_results_take_the_comparison_their_specification_line_names(users):
     # AV = 2.14 mL * 0.1 mol/L * 56.1 / 20.0 g = 0.600270 (ISO 660 formula by hand): reported 0.60,
     # but the absolute method compares the unrounded value, which exceeds 0.6.
     av_inputs = {"sample_mass": "20.0", "sample_volume": "2.14", "titrant_concentration": "0.1"}
-    first = result_record(analyst, tests["av"], inputs=av_inputs)
+    first = result_record(analyst, tests["av"], **entry("av", av_inputs))
     assert first.reported == "0.60"
     assert first.verdict == OOS
-    result_record(analyst, tests["av"], inputs=av_inputs)
+    result_record(analyst, tests["av"], **entry("av", av_inputs))
     assert Test.objects.get(pk=tests["av"].pk).verdict == OOS
 
     # PV = 5.02 mL * 0.01 mol/L * 1000 / 5.0 g = 10.04 meq/kg (AOCS Cd 8b-90 formula by hand): by the
     # rounding method it is rounded to the limit's one place, 10.0, which conforms.
     pv_inputs = {"sample_mass": "5.0", "sample_volume": "5.02", "blank_volume": "0", "titrant_concentration": "0.01"}
-    first = result_record(analyst, tests["pv"], inputs=pv_inputs)
+    first = result_record(analyst, tests["pv"], **entry("pv", pv_inputs))
     assert first.reported == "10.0"
     assert first.verdict == PASS
-    result_record(analyst, tests["pv"], inputs=pv_inputs)
+    result_record(analyst, tests["pv"], **entry("pv", pv_inputs))
     assert Test.objects.get(pk=tests["pv"].pk).verdict == PASS
 
 
@@ -155,10 +156,10 @@ def test_results_exactly_at_a_limit_pass_and_their_test_passes(users, comparison
     tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
     test_assign_bulk(manager, list(tests.values()), assignee=analyst)
     for code, (_, inputs, reported) in EXACT_AT_LIMIT.items():
-        first = result_record(analyst, tests[code], inputs=inputs)
+        first = result_record(analyst, tests[code], **entry(code, inputs))
         assert (first.reported, first.verdict) == (reported, PASS), code
         assert Decimal(first.value_exact) == Decimal(reported), code
-        result_record(analyst, tests[code], inputs={k: float(v) for k, v in inputs.items()})  # as JSON numbers
+        result_record(analyst, tests[code], **entry(code, {k: float(v) for k, v in inputs.items()}))  # as JSON numbers
         test = Test.objects.get(pk=tests[code].pk)
         assert (test.reported, test.verdict) == (reported, PASS), code
         assert Decimal(test.value_exact) == Decimal(reported), code
@@ -178,8 +179,8 @@ def test_duplicates_whose_mean_is_the_limit_pass_exactly(users):
     test_assign_bulk(manager, [test], assignee=analyst)
     # AV = V x 0.1 x 56.1 / m: 0.59 from 1.00 mL on 9.508474... is not writable; use the mass 5.61 g:
     # 0.59 mL -> 0.59, 0.61 mL -> 0.61 (ISO 660 formula, 0.1 x 56.1 / 5.61 = 1 per mL)
-    assert result_record(analyst, test, inputs={"sample_mass": "5.61", "sample_volume": "0.59", "titrant_concentration": "0.1"}).verdict == PASS
-    assert result_record(analyst, test, inputs={"sample_mass": "5.61", "sample_volume": "0.61", "titrant_concentration": "0.1"}).verdict == OOS
+    assert result_record(analyst, test, **entry("av", {"sample_mass": "5.61", "sample_volume": "0.59", "titrant_concentration": "0.1"})).verdict == PASS
+    assert result_record(analyst, test, **entry("av", {"sample_mass": "5.61", "sample_volume": "0.61", "titrant_concentration": "0.1"})).verdict == OOS
     test.refresh_from_db()
     assert Decimal(test.value_exact) == Decimal("0.6")
     assert test.verdict == PASS

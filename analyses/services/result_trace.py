@@ -1,0 +1,180 @@
+"""What a result was measured with: the titrant lot (and through it the standardisation whose
+concentration the plugin receives) and the instruments, each checked usable at entry.
+
+Refusals are ``Conflict`` (409) naming the item and the reason: an expired, unstandardised
+or out-of-validity lot; a lot of a substance the method does not take; an instrument that is
+uncalibrated, overdue or failed its check; an instrument of a kind the method does not need,
+or a need no instrument meets. A typed ``titrant_concentration`` is refused here: it is for
+``manage.py calc`` and ``/api/calculations/``, which store nothing.
+"""
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from analyses.errors import Conflict, InvalidInput
+from analyses.models import Instrument, ReagentLot, Result, ResultInstrument, Standardisation
+from analyses.selectors.traceability import instrument_facts, instruments_by_reference, lot_facts, lots_with_current
+from analyses.services.access import ID_MAX
+from analyses.traceability.usability import instrument_refusal, lot_refusal
+from plugins.contract import TITRANT_INPUT, MethodPlugin
+
+TRACE_FIELDS = ("reagent_lot", "standardisation", "titrant_concentration", "titrant_uncertainty")
+MAX_INSTRUMENTS = 20
+
+
+@dataclass(frozen=True)
+class InstrumentUse:
+    instrument: Instrument
+    calibration_id: int
+    check_id: int | None
+
+
+@dataclass(frozen=True)
+class Trace:
+    lot: ReagentLot | None = None
+    standardisation: Standardisation | None = None
+    uses: tuple[InstrumentUse, ...] = field(default_factory=tuple)
+
+    def plugin_inputs(self, inputs: Mapping[str, Any]) -> dict[str, Any]:
+        """The entered inputs, with the standardisation's exact concentration as the titrant's."""
+        given = dict(inputs)
+        if self.standardisation is not None:
+            given[TITRANT_INPUT] = self.standardisation.concentration  # a Decimal string: exact
+        return given
+
+    def result_fields(self) -> dict[str, Any]:
+        s = self.standardisation
+        return {
+            "reagent_lot": self.lot,
+            "standardisation": s,
+            "titrant_concentration": s.concentration if s else "",
+            "titrant_uncertainty": s.uncertainty if s else "",
+        }
+
+    def describe(self) -> dict[str, Any]:
+        """For the audit entry and the certificate."""
+        return {
+            "titrant_lot": self.lot.code if self.lot else None,
+            "standardisation": self.standardisation.pk if self.standardisation else None,
+            "instruments": [
+                {"asset_id": u.instrument.asset_id, "kind": u.instrument.kind, "calibration": u.calibration_id, "check": u.check_id}
+                for u in self.uses
+            ],
+        }
+
+
+def _reference(raw: Any, field_name: str) -> int | str:
+    if isinstance(raw, bool) or not isinstance(raw, (int, str)) or (isinstance(raw, str) and not raw.strip()):
+        raise InvalidInput.for_field(field_name, "must be an id or a code")
+    if isinstance(raw, int) and not 1 <= raw <= ID_MAX:
+        raise InvalidInput.for_field(field_name, f"no such item: {raw}")
+    return raw.strip() if isinstance(raw, str) else raw
+
+
+def _lot(plugin: MethodPlugin, raw: Any, now: dt.datetime) -> tuple[ReagentLot, Standardisation]:
+    ref = _reference(raw, "titrant_lot")
+    lookup = {"pk": ref} if isinstance(ref, int) else {"code": ref}
+    lot = lots_with_current(ReagentLot.objects.select_related("kind")).filter(**lookup).first()
+    if lot is None:
+        raise InvalidInput.for_field("titrant_lot", f"no titrant lot {ref!r}")
+    if lot.kind.substance not in plugin.titrants:
+        raise Conflict(
+            f"titrant lot {lot.code} is {lot.kind.name} ({lot.kind.substance}); method {plugin.code} takes "
+            f"{' or '.join(plugin.titrants)}",
+            missing=["titrant_lot"],
+        )
+    refusal = lot_refusal(lot_facts(lot), now)
+    if refusal:
+        raise Conflict(refusal, missing=["titrant_lot"])
+    return lot, Standardisation.objects.get(pk=lot.current_standardisation_id)
+
+
+def _instruments(plugin: MethodPlugin, raw: Any, now: dt.datetime) -> tuple[InstrumentUse, ...]:
+    if not plugin.instruments and raw in (None, []):
+        return ()
+    if isinstance(raw, (str, bytes, Mapping)) or not isinstance(raw, Sequence) or not raw:
+        needs = "; ".join(" or ".join(need) for need in plugin.instruments)
+        raise InvalidInput.for_field("instruments", f"name the instruments used (method {plugin.code} needs: {needs})")
+    if len(raw) > MAX_INSTRUMENTS:
+        raise InvalidInput.for_field("instruments", f"at most {MAX_INSTRUMENTS}")
+    refs = [_reference(item, f"instruments.{i}") for i, item in enumerate(raw)]
+    found = instruments_by_reference(refs)
+    chosen: list[Instrument] = []
+    for index, ref in enumerate(refs):
+        instrument = found.get(ref)
+        if instrument is None:
+            raise InvalidInput.for_field(f"instruments.{index}", f"no instrument {ref!r}")
+        if instrument in chosen:
+            raise InvalidInput.for_field(f"instruments.{index}", f"{instrument.asset_id} is named twice")
+        chosen.append(instrument)
+    wanted = {kind for need in plugin.instruments for kind in need}
+    for instrument in chosen:
+        if instrument.kind not in wanted:
+            raise Conflict(
+                f"instrument {instrument.asset_id} is a {instrument.kind}; method {plugin.code} uses "
+                f"{', '.join(sorted(wanted))}",
+                missing=[f"instruments.{instrument.asset_id}"],
+            )
+    for need in plugin.instruments:
+        if not any(i.kind in need for i in chosen):
+            raise Conflict(f"method {plugin.code} needs a {' or '.join(need)}; none was named", missing=["instruments"])
+    uses = []
+    for instrument in chosen:
+        facts = instrument_facts(instrument)
+        refusal = instrument_refusal(facts, now)
+        if refusal:
+            raise Conflict(refusal, missing=[f"instruments.{instrument.asset_id}"])
+        uses.append(InstrumentUse(instrument, facts.calibration_id, facts.check_id if facts.check_every_days else None))
+    return tuple(uses)
+
+
+def refuse_typed_titrant(plugin: MethodPlugin, inputs: Any) -> None:
+    if isinstance(inputs, Mapping) and TITRANT_INPUT in inputs and plugin.titrants:
+        raise InvalidInput.for_field(
+            f"inputs.{TITRANT_INPUT}",
+            "comes from the titrant lot's standardisation: name the lot in titrant_lot (a typed concentration "
+            "is only for manage.py calc and /api/calculations/)",
+        )
+
+
+def trace_is_complete(plugin: MethodPlugin, trace: Trace) -> bool:
+    """Whether a kept trace names everything the method needs (rows entered before issue 9 do not)."""
+    if plugin.titrants and trace.standardisation is None:
+        return False
+    kinds = {u.instrument.kind for u in trace.uses}
+    return all(kinds & set(need) for need in plugin.instruments)
+
+
+def trace_for_entry(
+    plugin: MethodPlugin, inputs: Any, *, titrant_lot: Any, instruments: Any, now: dt.datetime
+) -> Trace:
+    """The checked trace of a new entry, or the refusal. Runs before anything is written."""
+    refuse_typed_titrant(plugin, inputs)
+    lot = standardisation = None
+    if plugin.titrants:
+        if titrant_lot in (None, ""):
+            raise InvalidInput.for_field("titrant_lot", f"is required: method {plugin.code} titrates with {' or '.join(plugin.titrants)}")
+        lot, standardisation = _lot(plugin, titrant_lot, now)
+    elif titrant_lot not in (None, ""):
+        raise InvalidInput.for_field("titrant_lot", f"method {plugin.code} uses no titrant")
+    return Trace(lot, standardisation, _instruments(plugin, instruments, now))
+
+
+def trace_of(result: Result) -> Trace:
+    """The trace a result was entered with (a correction that names none keeps it)."""
+    uses = tuple(
+        InstrumentUse(use.instrument, use.calibration_id, use.routine_check_id)
+        for use in result.instrument_uses.select_related("instrument").order_by("id")
+    )
+    return Trace(result.reagent_lot, result.standardisation, uses)
+
+
+def trace_save(result: Result, trace: Trace) -> None:
+    """The result's immutable references to the instruments (the lot and standardisation are
+    fields of the result itself)."""
+    ResultInstrument.objects.bulk_create(
+        [ResultInstrument(result=result, instrument=u.instrument, calibration_id=u.calibration_id, routine_check_id=u.check_id) for u in trace.uses]
+    )

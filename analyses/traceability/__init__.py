@@ -1,0 +1,1 @@
+"""Pure computations for traceable measurements (standardisations, usability rules); no ORM."""
