@@ -5,7 +5,7 @@ from __future__ import annotations
 from django.utils import timezone
 from rest_framework import serializers
 
-from analyses.api.serializers.common import StrictSerializer, enum_field_class, username_field
+from analyses.api.serializers.common import StrictSerializer, TextField, enum_field_class, username_field
 from analyses.models import (
     Calibration,
     CheckKind,
@@ -43,21 +43,21 @@ class ReagentKindSerializer(serializers.ModelSerializer):
 
 
 class ReagentKindCreateSerializer(StrictSerializer):
-    name = serializers.CharField(max_length=120)
+    name = TextField(max_length=120)
     substance = SubstanceField(choices=TitrantSubstance.choices)
-    solvent = serializers.CharField(max_length=60, required=False, allow_blank=True, default="water")
+    solvent = TextField(max_length=60, required=False, allow_blank=True, default="water")
     nominal_concentration = serializers.CharField(max_length=64, help_text='"0.5 mol/L", "0.1 N" (divided by equivalents_per_mole)')
     equivalents_per_mole = serializers.IntegerField(required=False, default=1)
     validity_days = serializers.IntegerField(help_text="How long a standardisation stays valid (1 = daily)")
     spread_limit = serializers.CharField(required=False, default=DEFAULT_SPREAD_LIMIT, help_text="Relative range of the replicates")
-    spread_limit_source = serializers.CharField(required=False, default=DEFAULT_SPREAD_SOURCE, max_length=200)
+    spread_limit_source = TextField(required=False, default=DEFAULT_SPREAD_SOURCE, max_length=200)
 
 
 class ReagentKindChangeSerializer(StrictSerializer):
     validity_days = serializers.IntegerField(required=False)
     spread_limit = serializers.CharField(required=False)
-    spread_limit_source = serializers.CharField(required=False, max_length=200)
-    reason = serializers.CharField(help_text="Why; kept in the audit trail")
+    spread_limit_source = TextField(required=False, max_length=200)
+    reason = TextField(help_text="Why; kept in the audit trail")
 
 
 class ReagentLotSerializer(serializers.ModelSerializer):
@@ -86,10 +86,10 @@ class ReagentLotSerializer(serializers.ModelSerializer):
 
 class ReagentLotCreateSerializer(StrictSerializer):
     kind = serializers.PrimaryKeyRelatedField(queryset=ReagentKind.objects.all())
-    code = serializers.CharField(max_length=60)
+    code = TextField(max_length=60)
     prepared_on = serializers.DateField()
     expires_on = serializers.DateField()
-    prepared_by = serializers.CharField(max_length=120, help_text="Who prepared it, or the supplier")
+    prepared_by = TextField(max_length=120, help_text="Who prepared it, or the supplier")
 
 
 class StandardisationSerializer(serializers.ModelSerializer):
@@ -120,7 +120,7 @@ class StandardisationRecordSerializer(StrictSerializer):
     blank = serializers.CharField(required=False, default="0", help_text="mL")
     purity = serializers.CharField(required=False, default="1", help_text="Mass fraction, from the standard's certificate")
     purity_uncertainty = serializers.CharField(required=False, default="0", help_text="Its standard uncertainty")
-    standard_reference = serializers.CharField(required=False, allow_blank=True, default="", max_length=120)
+    standard_reference = TextField(required=False, allow_blank=True, default="", max_length=120)
     reference = serializers.PrimaryKeyRelatedField(
         queryset=Standardisation.objects.all(), required=False, allow_null=True,
         help_text="The base's standardisation (primary_standard = standardised_base)",
@@ -128,7 +128,7 @@ class StandardisationRecordSerializer(StrictSerializer):
 
 
 class StandardisationSupersedeSerializer(StandardisationRecordSerializer):
-    reason = serializers.CharField(help_text="Why the previous one is wrong; kept with both")
+    reason = TextField(help_text="Why the previous one is wrong; kept with both")
 
 
 class InstrumentSerializer(serializers.ModelSerializer):
@@ -157,10 +157,10 @@ class InstrumentSerializer(serializers.ModelSerializer):
 
 
 class InstrumentCreateSerializer(StrictSerializer):
-    asset_id = serializers.CharField(max_length=60)
+    asset_id = TextField(max_length=60)
     kind = InstrumentKindField(choices=InstrumentKind.choices)
-    location = serializers.CharField(required=False, allow_blank=True, default="", max_length=120)
-    description = serializers.CharField(required=False, allow_blank=True, default="", max_length=200)
+    location = TextField(required=False, allow_blank=True, default="", max_length=120)
+    description = TextField(required=False, allow_blank=True, default="", max_length=200)
     check_every_days = serializers.IntegerField(
         required=False, allow_null=True, help_text="Routine check required this often; default daily for a balance"
     )
@@ -182,11 +182,11 @@ class CalibrationSerializer(serializers.ModelSerializer):
 class CalibrationCreateSerializer(StrictSerializer):
     calibrated_on = serializers.DateField()
     due_on = serializers.DateField()
-    certificate_ref = serializers.CharField(max_length=120)
+    certificate_ref = TextField(max_length=120)
     passed = serializers.BooleanField()
     standard_uncertainty = serializers.CharField(required=False, allow_blank=True, default="")
     tolerance = serializers.CharField(required=False, allow_blank=True, default="")
-    unit = serializers.CharField(required=False, allow_blank=True, default="", max_length=20)
+    unit = TextField(required=False, allow_blank=True, default="", max_length=20)
 
 
 class InstrumentCheckSerializer(serializers.ModelSerializer):
@@ -208,7 +208,7 @@ class InstrumentCheckCreateSerializer(StrictSerializer):
     nominal = serializers.CharField(help_text="g for a check weight, absorbance for a filter")
     measured = serializers.CharField()
     tolerance = serializers.CharField()
-    reference = serializers.CharField(required=False, allow_blank=True, default="", max_length=120)
+    reference = TextField(required=False, allow_blank=True, default="", max_length=120)
 
 
 class ImpactPeriodSerializer(StrictSerializer):
