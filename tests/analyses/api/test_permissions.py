@@ -202,7 +202,7 @@ CASES = [
         "reagent kind change",
         lambda lab: Call("post", f"/api/reagent-kinds/{ReagentKind.objects.get(name='KOH 0.1 mol/L').pk}/change/",
                          {"validity_days": 1, "reason": "drifts in warm weather"}),
-        {"manager": 200, "admin": 200},
+        {"manager": 200, "admin": 200, "superuser": 200},
     ),
     Case(
         "reagent lot register",
@@ -210,7 +210,7 @@ CASES = [
             "kind": ReagentKind.objects.get(name="KOH 0.1 mol/L").pk, "code": "KOH-PERM", "prepared_on": "2026-01-05",
             "expires_on": "2027-01-05", "prepared_by": "T. Reyne",
         }),
-        {"manager": 201, "analyst": 201, "admin": 201},
+        {"manager": 201, "analyst": 201, "admin": 201, "superuser": 201},
     ),
     Case("standardisation record", _standardise, ENTERERS),
     Case("standardisation supersede", _supersede, ENTERERS),

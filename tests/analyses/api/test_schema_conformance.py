@@ -46,13 +46,17 @@ TOKEN_NAME = "schema conformance"
 ID_MODELS = {
     "alerts": models.Alert,
     "auth/tokens": models.ApiToken,
+    "instruments": models.Instrument,
     "investigations": models.Investigation,
     "lots": models.Lot,
     "products": models.Product,
+    "reagent-kinds": models.ReagentKind,
+    "reagent-lots": models.ReagentLot,
     "results": models.Result,
     "samples": models.Sample,
     "specifications": models.Specification,
     "stability-studies": models.StabilityStudy,
+    "standardisations": models.Standardisation,
     "tests": models.Test,
 }
 
