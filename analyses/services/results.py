@@ -44,6 +44,7 @@ from analyses.services.access import (
 )
 from analyses.services.review_warnings import line_inputs, test_review_warnings
 from analyses.services.transitions import record_test_move, sample_require_workable
+from analyses.services.uncertainty import result_uncertainty_record
 from analyses.services.verdicts import line_verdict
 from labcore.metrics import RESULTS_ENTERED, count_on_commit
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult, exact_context, float_as_decimal
@@ -289,6 +290,7 @@ def result_record_once(
         inserted = _insert(result, actor=actor, key=key, test=test)
         if inserted is not result:  # a concurrent twin of this request won
             return Recorded(inserted, replayed=True)
+        result_uncertainty_record(result, aggregate)  # its budget, and verdicts by the line's decision rule
         audit_append(
             actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS),
             lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
@@ -428,6 +430,7 @@ def result_correct_once(
             # a concurrent twin of this very request won; undo the superseding above
             transaction.set_rollback(True)
             return Recorded(inserted, replayed=True)
+        result_uncertainty_record(correction, aggregate)
         audit_append(
             actor, AuditAction.CREATE, correction, created(correction, RESULT_FIELDS),
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
