@@ -1,0 +1,50 @@
+"""The uncertainty budget of one result and of its test's mean, for GET /api/results/<id>/uncertainty/.
+
+Reads only: a result entered before budgets were kept has its budget worked out here from its
+inputs (the same function as at entry), not stored. Three queries whatever the number of
+replicates or terms: the result with its budget, test and line; the test's current replicates;
+and (only for such an old result) nothing more than the plugin."""
+from __future__ import annotations
+
+from typing import Any
+
+from analyses.models import Result, ResultStatus, ResultUncertainty, TestUncertainty
+from analyses.services.access import fetch
+from analyses.services.uncertainty import budget_of
+
+NOT_YET = "the test's replicates are not all in (or were corrected since); its mean has no budget yet"
+
+
+def _stored(row: ResultUncertainty | TestUncertainty) -> dict[str, Any]:
+    return {**row.budget, "computed_at": row.computed_at}
+
+
+def result_uncertainty(pk: int | str) -> dict[str, Any]:
+    """The result's budget and, when it is the mean of the current replicates, the test mean's."""
+    fetch(Result, pk)  # NotFound for a missing result, as every detail endpoint
+    result = (
+        Result.objects.select_related("uncertainty", "test__uncertainty", "test__specification_line")
+        .get(pk=pk)
+    )
+    stored = getattr(result, "uncertainty", None) if hasattr(result, "uncertainty") else None
+    if stored is not None:
+        budget = _stored(stored)
+    else:
+        computed = budget_of(result)
+        budget = None if computed is None else {**computed.as_dict(), "computed_at": None}
+    test = result.test
+    mean_row = test.uncertainty if hasattr(test, "uncertainty") else None
+    current = sorted(test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True))
+    fresh = mean_row is not None and sorted(mean_row.results) == current and result.pk in current
+    line = test.specification_line
+    return {
+        "result": result.pk,
+        "test": test.pk,
+        "method_code": result.method_code,
+        "unit": result.unit,
+        "decision_rule": line.decision_rule,
+        "guard_band_multiple": line.guard_band_multiple,
+        "budget": budget,
+        "test_mean": _stored(mean_row) if fresh else None,
+        "test_mean_note": "" if fresh else NOT_YET,
+    }
