@@ -40,7 +40,7 @@ is ever compared with a limit.
 """
 from __future__ import annotations
 
-from decimal import Decimal
+from decimal import Context, Decimal, localcontext
 
 from analyses.models import Comparison, DecisionRule, SpecificationLine, Verdict
 from plugins.contract import float_as_decimal, round_half_even
@@ -74,9 +74,27 @@ def verdict_for(
 _SEVERITY = [Verdict.PASS, Verdict.CONDITIONAL_PASS, Verdict.CONDITIONAL_FAIL, Verdict.OUT_OF_SPECIFICATION]
 
 
-def _inside_by(compared: Decimal, limit: Decimal, *, upper: bool) -> Decimal:
-    """How far inside ``limit`` the compared value lies (negative: outside)."""
-    return limit - compared if upper else compared - limit
+# limits (40 characters at most), U (two significant digits) and a multiple (20 characters) sum
+# and multiply exactly within this many digits; the compared value itself is only ever compared
+_BAND_CONTEXT = Context(prec=120)
+
+
+def _statement(compared: Decimal, limit: Decimal, w: Decimal, *, upper: bool, rule: str) -> str:
+    """One limit's verdict. Only the short numbers (limit, w) take part in arithmetic; the
+    compared value, however many digits, is only compared, so nothing rounds it."""
+    with localcontext(_BAND_CONTEXT):
+        inner, outer = (limit - w, limit + w) if upper else (limit + w, limit - w)
+    def within(bound: Decimal) -> bool:
+        return compared <= bound if upper else compared >= bound
+    if within(inner):
+        return Verdict.PASS
+    if rule == DecisionRule.GUARD_BAND:
+        return Verdict.OUT_OF_SPECIFICATION
+    if within(limit):
+        return Verdict.CONDITIONAL_PASS
+    if within(outer):
+        return Verdict.CONDITIONAL_FAIL
+    return Verdict.OUT_OF_SPECIFICATION
 
 
 def rule_verdict(
@@ -95,17 +113,7 @@ def rule_verdict(
     for limit, upper in ((minimum, False), (maximum, True)):
         if limit is None:
             continue
-        inside = _inside_by(compared_value(value, limit, comparison), limit, upper=upper)
-        if inside >= guard_band:
-            verdict = Verdict.PASS
-        elif rule == DecisionRule.GUARD_BAND:
-            verdict = Verdict.OUT_OF_SPECIFICATION
-        elif inside >= 0:
-            verdict = Verdict.CONDITIONAL_PASS
-        elif -inside <= guard_band:
-            verdict = Verdict.CONDITIONAL_FAIL
-        else:
-            verdict = Verdict.OUT_OF_SPECIFICATION
+        verdict = _statement(compared_value(value, limit, comparison), limit, guard_band, upper=upper, rule=rule)
         worst = max(worst, verdict, key=_SEVERITY.index)
     return worst
 
@@ -114,7 +122,8 @@ def guard_band_for(line: SpecificationLine, expanded: Decimal | str | None) -> D
     """w = the line's multiple x U, exact; None without a U."""
     if expanded in (None, ""):
         return None
-    return Decimal(line.guard_band_multiple or "1") * Decimal(expanded)
+    with localcontext(_BAND_CONTEXT):
+        return Decimal(line.guard_band_multiple or "1") * Decimal(expanded)
 
 
 def line_verdict(value: Decimal | float, line: SpecificationLine, expanded: Decimal | str | None = None) -> str:
