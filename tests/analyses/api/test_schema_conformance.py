@@ -42,8 +42,10 @@ CALLERS = ("admin", "manager", "analyst", "qa", None)  # None: anonymous
 MISSING_ID = 987654321
 
 # The first path segment after /api/ -> the model its {id} names
+TOKEN_NAME = "schema conformance"
 ID_MODELS = {
     "alerts": models.Alert,
+    "auth/tokens": models.ApiToken,
     "investigations": models.Investigation,
     "lots": models.Lot,
     "products": models.Product,
@@ -61,16 +63,19 @@ def credentials_for(username: str | None) -> dict[str, str]:
     The one place that knows how a caller signs in, to adapt when tokens change."""
     if username is None:
         return {}
-    issued = token_issue(get_user_model().objects.get(username=username), name="schema conformance")
+    issued = token_issue(get_user_model().objects.get(username=username), name=TOKEN_NAME)
     return {"Authorization": f"Token {issued.secret}"}
 
 
 def path_values(path: str) -> dict[str, st.SearchStrategy]:
     """Strategies for the path parameters of ``path``: mostly values that exist."""
-    segment = path.removeprefix("/api/").split("/", 1)[0]
+    segment = path.removeprefix("/api/").split("/{", 1)[0]  # "lots", "auth/tokens"
     values: dict[str, st.SearchStrategy] = {}
     if "{id}" in path:
-        ids = sorted(ID_MODELS[segment].objects.values_list("pk", flat=True))
+        rows = ID_MODELS[segment].objects.all()
+        if segment == "auth/tokens":  # never the callers' own tokens: revoking one would sign them out
+            rows = rows.exclude(name=TOKEN_NAME)
+        ids = sorted(rows.values_list("pk", flat=True))
         values["id"] = st.sampled_from(ids) | st.just(MISSING_ID) if ids else st.just(MISSING_ID)
     if "{code}" in path or "{method}" in path:
         name = "code" if "{code}" in path else "method"
