@@ -2,14 +2,13 @@
 
 Reads only: a result entered before budgets were kept has its budget worked out here from its
 inputs (the same function as at entry), not stored. Three queries whatever the number of
-replicates or terms: the result with its budget, test and line; the test's current replicates;
-and (only for such an old result) nothing more than the plugin."""
+replicates or terms: the result with its budget, test and line, and the test's current replicates."""
 from __future__ import annotations
 
 from typing import Any
 
 from analyses.models import Result, ResultStatus, ResultUncertainty, TestUncertainty
-from analyses.services.access import fetch
+from analyses.errors import NotFound
 from analyses.services.uncertainty import budget_of
 
 NOT_YET = "the test's replicates are not all in (or were corrected since); its mean has no budget yet"
@@ -21,14 +20,14 @@ def _stored(row: ResultUncertainty | TestUncertainty) -> dict[str, Any]:
 
 def result_uncertainty(pk: int | str) -> dict[str, Any]:
     """The result's budget and, when it is the mean of the current replicates, the test mean's."""
-    fetch(Result, pk)  # NotFound for a missing result, as every detail endpoint
     result = (
         Result.objects.select_related("uncertainty", "test__uncertainty", "test__specification_line")
-        .get(pk=pk)
+        .filter(pk=pk).first()
     )
-    stored = getattr(result, "uncertainty", None) if hasattr(result, "uncertainty") else None
-    if stored is not None:
-        budget = _stored(stored)
+    if result is None:
+        raise NotFound(f"result {pk} not found")
+    if hasattr(result, "uncertainty"):
+        budget = _stored(result.uncertainty)
     else:
         computed = budget_of(result)
         budget = None if computed is None else {**computed.as_dict(), "computed_at": None}

@@ -12,7 +12,7 @@ from analyses.models import AuditAction, Certificate, Lot, ResultStatus, Specifi
 from analyses.services.access import Actor
 from analyses.services.decision_statements import rule_statement
 from analyses.services.release import release_samples
-from analyses.services.uncertainty import test_expanded_uncertainty
+from analyses.services.uncertainty import mean_expanded_uncertainty
 from plugins.uncertainty import COVERAGE_FACTOR
 from plugins.registry import UnknownMethod, get_registry
 
@@ -67,7 +67,7 @@ def certificate_content(actor: Actor, lot: Lot, issued_at) -> dict[str, Any]:
                     "comparison": line.comparison,
                     "release_critical": line.release_critical,
                     "verdict": test.verdict,
-                    "expanded_uncertainty": test_expanded_uncertainty(test),
+                    "expanded_uncertainty": mean_expanded_uncertainty(test),
                     "coverage_factor": COVERAGE_FACTOR,
                     "decision_rule": rule_statement(line),
                     "duplicate_check": test.duplicate_check,

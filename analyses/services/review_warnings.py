@@ -53,13 +53,13 @@ def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[st
 
 def _decision_warnings(test: Test, mean: Any) -> list[str]:
     """A conditional pass (ILAC G8 non-binary statements) is no OOS; it releases, and is said."""
-    from analyses.services.uncertainty import test_expanded_uncertainty
+    from analyses.services.uncertainty import mean_expanded_uncertainty
     from analyses.services.verdicts import guard_band_for, line_verdict
 
     line = test.specification_line
     if line.decision_rule != DecisionRule.NON_BINARY:
         return []
-    expanded = test_expanded_uncertainty(test)
+    expanded = mean_expanded_uncertainty(test)
     if line_verdict(mean, line, expanded) != Verdict.CONDITIONAL_PASS:
         return []
     return [

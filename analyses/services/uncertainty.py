@@ -18,7 +18,8 @@ from typing import Any
 from django.conf import settings
 from django.utils import timezone
 
-from analyses.models import Result, ResultStatus, ResultUncertainty, Test, TestState, TestUncertainty
+from analyses.audit import audit_append, created, json_safe
+from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Test, TestState, TestUncertainty
 from analyses.services.review_warnings import line_inputs
 from analyses.services.verdicts import line_verdict
 from plugins.contract import MethodInputError, MethodPlugin
@@ -29,6 +30,7 @@ from plugins.uncertainty import Budget, BudgetSource, mean_budget, repeatability
 REPEATABILITY_SOURCES = ("plugin", "lab_duplicates")
 LAB_PAIRS_NEEDED = 15  # enough pairs for a pooled s_r with 15 degrees of freedom (common practice, no source)
 LAB_PAIRS_USED = 60
+AUDITED_FIELDS = ("combined", "coverage_factor", "expanded", "source")
 
 
 def lab_duplicate_pairs(method_code: str, limit: int = LAB_PAIRS_USED) -> list[tuple[float, float]]:
@@ -74,12 +76,16 @@ def _stored(budget: Budget) -> dict[str, Any]:
 def result_uncertainty_record(result: Result, aggregate: dict[str, Any] | None) -> None:
     """Store the budget of the just-inserted ``result`` and judge it by its line's decision rule;
     with ``aggregate`` (the test is complete), store the mean's budget and judge the mean too
-    (``aggregate["verdict"]`` is replaced in place). Runs in the caller's transaction."""
-    line = result.test.specification_line
+    (``aggregate["verdict"]`` is replaced in place). Runs in the caller's transaction; each
+    stored U is audited, under the user who entered the result."""
+    test = result.test
+    line = test.specification_line
+    refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
     budget = budget_of(result)
     if budget is None:
         return
-    ResultUncertainty.objects.create(result=result, **_stored(budget))
+    row = ResultUncertainty.objects.create(result=result, **_stored(budget))
+    audit_append(result.entered_by, AuditAction.CREATE, row, created(row, AUDITED_FIELDS + ("result",)), **refs)
     verdict = line_verdict(Decimal(result.value_exact), line, budget.expanded)
     if verdict != result.verdict:
         result.verdict = verdict
@@ -87,42 +93,38 @@ def result_uncertainty_record(result: Result, aggregate: dict[str, Any] | None) 
     if aggregate is None:
         return
     current = list(
-        Result.objects.filter(test_id=result.test_id, status=ResultStatus.CURRENT)
-        .select_related("uncertainty").order_by("replicate")
+        Result.objects.filter(test_id=test.pk, status=ResultStatus.CURRENT).select_related("uncertainty", "test__specification_line")
+        .order_by("replicate")
     )
     budgets = [_budget_dict(r) for r in current]
     if any(b is None for b in budgets):
         return
     mean = mean_budget(budgets)
-    TestUncertainty.objects.update_or_create(
-        test_id=result.test_id, defaults={"results": [r.pk for r in current], **_stored(mean)}
+    before = TestUncertainty.objects.filter(test_id=test.pk).first()
+    fields = {"results": [r.pk for r in current], **_stored(mean)}
+    row, _ = TestUncertainty.objects.update_or_create(test_id=test.pk, defaults=fields)
+    changes = {
+        name: [None if before is None else json_safe(getattr(before, name)), json_safe(getattr(row, name))]
+        for name in (*AUDITED_FIELDS, "results")
+    }
+    audit_append(
+        result.entered_by, AuditAction.CREATE if before is None else AuditAction.CHANGE, row, changes,
+        reason="the mean of the current replicates", **refs,
     )
     aggregate["verdict"] = line_verdict(Decimal(aggregate["value_exact"]), line, mean.expanded)
 
 
 def _budget_dict(result: Result) -> dict[str, Any] | None:
-    stored = getattr(result, "uncertainty", None) if _has_uncertainty(result) else None
-    if stored is not None:
-        return stored.budget
+    if hasattr(result, "uncertainty"):
+        return result.uncertainty.budget
     budget = budget_of(result)  # a result entered before budgets were kept
     return None if budget is None else budget.as_dict()
 
 
-def _has_uncertainty(result: Result) -> bool:
-    try:
-        result.uncertainty  # noqa: B018
-    except ResultUncertainty.DoesNotExist:
-        return False
-    return True
-
-
-def test_expanded_uncertainty(test: Test) -> str | None:
+def mean_expanded_uncertainty(test: Test) -> str | None:
     """U of the test's mean as stored, if it is the mean of the current replicates."""
     stored = TestUncertainty.objects.filter(test=test).first()
     if stored is None:
         return None
     current = sorted(test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True))
     return stored.expanded if sorted(stored.results) == current else None
-
-
-test_expanded_uncertainty.__test__ = False  # not a pytest test

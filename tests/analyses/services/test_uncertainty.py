@@ -11,7 +11,7 @@ from decimal import Decimal
 import pytest
 
 from analyses.errors import InvalidInput
-from analyses.models import Investigation, ResultUncertainty, Test, TestUncertainty, Verdict
+from analyses.models import AuditEntry, Investigation, ResultUncertainty, Test, TestUncertainty, Verdict
 from analyses.selectors.lists import lot_readiness
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.lots import lot_create, lot_release
@@ -63,6 +63,8 @@ def test_each_result_and_the_mean_get_a_stored_budget(users, assigned_tests):
     mean = TestUncertainty.objects.get(test=av)
     assert sorted(mean.results) == sorted([first.pk, second.pk]) and mean.budget["replicates"] == 2
     assert mean.combined < stored.combined  # repeatability / sqrt(2)
+    audited = AuditEntry.objects.filter(object_id__in=[str(stored.pk), str(mean.pk)], object_type__icontains="uncertainty")
+    assert {tuple(entry.changes["expanded"]) for entry in audited} == {(None, stored.expanded), (None, mean.expanded)}
 
 
 def test_a_correction_recomputes_the_mean(users, assigned_tests):
