@@ -13,8 +13,8 @@ from analyses.services.access import Actor
 from analyses.services.decision_statements import rule_statement
 from analyses.services.release import release_samples
 from analyses.services.uncertainty import mean_expanded_uncertainty
-from plugins.uncertainty import COVERAGE_FACTOR
 from plugins.registry import UnknownMethod, get_registry
+from plugins.uncertainty import COVERAGE_FACTOR
 
 DECISION_RULE = (
     "Each result is the mean of its replicates, reported by ASTM E29 rounding (half to even), with its expanded "

@@ -9,6 +9,7 @@ from __future__ import annotations
 from django.db.models import Prefetch
 
 from analyses.models import (
+    RELEASABLE_VERDICTS,
     InvestigationState,
     Lot,
     Sample,
@@ -16,7 +17,6 @@ from analyses.models import (
     SampleState,
     Test,
     TestState,
-    RELEASABLE_VERDICTS,
 )
 
 # Kinds whose tests decide release; retain samples are stored, stability pulls belong to studies.
