@@ -146,3 +146,28 @@ def test_the_lab_duplicates_replace_the_plugin_repeatability_once_there_are_enou
         test_accept(users["analyst2"], test)
     basis = budget_source(plugin).repeatability(plugin, 0.35).basis
     assert basis.startswith("the laboratory's own duplicates") and f"{LAB_PAIRS_NEEDED} accepted pairs" in basis
+
+
+@pytest.mark.parametrize("multiple", ["abc", "0", "-1", "11", "NaN", True])
+def test_a_bad_guard_band_multiple_is_refused_naming_the_field(users, multiple):
+    product = ProductFactory(code="P-BAD", created_by=users["manager"])
+    with pytest.raises(InvalidInput) as refused:
+        specification_create(
+            users["manager"], product, effective_from="2020-01-01",
+            lines=[{"method": "av", "maximum": "0.6", "decision_rule": "guard_band", "guard_band_multiple": multiple}],
+        )
+    assert "lines.0.guard_band_multiple" in refused.value.fields
+
+
+def test_a_guard_band_multiple_is_kept_as_written_and_survives_a_revision(users):
+    from analyses.services.specifications import specification_revise
+
+    product = ProductFactory(code="P-GB", created_by=users["manager"])
+    draft = specification_create(
+        users["manager"], product, effective_from="2020-01-01",
+        lines=[{"method": "av", "maximum": "0.6", "decision_rule": "guard_band", "guard_band_multiple": "1.5"}],
+    )
+    line = draft.lines.get()
+    assert (line.decision_rule, line.guard_band_multiple) == ("guard_band", "1.5")
+    revised = specification_revise(users["manager"], specification_approve(users["qa"], draft), effective_from="2030-01-01")
+    assert revised.lines.get().guard_band_multiple == "1.5"
