@@ -287,6 +287,15 @@ AUDIT_ANCHOR_WEBHOOK_URL = os.environ.get("AUDIT_ANCHOR_WEBHOOK_URL", "")
 TREND_EWMA_SMOOTHING = float(os.environ.get("TREND_EWMA_SMOOTHING", 0.2))
 TREND_EWMA_WIDTH = float(os.environ.get("TREND_EWMA_WIDTH", 3.0))
 
+# Measurement uncertainty and decision rules (analyses/services/uncertainty.py, verdicts.py):
+# the repeatability in each budget, "plugin" (the method's declared r) or "lab_duplicates"
+# (pooled from the lab's accepted duplicates, once there are enough); and the lab's opt-in to
+# ILAC G8's non-binary statements (conditional pass / conditional fail) on specification lines.
+OLEOTRACE_REPEATABILITY_SOURCE = os.environ.get("OLEOTRACE_REPEATABILITY_SOURCE", "plugin")
+if OLEOTRACE_REPEATABILITY_SOURCE not in ("plugin", "lab_duplicates"):
+    raise ImproperlyConfigured("OLEOTRACE_REPEATABILITY_SOURCE must be plugin or lab_duplicates")
+OLEOTRACE_NON_BINARY_STATEMENTS = _env_flag("OLEOTRACE_NON_BINARY_STATEMENTS")
+
 EMAIL_BACKEND = os.environ.get("EMAIL_BACKEND", "django.core.mail.backends.console.EmailBackend")
 DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")
 ALERT_EMAIL_RECIPIENTS = [a for a in os.environ.get("ALERT_EMAIL_RECIPIENTS", "qa@localhost").split(",") if a]

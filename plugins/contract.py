@@ -44,6 +44,18 @@ Computation
     Cross-field rules go in ``check(values)``, which raises :class:`MethodInputError`
     naming the field; it receives the same values as ``compute``.
 
+Uncertainty (GUM, JCGM 100:2008)
+    ``sensitivities(values)`` returns the sensitivity coefficient df/dx of each quantity input
+    present in ``values`` (the same values compute() takes), as floats in result unit per input
+    unit. The default takes central differences on ``compute()`` itself, with Decimal steps of a
+    millionth of each value (1e-6 where it is 0) in the 60-digit context: for the products and
+    quotients of titration formulas this is exact to some 12 significant digits, and a plugin
+    never writes its formula twice. Where a step leaves the formula's domain (a titre equal to
+    the blank), a one-sided difference is used. A plugin may override it with analytic
+    derivatives. ``plugins.uncertainty`` combines the coefficients with the inputs' standard
+    uncertainties from a budget source; ``default_uncertainties`` (name -> ``UnitDefault`` of
+    ``plugins.default_budget``) overrides the default budget's per-unit values for one input.
+
 Every public entry point (:meth:`MethodPlugin.calculate`) validates first, so a plugin
 never sees a value it cannot use. All input errors are one type,
 :class:`MethodInputError`, which names the offending input and says why.
@@ -304,6 +316,8 @@ class MethodPlugin:
     scope: ClassVar[tuple[MethodScope, ...]] = ()
     blank: ClassVar[BlankRule | None] = None
     basis: ClassVar[ResultBasis | None] = None
+    # per-input overrides of the default uncertainty budget (see "Uncertainty" above)
+    default_uncertainties: ClassVar[Mapping[str, Any]] = {}
 
     # --- traceability (issue 9): see "Traceability" in the module docstring ---------
     titrants: ClassVar[tuple[str, ...]] = ()
@@ -323,6 +337,37 @@ class MethodPlugin:
     def unit_for(self, values: Mapping[str, Any]) -> str:
         """The result's unit for these inputs; ``result_unit`` unless an input changes it."""
         return self.result_unit
+
+    def sensitivities(self, values: Mapping[str, Any]) -> dict[str, float]:
+        """df/dx for each quantity input in ``values``, by central differences on compute()."""
+        coefficients: dict[str, float] = {}
+        for spec in self.inputs:
+            x = values.get(spec.name)
+            if not isinstance(spec, QuantityInput) or x is None or isinstance(x, str):
+                continue
+            coefficients[spec.name] = self._difference(values, spec.name, x)
+        return coefficients
+
+    def _difference(self, values: Mapping[str, Any], name: str, x: Decimal | float) -> float:
+        exact = isinstance(x, Decimal)
+        step = (abs(x) if x else (Decimal(1) if exact else 1.0)) * (Decimal("1e-6") if exact else 1e-6)
+
+        def at(point: Decimal | float) -> Decimal | float | None:
+            try:
+                with localcontext(exact_context()):
+                    return self.compute({**values, name: point})
+            except (MethodInputError, ArithmeticError, ValueError):
+                return None
+
+        with localcontext(exact_context()):
+            up, down, here = at(x + step), at(x - step), at(x)
+            if up is not None and down is not None:
+                return float((up - down) / (2 * step))
+            if up is not None and here is not None:
+                return float((up - here) / step)
+            if down is not None and here is not None:
+                return float((here - down) / step)
+        raise MethodInputError(name, "the formula has no derivative here")
 
     # --- shared behaviour ---------------------------------------------------------
     def validate(self, raw: Mapping[str, Any]) -> dict[str, Any]:

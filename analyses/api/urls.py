@@ -55,6 +55,7 @@ urlpatterns = [
     path("results/", results.ResultRecordView.as_view(), name="result-record"),
     path("results/bulk/", results.ResultRecordBulkView.as_view(), name="result-record-bulk"),
     path("results/<int:pk>/", results.ResultDetailView.as_view(), name="result-detail"),
+    path("results/<int:pk>/uncertainty/", results.ResultUncertaintyView.as_view(), name="result-uncertainty"),
     path("results/<int:pk>/correct/", results.ResultCorrectView.as_view(), name="result-correct"),
     path("investigations/", investigations.InvestigationListView.as_view(), name="investigation-list"),
     path("investigations/<int:pk>/", investigations.InvestigationDetailView.as_view(), name="investigation-detail"),

@@ -33,7 +33,7 @@ from analyses.models.stability import (
     StudyAttribute,
     StudyState,
 )
-from analyses.models.specifications import Comparison, Specification, SpecificationLine, SpecificationStatus
+from analyses.models.specifications import Comparison, DecisionRule, Specification, SpecificationLine, SpecificationStatus
 from analyses.models.trends import (
     Alert,
     AlertSeverity,
@@ -44,11 +44,14 @@ from analyses.models.trends import (
     SeriesKind,
 )
 from analyses.models.tokens import ApiToken
+from analyses.models.uncertainty import ResultUncertainty, TestUncertainty
 from analyses.models.testing import (
     OPEN_TEST_STATES,
     WORKABLE_TEST_STATES,
     Priority,
     Test,
+    OOS_VERDICTS,
+    RELEASABLE_VERDICTS,
     TestState,
     Verdict,
 )
@@ -111,4 +114,9 @@ __all__ = [
     "Test",
     "TestState",
     "Verdict",
+    "ResultUncertainty",
+    "TestUncertainty",
+    "DecisionRule",
+    "OOS_VERDICTS",
+    "RELEASABLE_VERDICTS",
 ]

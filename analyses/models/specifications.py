@@ -25,6 +25,15 @@ class Comparison(models.TextChoices):
     ROUNDING = "rounding", "ASTM E29 rounding method (value rounded to the limit's places)"
 
 
+class DecisionRule(models.TextChoices):
+    """How measurement uncertainty enters conformity (ISO/IEC 17025 7.8.6; ILAC G8:09/2019;
+    JCGM 106:2012). See analyses/services/verdicts.py."""
+
+    SIMPLE = "simple", "Simple acceptance (no guard band)"
+    GUARD_BAND = "guard_band", "Guard band w = multiple x U: passes only inside the limit by at least w"
+    NON_BINARY = "non_binary", "ILAC G8 non-binary statements: pass, conditional pass, conditional fail, fail"
+
+
 class Specification(models.Model):
     product = models.ForeignKey("analyses.Product", on_delete=models.PROTECT, related_name="specifications")
     version = models.PositiveIntegerField()
@@ -81,6 +90,9 @@ class SpecificationLine(models.Model):
     minimum = models.CharField(max_length=40, blank=True)
     maximum = models.CharField(max_length=40, blank=True)
     comparison = models.CharField(max_length=16, choices=Comparison.choices, default=Comparison.ABSOLUTE)
+    decision_rule = models.CharField(max_length=16, choices=DecisionRule.choices, default=DecisionRule.SIMPLE)
+    # w = guard_band_multiple x U (Decimal string); "1" is ILAC G8's w = U
+    guard_band_multiple = models.CharField(max_length=20, default="1")
     release_critical = models.BooleanField(default=True)
     turnaround_days = models.PositiveIntegerField(default=3)
     limits_source = models.CharField(max_length=300, blank=True)

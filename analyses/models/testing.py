@@ -37,6 +37,15 @@ class Priority(models.IntegerChoices):
 class Verdict(models.TextChoices):
     PASS = "pass", "Pass"
     OUT_OF_SPECIFICATION = "oos", "Out of specification"
+    # ILAC G8:09/2019 non-binary statements, where a specification line uses them
+    CONDITIONAL_PASS = "cpass", "Conditional pass (inside the limit, within U of it)"
+    CONDITIONAL_FAIL = "cfail", "Conditional fail (outside the limit, within U of it)"
+
+
+# a conditional fail is outside the limit: an OOS like any other; a conditional pass is not,
+# and releases like a pass (shown in review and on readiness)
+OOS_VERDICTS = (Verdict.OUT_OF_SPECIFICATION, Verdict.CONDITIONAL_FAIL)
+RELEASABLE_VERDICTS = (Verdict.PASS, Verdict.CONDITIONAL_PASS)
 
 
 class Test(models.Model):

@@ -10,15 +10,27 @@ from django.utils import timezone
 from analyses.audit import audit_append, json_safe
 from analyses.models import AuditAction, Certificate, Lot, ResultStatus, Specification, TestState
 from analyses.services.access import Actor
+from analyses.services.decision_statements import rule_statement
 from analyses.services.release import release_samples
+from analyses.services.uncertainty import mean_expanded_uncertainty
 from plugins.registry import UnknownMethod, get_registry
+from plugins.uncertainty import COVERAGE_FACTOR
 
 DECISION_RULE = (
-    "Each result is the mean of its replicates, reported by ASTM E29 rounding (half to even). "
-    "Conformity is judged against each limit by the ASTM E29 method the specification line names: "
-    "absolute (unrounded value) or rounding (value rounded to the limit's places). Simple acceptance, "
-    "no guard band for measurement uncertainty."
+    "Each result is the mean of its replicates, reported by ASTM E29 rounding (half to even), with its expanded "
+    "measurement uncertainty U (k = 2, GUM). Conformity is judged against each limit by the ASTM E29 method the "
+    "specification line names: absolute (unrounded value) or rounding (value rounded to the limit's places); that "
+    "value is then held against the limit moved inward by the guard band of the line's decision rule "
+    "(none for simple acceptance). Each result states its rule and the risk it implies (ILAC G8:09/2019)."
 )
+
+
+def _distinct(statements) -> list[dict[str, str]]:
+    seen: list[dict[str, str]] = []
+    for statement in statements:
+        if statement not in seen:
+            seen.append(statement)
+    return seen
 
 
 def _method_facts(code: str) -> dict[str, Any]:
@@ -77,6 +89,9 @@ def certificate_content(actor: Actor, lot: Lot, issued_at) -> dict[str, Any]:
                     "comparison": line.comparison,
                     "release_critical": line.release_critical,
                     "verdict": test.verdict,
+                    "expanded_uncertainty": mean_expanded_uncertainty(test),
+                    "coverage_factor": COVERAGE_FACTOR,
+                    "decision_rule": rule_statement(line),
                     "duplicate_check": test.duplicate_check,
                     "accepted_by": test.reviewed_by.username if test.reviewed_by_id else None,
                     "accepted_at": test.reviewed_at,
@@ -106,6 +121,7 @@ def certificate_content(actor: Actor, lot: Lot, issued_at) -> dict[str, Any]:
             ],
             "results": results,
             "decision_rule": DECISION_RULE,
+            "decision_rules": _distinct(result["decision_rule"] for result in results),
             "released_by": actor.username,
             "released_at": issued_at,
         }

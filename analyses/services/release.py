@@ -9,6 +9,7 @@ from __future__ import annotations
 from django.db.models import Prefetch
 
 from analyses.models import (
+    RELEASABLE_VERDICTS,
     InvestigationState,
     Lot,
     Sample,
@@ -16,7 +17,6 @@ from analyses.models import (
     SampleState,
     Test,
     TestState,
-    Verdict,
 )
 
 # Kinds whose tests decide release; retain samples are stored, stability pulls belong to studies.
@@ -42,7 +42,7 @@ def release_warnings(lot: Lot) -> list[str]:
         f"sample {sample.label}: {test.method_code} test {test.pk}: {warning}"
         for sample in release_samples(lot)
         for test in sample.live_tests
-        for warning in test.review_warnings or ()
+        for warning in test.review_warnings or ()  # a conditional pass is one (review_warnings.py)
     ]
 
 
@@ -68,7 +68,7 @@ def release_blockers(lot: Lot) -> list[str]:
             critical_tests += 1
             if test.state != TestState.ACCEPTED:
                 missing.append(f"sample {sample.label}: {test.method_code} test {test.pk} is {test.state}, not accepted")
-            elif test.verdict != Verdict.PASS:
+            elif test.verdict not in RELEASABLE_VERDICTS:
                 missing.append(f"sample {sample.label}: {test.method_code} test {test.pk} is out of specification")
     if critical_tests == 0:
         missing.append(f"lot {lot.code} has no release-critical test")

@@ -163,6 +163,15 @@ def trace_for_entry(
     return Trace(lot, standardisation, _instruments(plugin, instruments, now))
 
 
+def stored_inputs(result: Result) -> dict[str, Any]:
+    """A stored result's inputs as its plugin took them: as entered, with the concentration of
+    the titrant lot's standardisation where the result was measured with one."""
+    given = dict(result.inputs)
+    if result.titrant_concentration:
+        given.setdefault(TITRANT_INPUT, result.titrant_concentration)
+    return given
+
+
 def trace_of(result: Result) -> Trace:
     """The trace a result was entered with (a correction that names none keeps it)."""
     uses = tuple(

@@ -58,6 +58,7 @@ from analyses.services.result_trace import (
     trace_save,
 )
 from analyses.services.transitions import record_test_move, sample_require_workable
+from analyses.services.uncertainty import result_uncertainty_record
 from analyses.services.verdicts import line_verdict
 from labcore.metrics import RESULTS_ENTERED, count_on_commit
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult, exact_context, float_as_decimal
@@ -336,6 +337,7 @@ def result_record_once(
         if inserted is not result:  # a concurrent twin of this request won
             return Recorded(inserted, replayed=True)
         trace_save(result, trace)
+        result_uncertainty_record(result, aggregate)  # its budget, and verdicts by the line's decision rule
         audit_append(
             actor, AuditAction.CREATE, result, _created_with_trace(result, trace),
             lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
@@ -497,6 +499,7 @@ def result_correct_once(
             transaction.set_rollback(True)
             return Recorded(inserted, replayed=True)
         trace_save(correction, trace)
+        result_uncertainty_record(correction, aggregate)
         audit_append(
             actor, AuditAction.CREATE, correction, _created_with_trace(correction, trace),
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,

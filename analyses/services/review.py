@@ -11,7 +11,7 @@ from django.utils import timezone
 
 from analyses.audit import audit_append, created
 from analyses.errors import Conflict, NotAllowed
-from analyses.models import AuditAction, Investigation, ResultStatus, Test, TestState, Verdict
+from analyses.models import OOS_VERDICTS, AuditAction, Investigation, ResultStatus, Test, TestState
 from analyses.services.access import Actor, actor_name, require_permission, required_text
 from analyses.services.follow_up import test_accepted_follow_up
 from analyses.services.results import AGGREGATE_FIELDS, lock_test_row, set_test_aggregate
@@ -55,7 +55,7 @@ def test_accept(actor: Actor, test: Test | int, *, note: str = "") -> Test:
         test.reviewed_at = timezone.now()
         test.review_note = (note or "").strip()
         test.save(update_fields=["state", "reviewed_by", "reviewed_at", "review_note"])
-        if test.verdict == Verdict.OUT_OF_SPECIFICATION:
+        if test.verdict in OOS_VERDICTS:  # a conditional fail is an OOS too (ILAC G8 non-binary)
             investigation = Investigation.objects.create(
                 lot_id=test.sample.lot_id, test=test, opened_by=actor, opened_at=timezone.now()
             )

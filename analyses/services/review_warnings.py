@@ -5,8 +5,8 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
-from analyses.models import ResultStatus, SpecificationLine, Test
-from analyses.services.result_trace import TITRANT_INPUT
+from analyses.models import DecisionRule, ResultStatus, SpecificationLine, Test, Verdict
+from analyses.services.result_trace import stored_inputs
 from plugins.blanks import blank_warnings
 from plugins.contract import MethodInputError, MethodPlugin
 from plugins.review_warnings import scope_warnings
@@ -28,11 +28,8 @@ def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
     """Blank warnings of each current replicate, one line per distinct warning naming the replicates."""
     by_warning: dict[str, list[int]] = {}
     for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
-        stored = dict(result.inputs)
-        if result.titrant_concentration:  # entered from a standardised lot (issue 9), not typed
-            stored.setdefault(TITRANT_INPUT, result.titrant_concentration)
         try:
-            values = plugin.validate(line_inputs(plugin, test.specification_line, stored))
+            values = plugin.validate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
         except MethodInputError as exc:  # entered under an older version of the method's checks
             found = [f"its inputs no longer pass method {plugin.code}'s checks ({exc.field}: {exc.reason})"]
         else:
@@ -48,8 +45,28 @@ def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
 
 def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[str]:
     """What the reviewer should weigh before accepting ``test``, whose replicates are all in:
-    their blanks, and the mean against the method's scope. Never a reason to refuse."""
-    return _replicate_warnings(plugin, test) + scope_warnings(plugin, mean, test.specification_line.unit)
+    their blanks, the mean against the method's scope, and a conditional pass. Never a reason to refuse."""
+    return (
+        _replicate_warnings(plugin, test) + scope_warnings(plugin, mean, test.specification_line.unit)
+        + _decision_warnings(test, mean)
+    )
+
+
+def _decision_warnings(test: Test, mean: Any) -> list[str]:
+    """A conditional pass (ILAC G8 non-binary statements) is no OOS; it releases, and is said."""
+    from analyses.services.uncertainty import mean_expanded_uncertainty
+    from analyses.services.verdicts import guard_band_for, line_verdict
+
+    line = test.specification_line
+    if line.decision_rule != DecisionRule.NON_BINARY:
+        return []
+    expanded = mean_expanded_uncertainty(test)
+    if line_verdict(mean, line, expanded) != Verdict.CONDITIONAL_PASS:
+        return []
+    return [
+        f"conditional pass: the mean is inside the specification limit by less than the guard band "
+        f"w = {guard_band_for(line, expanded)} ({line.guard_band_multiple} x U, U = {expanded}, k = 2; ILAC G8:09/2019)"
+    ]
 
 
 test_review_warnings.__test__ = False  # a service, not a pytest test

@@ -9,6 +9,9 @@ A line is given as a mapping::
      "release_critical": True,       # default True
      "comparison": "absolute",       # or "rounding" (ASTM E29); default absolute
      "turnaround_days": 3,           # default due date offset from receipt
+     "decision_rule": "guard_band",  # simple (default), guard_band or non_binary (the lab opts
+                                     # in: OLEOTRACE_NON_BINARY_STATEMENTS); verdicts.py
+     "guard_band_multiple": "1",     # w = this x U (k = 2); default 1, i.e. w = U
      "basis": "palmitic"}            # where the method has one (FFA): what the result is
                                      # expressed as; the line's unit follows ("% as palmitic")
 
@@ -26,13 +29,14 @@ from collections.abc import Mapping, Sequence
 from decimal import Decimal, InvalidOperation
 from typing import Any
 
+from django.conf import settings
 from django.db import transaction
 from django.db.models import Max
 from django.utils import timezone
 
 from analyses.audit import audit_append, created, snapshot
 from analyses.errors import Conflict, InvalidInput
-from analyses.models import AuditAction, Comparison, Product, Specification, SpecificationLine, SpecificationStatus
+from analyses.models import AuditAction, Comparison, DecisionRule, Product, Specification, SpecificationLine, SpecificationStatus
 from analyses.services.access import Actor, fetch, require_permission
 from plugins.contract import MethodPlugin
 from plugins.registry import UnknownMethod, get_registry
@@ -40,9 +44,13 @@ from plugins.registry import UnknownMethod, get_registry
 SPECIFICATION_FIELDS = ("product", "version", "status", "effective_from", "note", "revised_from")
 LINE_FIELDS = (
     "position", "method_code", "unit", "minimum", "maximum", "comparison",
-    "release_critical", "turnaround_days", "limits_source", "basis",
+    "release_critical", "turnaround_days", "limits_source", "basis", "decision_rule", "guard_band_multiple",
 )
-LINE_KEYS = {"method", "minimum", "maximum", "codex_oil_type", "release_critical", "comparison", "turnaround_days", "basis"}
+LINE_KEYS = {
+    "method", "minimum", "maximum", "codex_oil_type", "release_critical", "comparison", "turnaround_days", "basis",
+    "decision_rule", "guard_band_multiple",
+}
+MULTIPLE_MAX_CHARS = SpecificationLine._meta.get_field("guard_band_multiple").max_length
 
 
 # what a SpecificationLine keeps of a limit, written out
@@ -139,7 +147,10 @@ def _clean_line(raw: Any, index: int, product_oil_type: str = "") -> dict[str, A
     turnaround = raw.get("turnaround_days", 3)
     if isinstance(turnaround, bool) or not isinstance(turnaround, int) or not 0 <= turnaround <= 365:
         raise InvalidInput.for_field(f"{prefix}.turnaround_days", "must be a whole number of days, 0 to 365")
+    rule, multiple = _decision_rule(raw, prefix)
     return {
+        "decision_rule": rule,
+        "guard_band_multiple": multiple,
         "position": index,
         "method_code": code,
         "unit": unit,
@@ -151,6 +162,34 @@ def _clean_line(raw: Any, index: int, product_oil_type: str = "") -> dict[str, A
         "limits_source": source,
         "basis": basis,
     }
+
+
+def _decision_rule(raw: Mapping[str, Any], prefix: str) -> tuple[str, str]:
+    """The line's decision rule and guard-band multiple (a positive decimal, kept as written)."""
+    rule = str(raw.get("decision_rule") or DecisionRule.SIMPLE)
+    if rule not in DecisionRule.values:
+        raise InvalidInput.for_field(f"{prefix}.decision_rule", f"must be one of {', '.join(DecisionRule.values)}")
+    if rule == DecisionRule.NON_BINARY and not settings.OLEOTRACE_NON_BINARY_STATEMENTS:
+        raise InvalidInput.for_field(
+            f"{prefix}.decision_rule",
+            "non_binary needs the laboratory's opt-in (OLEOTRACE_NON_BINARY_STATEMENTS=1): ILAC G8's conditional "
+            "statements must be agreed with the customer",
+        )
+    given = raw.get("guard_band_multiple")
+    if given is None or given == "":
+        return rule, "1"
+    try:
+        multiple = Decimal(str(given).strip())
+    except InvalidOperation:
+        raise InvalidInput.for_field(f"{prefix}.guard_band_multiple", "must be a decimal number, e.g. 1 or 1.5") from None
+    if isinstance(given, bool) or not multiple.is_finite() or multiple <= 0 or multiple > 10:
+        raise InvalidInput.for_field(f"{prefix}.guard_band_multiple", "must be a number above 0 and at most 10")
+    if rule == DecisionRule.SIMPLE and multiple != 1:
+        raise InvalidInput.for_field(f"{prefix}.guard_band_multiple", "applies to guard_band and non_binary lines only")
+    written = format(multiple, "f")
+    if len(written) > MULTIPLE_MAX_CHARS:
+        raise InvalidInput.for_field(f"{prefix}.guard_band_multiple", f"must be at most {MULTIPLE_MAX_CHARS} characters")
+    return rule, written
 
 
 def _clean_lines(lines: Sequence[Any], product_oil_type: str = "") -> list[dict[str, Any]]:

@@ -18,7 +18,7 @@ from django.utils import timezone
 
 from analyses.audit import audit_append, created
 from analyses.errors import InvalidInput
-from analyses.models import Alert, AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind, Verdict
+from analyses.models import Alert, AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind, OOS_VERDICTS
 from analyses.selectors.trend_series import qc_runs_key, trend_series_frame
 from analyses.services.access import Actor, require_permission
 from analyses.services.alerts import AlertDraft, alerts_raise
@@ -199,7 +199,7 @@ def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:
         involved = series.iloc[list(episode.points)]
         if episode.rule == "out_of_trend":
             # an out-of-specification result is already an OOS investigation, not also out-of-trend
-            involved = involved[involved["verdict"] != Verdict.OUT_OF_SPECIFICATION]
+            involved = involved[~involved["verdict"].isin(OOS_VERDICTS)]
             if involved.empty:
                 continue
         rule = RULES[episode.rule]

@@ -88,3 +88,38 @@ class ResultCorrectSerializer(StrictSerializer):
         child=ReferenceField(), required=False, max_length=20, help_text=INSTRUMENTS_HELP + "; default: the corrected result's"
     )
     reason = TextField(help_text="Why the result is corrected; kept with the new version")
+
+
+class BudgetTermSerializer(serializers.Serializer):
+    name = serializers.CharField(help_text='an input of the method, or "repeatability"')
+    unit = serializers.CharField()
+    value = serializers.FloatField(help_text="the input's value (0 for the repeatability, an additive deviation)")
+    u = serializers.FloatField(help_text="standard uncertainty, in the input's unit")
+    sensitivity = serializers.FloatField(help_text="sensitivity coefficient c = df/dx, result unit per input unit")
+    contribution = serializers.FloatField(help_text="|c| u, in the result's unit")
+    share = serializers.FloatField(help_text="contribution^2 / u_c^2: the term's fraction of the combined variance")
+    basis = serializers.CharField(help_text="where u comes from, with its evidence")
+
+
+class BudgetSerializer(serializers.Serializer):
+    value = serializers.FloatField(help_text="the result (or mean), unrounded, as a float")
+    unit = serializers.CharField()
+    combined_standard_uncertainty = serializers.FloatField(help_text="u_c by first-order propagation (GUM)")
+    coverage_factor = serializers.IntegerField(help_text="k = 2")
+    expanded_uncertainty = serializers.CharField(help_text="U = k u_c, Decimal string, two significant digits rounded up")
+    replicates = serializers.IntegerField(help_text="1 for a result; n for the mean of n replicates")
+    source = serializers.CharField(help_text="the budget source of the inputs' uncertainties")
+    terms = BudgetTermSerializer(many=True)
+    computed_at = serializers.DateTimeField(allow_null=True, help_text="null when worked out on reading (an older result)")
+
+
+class ResultUncertaintySerializer(serializers.Serializer):
+    result = serializers.IntegerField()
+    test = serializers.IntegerField()
+    method_code = serializers.CharField()
+    unit = serializers.CharField()
+    decision_rule = serializers.CharField(help_text="the specification line's decision rule")
+    guard_band_multiple = serializers.CharField()
+    budget = BudgetSerializer(allow_null=True, help_text="null when the method or its inputs no longer allow one")
+    test_mean = BudgetSerializer(allow_null=True, help_text="the mean of the test's current replicates; null until all are in")
+    test_mean_note = serializers.CharField(allow_blank=True)

@@ -4,7 +4,7 @@ from __future__ import annotations
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
-from analyses.models import Comparison, Product, Specification, SpecificationLine
+from analyses.models import Comparison, DecisionRule, Product, Specification, SpecificationLine
 
 
 class SpecificationLineSerializer(serializers.ModelSerializer):
@@ -12,7 +12,7 @@ class SpecificationLineSerializer(serializers.ModelSerializer):
         model = SpecificationLine
         fields = [
             "id", "position", "method_code", "unit", "minimum", "maximum", "comparison",
-            "release_critical", "turnaround_days", "limits_source", "basis",
+            "release_critical", "turnaround_days", "limits_source", "basis", "decision_rule", "guard_band_multiple",
         ]
         read_only_fields = fields
 
@@ -52,6 +52,16 @@ class SpecificationLineInputSerializer(StrictSerializer):
     release_critical = serializers.BooleanField(required=False, help_text="Default true")
     comparison = serializers.ChoiceField(choices=Comparison.choices, required=False, help_text="ASTM E29 method; default absolute")
     turnaround_days = serializers.IntegerField(required=False, min_value=0, max_value=365, help_text="Default 3")
+    decision_rule = serializers.ChoiceField(
+        choices=DecisionRule.choices, required=False,
+        help_text=(
+            "How U enters the verdict (ILAC G8:09/2019): simple (default), guard_band (w = guard_band_multiple x U), "
+            "or non_binary (pass / conditional pass / conditional fail / fail; needs the lab's opt-in)"
+        ),
+    )
+    guard_band_multiple = serializers.CharField(
+        required=False, allow_blank=True, help_text='w = this x U (k = 2), a decimal above 0; default "1" (w = U)'
+    )
     basis = serializers.CharField(
         required=False, allow_blank=True,
         help_text=(

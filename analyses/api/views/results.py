@@ -17,9 +17,11 @@ from analyses.api.serializers.results import (
     ResultRecordBulkSerializer,
     ResultRecordSerializer,
     ResultSerializer,
+    ResultUncertaintySerializer,
 )
 from analyses.api.views.common import validated
 from analyses.selectors.api_results import result_rows
+from analyses.selectors.uncertainty import result_uncertainty
 from analyses.services.results import result_correct_once, result_record_bulk_once, result_record_once
 
 RECORD = requires("record_result", "enter results")
@@ -84,6 +86,20 @@ class ResultDetailView(RetrieveAPIView):
 
     def get_queryset(self):
         return result_rows()
+
+
+class ResultUncertaintyView(APIView):
+    @extend_schema(
+        summary="A result's uncertainty budget, and its test mean's",
+        description=(
+            "Each input's value, standard uncertainty u, sensitivity coefficient, contribution |c| u and share of "
+            "the combined variance, by first-order propagation (GUM, JCGM 100:2008); the expanded U with k = 2. "
+            "The mean of the test's current replicates has its own budget once all are in."
+        ),
+        responses={200: ResultUncertaintySerializer, **errors(404)},
+    )
+    def get(self, request: Request, pk: int) -> Response:
+        return Response(ResultUncertaintySerializer(result_uncertainty(pk)).data)
 
 
 class ResultCorrectView(APIView):

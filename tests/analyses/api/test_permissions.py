@@ -103,6 +103,7 @@ REVIEWERS = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200, "superuser
 MANAGER_QA_ADMIN_200 = {"manager": 200, "qa": 200, "admin": 200, "superuser": 200}
 MANAGER_ADMIN_200 = {"manager": 200, "admin": 200, "superuser": 200}
 SIGNED_IN_READ = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200, "nobody": 200, "superuser": 200}
+SIGNED_IN_200 = {role: 200 for role in ("manager", "analyst", "qa", "admin", "nobody", "superuser")}
 
 CASES = [
     Case("product create", lambda lab: Call("post", "/api/products/", {"code": "HOO", "name": "High-oleic oil"}), MANAGER_ADMIN),
@@ -240,6 +241,12 @@ CASES = [
         MANAGER_QA_ADMIN_200,
     ),
     Case("turnaround", lambda lab: Call("get", "/api/turnaround/"), MANAGER_ADMIN_200),
+    # open to every signed-in user, as the result itself is
+    Case(
+        "result uncertainty",
+        lambda lab: Call("get", f"/api/results/{lab.entered()[0].results.first().pk}/uncertainty/"),
+        SIGNED_IN_200,
+    ),
     Case("users list", lambda lab: Call("get", "/api/users/?role=analyst"), MANAGER_ADMIN_200),
 ]
 

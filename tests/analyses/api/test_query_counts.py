@@ -164,3 +164,36 @@ def test_list_queries_do_not_grow_with_the_rows(listing: Listing, lab_with_resul
         response = client.get(f"{path}{separator}page_size=50")
     assert response.status_code == 200
     assert len(response.json()["results"]) >= MORE_ROWS + 1
+
+
+def _entered_test(replicates: int):
+    """A test with ``replicates`` AV results entered through the service (so budgets are stored)."""
+    from analyses.models import Test
+    from analyses.services.results import result_record
+    from tests.analyses.lab_setup import AV_LOW
+
+    from analyses.models import SampleState
+
+    sample = SampleFactory(state=SampleState.IN_TESTING, received_by=UserFactory(), received_at=timezone.now())
+    test = TestFactory(
+        sample=sample, replicates=replicates, assignee=UserFactory(roles=["analyst"]), state=TestState.ASSIGNED
+    )
+    for _ in range(replicates):
+        result = result_record(test.assignee, test, inputs=AV_LOW)
+    return Test.objects.get(pk=test.pk), result
+
+
+def test_the_uncertainty_endpoint_reads_as_many_queries_for_2_replicates_as_for_12(clients, django_assert_num_queries):
+    """GET /api/results/<id>/uncertainty/ reads the result with its budget, test and line in one
+    query and the current replicates in one more, whatever their number."""
+    client = clients["manager"]
+    client.get("/api/me/")  # the token's first use records when it was used (a write of its own)
+    _, few = _entered_test(2)
+    with CaptureQueriesContext(connection) as two:
+        response = client.get(f"/api/results/{few.pk}/uncertainty/")
+    assert response.status_code == 200, response.content
+    assert response.json()["test_mean"]["replicates"] == 2
+    _, many = _entered_test(12)
+    with django_assert_num_queries(len(two)):
+        response = client.get(f"/api/results/{many.pk}/uncertainty/")
+    assert response.json()["test_mean"]["replicates"] == 12

@@ -1,0 +1,161 @@
+"""The uncertainty budget of each result and of its test's mean, and the verdicts that use it.
+
+``result_uncertainty_record`` runs inside result entry and correction, right after the new
+result row is inserted: it stores the result's budget, re-judges the result by its line's
+decision rule with that U, and, once every replicate is in, stores the mean's budget and
+re-judges the test's aggregate (the ``aggregate`` dict the caller is about to store).
+
+The inputs' standard uncertainties come from a budget source (``budget_source``): the per-method
+default budget (plugins.default_budget) until traceability records exist. The repeatability is
+the plugin's, unless settings.OLEOTRACE_REPEATABILITY_SOURCE is "lab_duplicates" and the lab has
+at least LAB_PAIRS_NEEDED accepted duplicate pairs for the method (the most recent ones are used).
+"""
+from __future__ import annotations
+
+from decimal import Decimal
+from typing import Any
+
+from django.conf import settings
+from django.utils import timezone
+
+from analyses.audit import audit_append, created, json_safe
+from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Test, TestState, TestUncertainty
+from analyses.services.result_trace import TITRANT_INPUT, stored_inputs
+from analyses.services.review_warnings import line_inputs
+from analyses.services.verdicts import line_verdict
+from plugins.contract import MethodInputError, MethodPlugin, QuantityInput
+from plugins.default_budget import DefaultBudget
+from plugins.registry import UnknownMethod, get_registry
+from plugins.uncertainty import (
+    Budget,
+    BudgetSource,
+    StandardUncertainty,
+    mean_budget,
+    repeatability_from_duplicates,
+    result_budget,
+)
+
+REPEATABILITY_SOURCES = ("plugin", "lab_duplicates")
+LAB_PAIRS_NEEDED = 15  # enough pairs for a pooled s_r with 15 degrees of freedom (common practice, no source)
+LAB_PAIRS_USED = 60
+AUDITED_FIELDS = ("combined", "coverage_factor", "expanded", "source")
+
+
+def lab_duplicate_pairs(method_code: str, limit: int = LAB_PAIRS_USED) -> list[tuple[float, float]]:
+    """The most recent accepted duplicate pairs of ``method_code`` (QC-check and routine alike)."""
+    checks = (
+        Test.objects.filter(method_code=method_code, state=TestState.ACCEPTED, replicates=2, duplicate_check__isnull=False)
+        .order_by("-reviewed_at", "-id")
+        .values_list("duplicate_check", flat=True)[:limit]
+    )
+    return [tuple(check["values"][:2]) for check in checks if len(check.get("values") or ()) == 2]
+
+
+def budget_source(plugin: MethodPlugin) -> BudgetSource:
+    """Where the standard uncertainties of ``plugin``'s inputs come from (see the module docstring)."""
+    if getattr(settings, "OLEOTRACE_REPEATABILITY_SOURCE", "plugin") == "lab_duplicates" and plugin.repeatability:
+        pairs = lab_duplicate_pairs(plugin.code)
+        if len(pairs) >= LAB_PAIRS_NEEDED:
+            relative = plugin.repeatability.relative is not None
+            s_r = repeatability_from_duplicates(pairs, relative=relative)
+            basis = f"the laboratory's own duplicates: pooled s_r from {len(pairs)} accepted pairs"
+            return DefaultBudget(lab_repeatability=(s_r, relative, basis))
+    return DefaultBudget()
+
+
+class StandardisedTitrantBudget:
+    """A budget source for a result measured with a standardised titrant lot (issue 9): the
+    titrant concentration's u is the standardisation's (QUAM A2); every other term is ``base``'s."""
+
+    def __init__(self, base: BudgetSource, result: Result):
+        self.base = base
+        self.u = float(result.titrant_uncertainty)
+        self.basis = f"standardisation of titrant lot {result.reagent_lot.code} (Eurachem/CITAC QUAM A2)"
+        self.name = f"{base.name}; titrant concentration from its standardisation"
+
+    def input_uncertainty(self, plugin: MethodPlugin, spec: QuantityInput, value: Decimal | float) -> StandardUncertainty | None:
+        if spec.name == TITRANT_INPUT:
+            return StandardUncertainty(self.u, self.basis)
+        return self.base.input_uncertainty(plugin, spec, value)
+
+    def repeatability(self, plugin: MethodPlugin, result: float) -> StandardUncertainty | None:
+        return self.base.repeatability(plugin, result)
+
+
+def budget_of(result: Result, plugin: MethodPlugin | None = None) -> Budget | None:
+    """The budget of one stored result from its inputs as its plugin took them; None where its
+    method is gone or its inputs no longer pass the method's checks."""
+    try:
+        plugin = plugin or get_registry().get(result.method_code)
+        inputs = stored_inputs(result)
+        values = plugin.validate(line_inputs(plugin, result.test.specification_line, inputs))
+        source = budget_source(plugin)
+        if result.titrant_uncertainty and result.reagent_lot_id:
+            source = StandardisedTitrantBudget(source, result)
+        return result_budget(plugin, values, source, given=set(inputs))
+    except (UnknownMethod, MethodInputError):
+        return None
+
+
+def _stored(budget: Budget) -> dict[str, Any]:
+    return {
+        "budget": budget.as_dict(), "combined": budget.combined, "coverage_factor": budget.k,
+        "expanded": str(budget.expanded), "source": budget.source[:200], "computed_at": timezone.now(),
+    }
+
+
+def result_uncertainty_record(result: Result, aggregate: dict[str, Any] | None) -> None:
+    """Store the budget of the just-inserted ``result`` and judge it by its line's decision rule;
+    with ``aggregate`` (the test is complete), store the mean's budget and judge the mean too
+    (``aggregate["verdict"]`` is replaced in place). Runs in the caller's transaction; each
+    stored U is audited, under the user who entered the result."""
+    test = result.test
+    line = test.specification_line
+    refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
+    budget = budget_of(result)
+    if budget is None:
+        return
+    row = ResultUncertainty.objects.create(result=result, **_stored(budget))
+    audit_append(result.entered_by, AuditAction.CREATE, row, created(row, AUDITED_FIELDS + ("result",)), **refs)
+    verdict = line_verdict(Decimal(result.value_exact), line, budget.expanded)
+    if verdict != result.verdict:
+        result.verdict = verdict
+        result.save(update_fields=["verdict"])
+    if aggregate is None:
+        return
+    current = list(
+        Result.objects.filter(test_id=test.pk, status=ResultStatus.CURRENT).select_related("uncertainty", "test__specification_line")
+        .order_by("replicate")
+    )
+    budgets = [_budget_dict(r) for r in current]
+    if any(b is None for b in budgets):
+        return
+    mean = mean_budget(budgets)
+    before = TestUncertainty.objects.filter(test_id=test.pk).first()
+    fields = {"results": [r.pk for r in current], **_stored(mean)}
+    row, _ = TestUncertainty.objects.update_or_create(test_id=test.pk, defaults=fields)
+    changes = {
+        name: [None if before is None else json_safe(getattr(before, name)), json_safe(getattr(row, name))]
+        for name in (*AUDITED_FIELDS, "results")
+    }
+    audit_append(
+        result.entered_by, AuditAction.CREATE if before is None else AuditAction.CHANGE, row, changes,
+        reason="the mean of the current replicates", **refs,
+    )
+    aggregate["verdict"] = line_verdict(Decimal(aggregate["value_exact"]), line, mean.expanded)
+
+
+def _budget_dict(result: Result) -> dict[str, Any] | None:
+    if hasattr(result, "uncertainty"):
+        return result.uncertainty.budget
+    budget = budget_of(result)  # a result entered before budgets were kept
+    return None if budget is None else budget.as_dict()
+
+
+def mean_expanded_uncertainty(test: Test) -> str | None:
+    """U of the test's mean as stored, if it is the mean of the current replicates."""
+    stored = TestUncertainty.objects.filter(test=test).first()
+    if stored is None:
+        return None
+    current = sorted(test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True))
+    return stored.expanded if sorted(stored.results) == current else None
