@@ -21,6 +21,8 @@ from datetime import UTC, date, datetime
 from decimal import Decimal, InvalidOperation
 from typing import Any
 
+from django.conf import settings
+
 TITLE = "Certificate of analysis"
 RELATES_ONLY = (
     "The results relate only to the samples tested, as received. This certificate shall not be "
@@ -119,7 +121,8 @@ def _specifications(content: dict[str, Any]) -> str:
 def certificate_layout(content: dict[str, Any], *, replaced_by: str | None = None) -> CertificateLayout:
     """The certificate's words and tables from its stored content. ``replaced_by`` (the number
     of a later version) marks a withdrawn version when it is shown again."""
-    laboratory = content.get("laboratory") or {}
+    # certificates issued before migration 0015 do not name the lab: today's settings do
+    laboratory = content.get("laboratory") or {"name": settings.LAB_NAME, "address": settings.LAB_ADDRESS}
     product, lot = content["product"], content["lot"]
     number = content["certificate_number"]
     version = content.get("version", 1)

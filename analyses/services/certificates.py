@@ -199,6 +199,15 @@ def certificate_issue(actor: Actor, lot: Lot) -> Certificate:
     return _store(actor, lot, content, issued_at=issued_at, replaces=None, reason="")
 
 
+def _current_version(lot: Lot) -> Certificate:
+    if lot.state != LotState.RELEASED:
+        raise Conflict(f"lot {lot.code} is {lot.state}; only a released lot's certificate can be reissued")
+    current = lot.certificates.order_by("-version").first()
+    if current is None:
+        raise Conflict(f"lot {lot.code} has no certificate to reissue")
+    return current
+
+
 def certificate_reissue(
     actor: Actor,
     lot: Lot | int,
@@ -218,14 +227,12 @@ def certificate_reissue(
         customer = required_text(customer, "customer")
         if len(customer) > CUSTOMER_MAX:
             raise InvalidInput.for_field("customer", f"must be at most {CUSTOMER_MAX} characters")
+    _current_version(fetch(Lot, lot))  # a Conflict is said before the password is asked for
+    # outside the transaction: a lock-out that a wrong password trips is recorded, not rolled back
+    signature_confirm(actor, password, request=request)
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
-        if lot.state != LotState.RELEASED:
-            raise Conflict(f"lot {lot.code} is {lot.state}; only a released lot's certificate can be reissued")
-        current = lot.certificates.order_by("-version").first()
-        if current is None:
-            raise Conflict(f"lot {lot.code} has no certificate to reissue")
-        signature_confirm(actor, password, request=request)
+        current = _current_version(lot)
         if customer is not None and customer != lot.customer:
             old = lot.customer
             lot.customer = customer

@@ -100,6 +100,14 @@ def _decide(actor: Actor, lot: Lot, state: str, reason: str, *, meaning: str) ->
     )
 
 
+def _refuse_release(lot: Lot) -> None:
+    if lot.state != LotState.OPEN:
+        raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be released")
+    missing = release_blockers(lot)
+    if missing:
+        raise Conflict(f"lot {lot.code} cannot be released: {len(missing)} item(s) missing", missing=missing)
+
+
 def lot_release(actor: Actor, lot: Lot | int, *, password: object, note: str = "", request=None) -> Certificate:
     """QA releases a lot and its certificate of analysis is issued.
 
@@ -113,18 +121,16 @@ def lot_release(actor: Actor, lot: Lot | int, *, password: object, note: str = "
     (non-critical, not yet entered) tests and moves every one of those samples that is
     not cancelled to released; stability pulls and retains go on. Needs ``release_lot``."""
     require_permission(actor, "release_lot", "release lots")
+    _refuse_release(fetch(Lot, lot))  # what else is wrong is said before the password is asked for
+    # outside the transaction: a lock-out that a wrong password trips is recorded, not rolled back
+    signature_confirm(actor, password, request=request)
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
-        if lot.state != LotState.OPEN:
-            raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be released")
-        # Lock the samples before judging them, so no result arrives between check and release.
+        # Lock the samples before judging them again, so no result arrives between check and release.
         samples = list(
             lot.samples.select_for_update().filter(kind__in=RELEASE_KINDS).exclude(state=SampleState.CANCELLED).order_by("pk")
         )
-        missing = release_blockers(lot)
-        if missing:
-            raise Conflict(f"lot {lot.code} cannot be released: {len(missing)} item(s) missing", missing=missing)
-        signature_confirm(actor, password, request=request)  # last, so a refusal says what else is wrong first
+        _refuse_release(lot)
         meaning = release_meaning(lot_specification_versions(lot))
         _decide(actor, lot, LotState.RELEASED, (note or "").strip(), meaning=meaning)
         reason = f"lot {lot.code} released"
@@ -155,9 +161,11 @@ def lot_reject(actor: Actor, lot: Lot | int, *, reason: str, password: object, r
     as a release is. Needs ``release_lot``."""
     require_permission(actor, "release_lot", "reject lots")
     reason = required_text(reason, "reason")
+    current = fetch(Lot, lot)
+    if current.state != LotState.OPEN:
+        raise Conflict(f"lot {current.code} is {current.state}; only an open lot can be rejected")
+    signature_confirm(actor, password, request=request)  # outside the transaction, as for a release
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
-        if lot.state == LotState.OPEN:  # otherwise lot_reject_locked says why not
-            signature_confirm(actor, password, request=request)
         return lot_reject_locked(actor, lot, reason)
 
