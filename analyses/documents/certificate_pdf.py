@@ -55,12 +55,12 @@ def certificate_pdf(content: dict[str, Any], *, replaced_by: str | None = None) 
     story += [p("Items tested", section), facts, p("Results", section)]
 
     header = ["Sample", "Parameter", "Method", "Result", "Unit"]
-    widths = [27, 30, 32, 15, 22]
+    widths = [28, 27, 40, 14, 19]
     if layout.show_uncertainty:
         header.append("U (k = 2)")
         widths.append(18)
     header += ["Limits", "Verdict"]
-    widths += [21, 20]
+    widths += [19, 19]
     scale = (A4[0] - 2 * MARGIN_MM * mm) / (sum(widths) * mm)
     rows = [[p(text, head) for text in header]]
     for row in layout.rows:

@@ -177,6 +177,8 @@ def _baselines(frame: pd.DataFrame, summary: ScanSummary) -> pd.DataFrame:
 
 
 def _baseline_establish(actor, key: str, row: pd.Series) -> ControlBaseline:
+    from analyses.trends.westgard import MINIMUM_BASELINE_POINTS  # numpy: only when scanning
+
     kind, method_code = _parse_key(key)
     baseline = ControlBaseline.objects.create(
         series_key=key, kind=kind, method_code=method_code, mean=float(row["mean"]), sd=float(row["std"]),
