@@ -115,3 +115,12 @@ def test_the_password_never_reaches_the_audit_trail(lab, clients):
     lab.accepted()
     assert clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json").status_code == 201
     assert not any(SIGNING_PASSWORD in str(e.changes) + e.reason for e in AuditEntry.objects.all())
+
+
+def test_a_lot_takes_an_optional_customer_for_its_certificate(lab, clients):
+    body = {"code": "L-CUST", "product": lab.product.pk, "origin": "production", "customer": "Invented Foods Ltd"}
+    created = clients["manager"].post("/api/lots/", body, format="json")
+    assert created.status_code == 201 and created.json()["customer"] == "Invented Foods Ltd"
+    too_long = clients["manager"].post("/api/lots/", {**body, "code": "L-CUST2", "customer": "x" * 201}, format="json")
+    assert too_long.status_code == 400 and "customer" in too_long.json()["fields"]
+    assert clients["manager"].get(f"/api/lots/{lab.lot.pk}/").json()["customer"] == ""
