@@ -44,6 +44,7 @@ MISSING_ID = 987654321
 # The first path segment after /api/ -> the model its {id} names
 ID_MODELS = {
     "alerts": models.Alert,
+    "auth": models.ApiToken,  # /api/auth/tokens/{id}/revoke/
     "investigations": models.Investigation,
     "lots": models.Lot,
     "products": models.Product,
