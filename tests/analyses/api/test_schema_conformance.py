@@ -40,11 +40,11 @@ CHECKS = [
 ]
 CALLERS = ("admin", "manager", "analyst", "qa", None)  # None: anonymous
 MISSING_ID = 987654321
+CALLER_TOKEN = "schema conformance"  # the callers' own tokens, never drawn for revocation
 
 # The first path segment after /api/ -> the model its {id} names
 ID_MODELS = {
     "alerts": models.Alert,
-    "auth": models.ApiToken,  # /api/auth/tokens/{id}/revoke/
     "investigations": models.Investigation,
     "lots": models.Lot,
     "products": models.Product,
@@ -62,7 +62,7 @@ def credentials_for(username: str | None) -> dict[str, str]:
     The one place that knows how a caller signs in, to adapt when tokens change."""
     if username is None:
         return {}
-    issued = token_issue(get_user_model().objects.get(username=username), name="schema conformance")
+    issued = token_issue(get_user_model().objects.get(username=username), name=CALLER_TOKEN)
     return {"Authorization": f"Token {issued.secret}"}
 
 
@@ -71,7 +71,10 @@ def path_values(path: str) -> dict[str, st.SearchStrategy]:
     segment = path.removeprefix("/api/").split("/", 1)[0]
     values: dict[str, st.SearchStrategy] = {}
     if "{id}" in path:
-        ids = sorted(ID_MODELS[segment].objects.values_list("pk", flat=True))
+        if segment == "auth":  # /api/auth/tokens/{id}/revoke/: any token but the callers' own
+            ids = sorted(models.ApiToken.objects.exclude(name=CALLER_TOKEN).values_list("pk", flat=True))
+        else:
+            ids = sorted(ID_MODELS[segment].objects.values_list("pk", flat=True))
         values["id"] = st.sampled_from(ids) | st.just(MISSING_ID) if ids else st.just(MISSING_ID)
     if "{code}" in path or "{method}" in path:
         name = "code" if "{code}" in path else "method"
