@@ -107,3 +107,22 @@ def test_a_reissue_needs_a_released_lot_a_reason_qa_and_the_password(users, lot,
         assert list(refused.value.fields) == ["password"]
     released.refresh_from_db()
     assert released.certificates.count() == 1 and released.customer == ""  # nothing was written
+
+
+@pytest.mark.django_db(transaction=True)
+def test_lots_released_at_once_get_distinct_consecutive_numbers_on_postgresql(postgres, users, product, specification):
+    """The sequence is counted under the audit chain's lock, so concurrent releases never share a number."""
+    from tests.analyses.concurrency import race
+
+    lots = []
+    for index in range(3):
+        code = f"L-R{index}"
+        lot = lot_create(users["manager"], code=code, product=product, origin="production")
+        sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label=f"{code}-A"), condition="sealed", storage_place="A1")
+        tests = test_assign_bulk(users["manager"], list(Test.objects.filter(sample=sample).order_by("method_code")), assignee=users["analyst"])
+        _accept_all(users, tests)
+        lots.append(lot)
+    outcomes = race(lambda i: lot_release(users["qa"], lots[i].pk, password=SIGNING_PASSWORD), threads=3)
+    assert all(isinstance(outcome, Certificate) for outcome in outcomes), outcomes
+    year = timezone.localdate().year
+    assert sorted(outcome.number for outcome in outcomes) == [f"MVO-{year}-{n:05d}" for n in (1, 2, 3)]
