@@ -10,6 +10,7 @@ BROKER_VISIBILITY_TIMEOUT  seconds before Redis redelivers a task whose worker d
 AUDIT_ANCHOR_DIR   where the audit chain's head is anchored (default var/audit-anchors/).
 CACHE_URL      the cache that login lock-outs and API throttles count in; default: this process's
                memory. Set a Redis database of its own (redis://host:6379/2) when several processes serve.
+LAB_NAME, LAB_ADDRESS, CERTIFICATE_PREFIX  what certificates of analysis name (invented demo defaults).
 API_TOKEN_TTL_DAYS, LOGIN_*, API_THROTTLE_*: see "API tokens" and "Login lock-out" below.
 TRACEABILITY_DUE_DAYS  look-ahead of the daily reagent and instrument due scan; default 14.
 """
@@ -282,6 +283,12 @@ TRACEABILITY_DUE_DAYS = int(os.environ.get("TRACEABILITY_DUE_DAYS", 14))
 AUDIT_ANCHOR_DIR = Path(os.environ.get("AUDIT_ANCHOR_DIR", VAR_DIR / "audit-anchors"))
 # Optional: each new anchor (and a refusal to write one) is also posted here, e.g. ALERT_WEBHOOK_URL.
 AUDIT_ANCHOR_WEBHOOK_URL = os.environ.get("AUDIT_ANCHOR_WEBHOOK_URL", "")
+
+# The laboratory as its certificates of analysis name it (ISO/IEC 17025 §7.8.2.1 b), and the prefix of
+# its certificate numbers (<prefix>-<year>-<sequence>). The defaults are an invented demo company.
+LAB_NAME = os.environ.get("LAB_NAME", "Marrowvale Oils Ltd, Quality Control Laboratory")
+LAB_ADDRESS = os.environ.get("LAB_ADDRESS", "Unit 4, Kestrel Wharf, Marrowvale MV3 8QT, United Kingdom")
+CERTIFICATE_PREFIX = os.environ.get("CERTIFICATE_PREFIX", "MVO")
 
 # EWMA chart of production series: smoothing λ and limit width L (NIST/SEMATECH typical: 0.2-0.3, 3).
 TREND_EWMA_SMOOTHING = float(os.environ.get("TREND_EWMA_SMOOTHING", 0.2))

@@ -74,6 +74,13 @@ def redis_url() -> str:
 
 
 @pytest.fixture(autouse=True)
+def _quick_password_hashing(settings):
+    """Test users have real passwords (they sign releases); MD5 hashes them in microseconds
+    where PBKDF2 takes a good fraction of a second (Django's testing docs suggest this)."""
+    settings.PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
+
+
+@pytest.fixture(autouse=True)
 def _audit_anchors_in_a_temporary_directory(settings, tmp_path_factory):
     """Each test anchors the audit chain in its own directory, never in var/."""
     settings.AUDIT_ANCHOR_DIR = tmp_path_factory.mktemp("audit-anchors")

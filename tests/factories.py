@@ -37,6 +37,10 @@ from analyses.models import (
 from analyses.roles import roles_ensure
 
 
+# The password test users re-enter to sign a release, rejection or reissue (invented).
+SIGNING_PASSWORD = "invented-signing-pass"
+
+
 class UserFactory(factory.django.DjangoModelFactory):
     """A user; ``roles=["analyst"]`` puts them in those role groups."""
 
@@ -47,8 +51,8 @@ class UserFactory(factory.django.DjangoModelFactory):
 
     username = factory.Sequence(lambda n: f"user{n}")
     email = factory.LazyAttribute(lambda u: f"{u.username}@example.invalid")
-    # unusable: tests never log in, and hashing a real password costs a noticeable fraction of a second
-    password = factory.LazyFunction(lambda: make_password(None))
+    # every test user signs QA decisions with this one (tests/conftest.py makes hashing it quick)
+    password = factory.LazyFunction(lambda: make_password(SIGNING_PASSWORD))
 
     @factory.post_generation
     def roles(self, create, extracted, **kwargs):

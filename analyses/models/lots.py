@@ -21,6 +21,7 @@ class Lot(models.Model):
     product = models.ForeignKey("analyses.Product", on_delete=models.PROTECT, related_name="lots")
     origin = models.CharField(max_length=16, choices=LotOrigin.choices)
     supplier = models.CharField(max_length=200, blank=True)
+    customer = models.CharField(max_length=200, blank=True, help_text="who the lot is for; named on its certificate")
     container_ref = models.CharField(max_length=100, blank=True, help_text="tank or container reference")
     quantity_kg = models.DecimalField(max_digits=14, decimal_places=3, null=True, blank=True)
     produced_on = models.DateField(null=True, blank=True, help_text="production or delivery date")

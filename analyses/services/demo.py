@@ -215,7 +215,8 @@ def _lots(data: Mapping[str, Any], lab: _Lab, summary: DemoSummary, log: Log) ->
             product = Product.objects.get(code=entry["product"])
             lot = lot_create(
                 lab.manager, code=entry["code"], product=product, origin=entry["origin"],
-                supplier=entry.get("supplier", ""), container_ref=entry.get("container_ref", ""),
+                supplier=entry.get("supplier", ""), customer=entry.get("customer", ""),
+                container_ref=entry.get("container_ref", ""),
                 quantity_kg=entry.get("quantity_kg"),
                 produced_on=timezone.localdate() - dt.timedelta(days=10),
             )
@@ -228,9 +229,12 @@ def _lots(data: Mapping[str, Any], lab: _Lab, summary: DemoSummary, log: Log) ->
                 lab.run(spec["scenario"], sample, entry["product"], spec)
                 summary.created["samples"] += 1
             if entry.get("decision") == "release":
-                lot_release(lab.users["qa"], lot)
+                # signed as QA signs: with the demo user's password re-entered
+                lot_release(lab.users["qa"], lot, password=data["demo_password"])
             elif entry.get("decision") == "reject":
-                lot_reject(lab.users["qa"], lot, reason=entry.get("decision_reason", "rejected"))
+                lot_reject(
+                    lab.users["qa"], lot, reason=entry.get("decision_reason", "rejected"), password=data["demo_password"]
+                )
         lot.refresh_from_db()
         summary.created["lots"] += 1
         scenarios = ", ".join(s["scenario"] for s in entry["samples"])

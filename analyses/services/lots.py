@@ -19,15 +19,16 @@ from analyses.models import (
     TestState,
 )
 from analyses.services.access import Actor, fetch, require_permission, required_text
-from analyses.services.certificates import certificate_issue
+from analyses.services.certificates import CUSTOMER_MAX, certificate_issue, lot_specification_versions
 from analyses.services.release import RELEASE_KINDS, release_blockers
+from analyses.services.signatures import rejection_meaning, release_meaning, signature_confirm
 from analyses.services.transitions import cancel_open_tests, sample_move
 from analyses.services.uniqueness import UniqueKey
 
 # open tests that a release cancels (a result awaiting review blocks the release instead)
 UNSTARTED_TEST_STATES = (TestState.PENDING, TestState.ASSIGNED, TestState.SENT_BACK)
 
-LOT_FIELDS = ("code", "product", "origin", "supplier", "container_ref", "quantity_kg", "produced_on", "state")
+LOT_FIELDS = ("code", "product", "origin", "supplier", "customer", "container_ref", "quantity_kg", "produced_on", "state")
 
 
 def lot_create(
@@ -37,18 +38,23 @@ def lot_create(
     product: Product | int,
     origin: str,
     supplier: str = "",
+    customer: str = "",
     container_ref: str = "",
     quantity_kg: Decimal | str | None = None,
     produced_on: dt.date | None = None,
 ) -> Lot:
     """A production lot, or an incoming delivery (``origin="delivery"``, which needs the
-    supplier and the tank or container reference). Needs ``create_lot`` (lab manager, admin)."""
+    supplier and the tank or container reference). ``customer``, where the lot is for one, is
+    named on its certificate. Needs ``create_lot`` (lab manager, admin)."""
     require_permission(actor, "create_lot", "create lots")
     code = required_text(code, "code")
     if origin not in LotOrigin.values:
         raise InvalidInput.for_field("origin", f"must be one of {', '.join(LotOrigin.values)}")
     supplier = (supplier or "").strip()
     container_ref = (container_ref or "").strip()
+    customer = (customer or "").strip()
+    if len(customer) > CUSTOMER_MAX:
+        raise InvalidInput.for_field("customer", f"must be at most {CUSTOMER_MAX} characters")
     if origin == LotOrigin.DELIVERY:
         required_text(supplier, "supplier")
         required_text(container_ref, "container_ref")
@@ -69,6 +75,7 @@ def lot_create(
             product=product,
             origin=origin,
             supplier=supplier,
+            customer=customer,
             container_ref=container_ref,
             quantity_kg=quantity,
             produced_on=produced_on,
@@ -79,18 +86,34 @@ def lot_create(
     return lot
 
 
-def _decide(actor: Actor, lot: Lot, state: str, reason: str) -> None:
+def _decide(actor: Actor, lot: Lot, state: str, reason: str, *, meaning: str) -> None:
+    """Record the decision; ``meaning`` is what the signature on it means, kept in the audit trail."""
     old = lot.state
     lot.state = state
     lot.decision_reason = reason
     lot.decided_by = actor
     lot.decided_at = timezone.now()
     lot.save(update_fields=["state", "decision_reason", "decided_by", "decided_at"])
-    audit_append(actor, AuditAction.TRANSITION, lot, {"state": [old, state]}, reason=reason, lot_ref=lot.pk)
+    audit_append(
+        actor, AuditAction.TRANSITION, lot, {"state": [old, state], "signature_meaning": [None, meaning]},
+        reason=reason, lot_ref=lot.pk,
+    )
 
 
-def lot_release(actor: Actor, lot: Lot | int, *, note: str = "") -> Certificate:
+def _refuse_release(lot: Lot) -> None:
+    if lot.state != LotState.OPEN:
+        raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be released")
+    missing = release_blockers(lot)
+    if missing:
+        raise Conflict(f"lot {lot.code} cannot be released: {len(missing)} item(s) missing", missing=missing)
+
+
+def lot_release(actor: Actor, lot: Lot | int, *, password: object, note: str = "", request=None) -> Certificate:
     """QA releases a lot and its certificate of analysis is issued.
+
+    The release is an electronic signature: ``password`` is the user's own, re-entered
+    (``signature_confirm``; InvalidInput naming ``password`` otherwise), and the audit entry
+    records its meaning, "released for shipment against specification vN".
 
     Conflict (with ``missing``) unless every release-critical test of the lot's routine
     and QC-check samples is accepted and in specification, no result of theirs awaits
@@ -98,18 +121,18 @@ def lot_release(actor: Actor, lot: Lot | int, *, note: str = "") -> Certificate:
     (non-critical, not yet entered) tests and moves every one of those samples that is
     not cancelled to released; stability pulls and retains go on. Needs ``release_lot``."""
     require_permission(actor, "release_lot", "release lots")
+    _refuse_release(fetch(Lot, lot))  # what else is wrong is said before the password is asked for
+    # outside the transaction: a lock-out that a wrong password trips is recorded, not rolled back
+    signature_confirm(actor, password, request=request)
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
-        if lot.state != LotState.OPEN:
-            raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be released")
-        # Lock the samples before judging them, so no result arrives between check and release.
+        # Lock the samples before judging them again, so no result arrives between check and release.
         samples = list(
             lot.samples.select_for_update().filter(kind__in=RELEASE_KINDS).exclude(state=SampleState.CANCELLED).order_by("pk")
         )
-        missing = release_blockers(lot)
-        if missing:
-            raise Conflict(f"lot {lot.code} cannot be released: {len(missing)} item(s) missing", missing=missing)
-        _decide(actor, lot, LotState.RELEASED, (note or "").strip())
+        _refuse_release(lot)
+        meaning = release_meaning(lot_specification_versions(lot))
+        _decide(actor, lot, LotState.RELEASED, (note or "").strip(), meaning=meaning)
         reason = f"lot {lot.code} released"
         for sample in samples:
             cancel_open_tests(actor, sample, reason="lot released", states=UNSTARTED_TEST_STATES)
@@ -125,7 +148,7 @@ def lot_reject_locked(actor: Actor, lot: Lot, reason: str) -> Lot:
     tests cancelled. Shared by ``lot_reject`` and a confirmed OOS investigation."""
     if lot.state != LotState.OPEN:
         raise Conflict(f"lot {lot.code} is {lot.state}; only an open lot can be rejected")
-    _decide(actor, lot, LotState.REJECTED, reason)
+    _decide(actor, lot, LotState.REJECTED, reason, meaning=rejection_meaning(lot_specification_versions(lot)))
     closed = (SampleState.RELEASED, SampleState.REJECTED, SampleState.CANCELLED)
     for sample in lot.samples.select_for_update().exclude(state__in=closed):
         cancel_open_tests(actor, sample, reason=f"lot {lot.code} rejected")
@@ -133,10 +156,15 @@ def lot_reject_locked(actor: Actor, lot: Lot, reason: str) -> Lot:
     return lot
 
 
-def lot_reject(actor: Actor, lot: Lot | int, *, reason: str) -> Lot:
-    """QA rejects a lot, with a mandatory reason. Needs ``release_lot``."""
+def lot_reject(actor: Actor, lot: Lot | int, *, reason: str, password: object, request=None) -> Lot:
+    """QA rejects a lot, with a mandatory reason, signed with the user's re-entered ``password``
+    as a release is. Needs ``release_lot``."""
     require_permission(actor, "release_lot", "reject lots")
     reason = required_text(reason, "reason")
+    current = fetch(Lot, lot)
+    if current.state != LotState.OPEN:
+        raise Conflict(f"lot {current.code} is {current.state}; only an open lot can be rejected")
+    signature_confirm(actor, password, request=request)  # outside the transaction, as for a release
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
         return lot_reject_locked(actor, lot, reason)

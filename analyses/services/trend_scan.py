@@ -177,7 +177,7 @@ def _baselines(frame: pd.DataFrame, summary: ScanSummary) -> pd.DataFrame:
 
 
 def _baseline_establish(actor, key: str, row: pd.Series) -> ControlBaseline:
-    from analyses.trends.westgard import MINIMUM_BASELINE_POINTS
+    from analyses.trends.westgard import MINIMUM_BASELINE_POINTS  # numpy: only when scanning
 
     kind, method_code = _parse_key(key)
     baseline = ControlBaseline.objects.create(

@@ -1,7 +1,7 @@
 """Fast start-up: everyday management commands load no heavy numerical or plotting library.
 
 Each command runs in a fresh interpreter under ``python -X importtime``, which lists every
-module imported; the statistics and plotting libraries must not be among them (issue 12).
+module imported; the statistics, plotting and PDF libraries must not be among them (issue 12).
 numpy is checked too: nothing these commands do needs it. pint tries ``import numpy`` and
 ``import scipy`` and is refused (``plugins/pint_import.py``); importtime lists such a refused
 attempt as a lone name with no module under it, which is not a load.
@@ -17,7 +17,7 @@ from pathlib import Path
 import pytest
 
 ROOT = Path(__file__).resolve().parents[2]
-HEAVY = {"scipy", "statsmodels", "matplotlib", "pandas", "numpy"}
+HEAVY = {"scipy", "statsmodels", "matplotlib", "pandas", "numpy", "reportlab"}  # reportlab: certificates
 IMPORTED = re.compile(r"^import time:\s+(\d+) \|\s+(\d+) \| +([\w.]+)$", re.M)
 
 

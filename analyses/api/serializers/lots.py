@@ -24,7 +24,7 @@ class LotSerializer(serializers.ModelSerializer):
     class Meta:
         model = Lot
         fields = [
-            "id", "code", "product", "product_code", "origin", "supplier", "container_ref", "quantity_kg",
+            "id", "code", "product", "product_code", "origin", "supplier", "customer", "container_ref", "quantity_kg",
             "produced_on", "state", "decision_reason", "decided_by", "decided_at", "created_by", "created_at",
             "sample_count", "open_investigations",
         ]
@@ -36,11 +36,41 @@ class LotCreateSerializer(StrictSerializer):
     product = serializers.PrimaryKeyRelatedField(queryset=Product.objects.all())
     origin = serializers.ChoiceField(choices=LotOrigin.choices)
     supplier = TextField(max_length=200, required=False, allow_blank=True, default="", help_text="Required for deliveries")
+    customer = TextField(
+        max_length=200, required=False, allow_blank=True, default="", help_text="Who the lot is for; named on its certificate"
+    )
     container_ref = TextField(
         max_length=100, required=False, allow_blank=True, default="", help_text="Tank or container; required for deliveries"
     )
     quantity_kg = serializers.DecimalField(max_digits=14, decimal_places=3, required=False, allow_null=True)
     produced_on = serializers.DateField(required=False, allow_null=True, help_text="Production or delivery date")
+
+
+def password_field() -> TextField:
+    # optional here so an unknown lot is a 404 first; the service refuses a missing one (400)
+    return TextField(
+        required=False, allow_blank=True, default="", write_only=True, trim_whitespace=False,
+        help_text="The signing user's own password, re-entered: the electronic signature's second sign of intent",
+    )
+
+
+class ReleaseSerializer(StrictSerializer):
+    note = TextField(required=False, allow_blank=True, default="", help_text="Optional remark")
+    password = password_field()
+
+
+class RejectSerializer(StrictSerializer):
+    reason = TextField(help_text="Why; kept in the audit trail")
+    password = password_field()
+
+
+class ReissueSerializer(StrictSerializer):
+    reason = TextField(help_text="Why the certificate is reissued (a corrected customer name, a result corrected after release)")
+    customer = TextField(
+        max_length=200, required=False, allow_null=True, default=None,
+        help_text="The corrected customer name; left out, the lot's customer stays",
+    )
+    password = password_field()
 
 
 class ReadinessSerializer(serializers.Serializer):
@@ -115,15 +145,45 @@ class CertificateResultSerializer(serializers.Serializer):
     accepted_at = serializers.DateTimeField(allow_null=True)
 
 
+class CertificateLaboratorySerializer(serializers.Serializer):
+    name = serializers.CharField()
+    address = serializers.CharField()
+
+
+class CertificateSpanSerializer(serializers.Serializer):
+    first = serializers.DateField()
+    last = serializers.DateField()
+
+
+class CertificateDatesSerializer(serializers.Serializer):
+    sampling = CertificateSpanSerializer(allow_null=True)
+    receipt = CertificateSpanSerializer(allow_null=True)
+    testing = CertificateSpanSerializer(allow_null=True)
+
+
 class CertificateContentSerializer(serializers.Serializer):
+    """Certificates issued before versions and signatures (migration 0015) lack the fields
+    marked "since 0015"."""
+
     certificate_number = serializers.CharField()
+    version = serializers.IntegerField(required=False, help_text="since 0015")
+    replaces = serializers.CharField(allow_null=True, required=False, help_text="Number of the version this one replaces")
+    reissue_reason = serializers.CharField(allow_null=True, required=False)
+    laboratory = CertificateLaboratorySerializer(required=False, help_text="since 0015")
+    customer = serializers.CharField(allow_null=True, required=False)
     lot = CertificateLotSerializer()
     product = CertificateProductSerializer()
     specifications = CertificateSpecificationSerializer(many=True)
+    dates = CertificateDatesSerializer(required=False, help_text="since 0015")
     results = CertificateResultSerializer(many=True)
     decision_rule = serializers.CharField()
+    statement_of_conformity = serializers.CharField(required=False, help_text="since 0015")
     released_by = serializers.CharField()
+    released_by_name = serializers.CharField(required=False, help_text="since 0015")
     released_at = serializers.DateTimeField()
+    signature_meaning = serializers.CharField(required=False, help_text="What the release signature means; since 0015")
+    issued_by = serializers.CharField(allow_null=True, required=False, help_text="Who issued this version; since 0015")
+    issued_at = serializers.DateTimeField(required=False, help_text="since 0015")
 
 
 @extend_schema_field(CertificateContentSerializer)
@@ -135,9 +195,27 @@ class CertificateSerializer(serializers.ModelSerializer):
     lot = serializers.CharField(source="lot.code", read_only=True, help_text="Lot code")
     lot_id = serializers.IntegerField(read_only=True)
     issued_by = username_field("issued_by")
+    replaces = serializers.CharField(
+        source="replaces.number", read_only=True, allow_null=True, default=None,
+        help_text="Number of the version this one replaces; null for the first",
+    )
+    replaced_by = serializers.SerializerMethodField(help_text="Number of the version that replaced this one; null while current")
+    reissue_reason = serializers.SerializerMethodField(help_text="Why this version was issued; null for the first")
     content = CertificateContentField(read_only=True)
 
     class Meta:
         model = Certificate
-        fields = ["number", "lot", "lot_id", "issued_by", "issued_at", "content_sha256", "content"]
+        fields = [
+            "number", "version", "replaces", "replaced_by", "reissue_reason", "lot", "lot_id", "issued_by", "issued_at",
+            "content_sha256", "content",
+        ]
         read_only_fields = fields
+
+    @extend_schema_field(serializers.CharField(allow_null=True))
+    def get_replaced_by(self, certificate: Certificate) -> str | None:
+        newer = getattr(certificate, "replaced_by", None)  # the reverse one-to-one raises when absent
+        return newer.number if newer is not None else None
+
+    @extend_schema_field(serializers.CharField(allow_null=True))
+    def get_reissue_reason(self, certificate: Certificate) -> str | None:
+        return certificate.reissue_reason or None

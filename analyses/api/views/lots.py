@@ -1,8 +1,10 @@
 """Lots: creation, readiness, release with its certificate, rejection, audit trail."""
 from __future__ import annotations
 
+from django.http import HttpResponse
 from django.shortcuts import get_object_or_404
-from drf_spectacular.utils import extend_schema, extend_schema_view
+from drf_spectacular.types import OpenApiTypes
+from drf_spectacular.utils import OpenApiParameter, extend_schema, extend_schema_view
 from rest_framework import status
 from rest_framework.generics import RetrieveAPIView
 from rest_framework.permissions import IsAuthenticated
@@ -14,13 +16,22 @@ from analyses.api.filters import LotFilter
 from analyses.api.permissions import requires
 from analyses.api.schema import errors
 from analyses.api.serializers.audit import AuditEntrySerializer
-from analyses.api.serializers.common import NoteSerializer, ReasonSerializer
-from analyses.api.serializers.lots import CertificateSerializer, LotCreateSerializer, LotSerializer, ReadinessSerializer
+from analyses.api.serializers.lots import (
+    CertificateSerializer,
+    LotCreateSerializer,
+    LotSerializer,
+    ReadinessSerializer,
+    ReissueSerializer,
+    RejectSerializer,
+    ReleaseSerializer,
+)
 from analyses.api.views.common import PagedListView, validated
 from analyses.models import AuditEntry, Lot
-from analyses.selectors.api_lots import certificate_of_lot
+from analyses.models import Certificate
+from analyses.selectors.api_lots import certificate_of_lot, certificate_version_param, certificate_versions_of_lot
 from analyses.selectors.audit import audit_trail_for
 from analyses.selectors.lists import lot_list, lot_readiness
+from analyses.services.certificates import certificate_reissue
 from analyses.services.lots import lot_create, lot_reject, lot_release
 
 RELEASE = requires("release_lot", "release or reject lots")
@@ -66,14 +77,19 @@ class LotReleaseView(APIView):
     permission_classes = [IsAuthenticated, RELEASE]
 
     @extend_schema(
-        request=NoteSerializer,
+        request=ReleaseSerializer,
         responses={201: CertificateSerializer, **errors(400, 403, 404, 409)},
-        summary="Release the lot (QA) and issue its certificate of analysis",
-        description="409 with `missing` listing every test, sample or investigation that blocks the release.",
+        summary="Release the lot (QA), signed with the user's password, and issue its certificate of analysis",
+        description=(
+            "An electronic signature: `password` is the releasing user's own, re-entered (400 naming `password` "
+            "when missing or wrong; wrong ones count towards the login lock-out, which answers 429). Its meaning, "
+            '"released for shipment against specification vN", is kept in the audit trail. 409 with `missing` '
+            "listing every test, sample or investigation that blocks the release."
+        ),
     )
     def post(self, request: Request, pk: int) -> Response:
-        data = validated(NoteSerializer, request)
-        certificate = lot_release(request.user, pk, note=data["note"])
+        data = validated(ReleaseSerializer, request)
+        certificate = lot_release(request.user, pk, note=data["note"], password=data["password"], request=request)
         return Response(CertificateSerializer(certificate).data, status=status.HTTP_201_CREATED)
 
 
@@ -81,22 +97,98 @@ class LotRejectView(APIView):
     permission_classes = [IsAuthenticated, RELEASE]
 
     @extend_schema(
-        request=ReasonSerializer,
+        request=RejectSerializer,
         responses={200: LotSerializer, **errors(400, 403, 404, 409)},
-        summary="Reject the lot (QA), with a reason; its open samples are rejected",
+        summary="Reject the lot (QA), with a reason, signed with the user's password; its open samples are rejected",
+        description="`password` as for a release: 400 naming it when missing or wrong.",
     )
     def post(self, request: Request, pk: int) -> Response:
-        data = validated(ReasonSerializer, request)
-        return Response(LotSerializer(lot_reject(request.user, pk, reason=data["reason"])).data)
+        data = validated(RejectSerializer, request)
+        lot = lot_reject(request.user, pk, reason=data["reason"], password=data["password"], request=request)
+        return Response(LotSerializer(lot).data)
+
+
+VERSION_PARAMETER = OpenApiParameter(
+    "version", int, required=False,
+    description="A version of the certificate (1 is the first issue); left out, the current version",
+)
+
+
+def _asked_certificate(request: Request, pk: int) -> Certificate:
+    return certificate_of_lot(pk, certificate_version_param(request.query_params.get("version")))
+
+
+def _replaced_by(certificate: Certificate) -> str | None:
+    newer = getattr(certificate, "replaced_by", None)
+    return newer.number if newer is not None else None
 
 
 class LotCertificateView(APIView):
     @extend_schema(
-        responses={200: CertificateSerializer, **errors(404)},
-        summary="The certificate of analysis of a released lot, as issued",
+        parameters=[VERSION_PARAMETER],
+        responses={200: CertificateSerializer, **errors(400, 404)},
+        summary="The certificate of analysis of a released lot, as issued (JSON, for integrations)",
     )
     def get(self, request: Request, pk: int) -> Response:
-        return Response(CertificateSerializer(certificate_of_lot(pk)).data)
+        return Response(CertificateSerializer(_asked_certificate(request, pk)).data)
+
+
+class LotCertificatePdfView(APIView):
+    @extend_schema(
+        parameters=[VERSION_PARAMETER],
+        responses={(200, "application/pdf"): OpenApiTypes.BINARY, **errors(400, 404)},
+        summary="The certificate of analysis as a PDF, for the customer",
+    )
+    def get(self, request: Request, pk: int) -> HttpResponse:
+        from analyses.documents.certificate_pdf import certificate_pdf  # reportlab: only when rendering
+
+        certificate = _asked_certificate(request, pk)
+        response = HttpResponse(certificate_pdf(certificate.content, replaced_by=_replaced_by(certificate)), content_type="application/pdf")
+        response["Content-Disposition"] = f'inline; filename="{certificate.number}.pdf"'
+        return response
+
+
+class LotCertificateHtmlView(APIView):
+    @extend_schema(
+        parameters=[VERSION_PARAMETER],
+        responses={(200, "text/html"): OpenApiTypes.STR, **errors(400, 404)},
+        summary="The certificate of analysis as an HTML page",
+    )
+    def get(self, request: Request, pk: int) -> HttpResponse:
+        from analyses.documents.certificate_html import certificate_html
+
+        certificate = _asked_certificate(request, pk)
+        return HttpResponse(certificate_html(certificate.content, replaced_by=_replaced_by(certificate)), content_type="text/html; charset=utf-8")
+
+
+class LotCertificateVersionsView(APIView):
+    @extend_schema(
+        responses={200: CertificateSerializer(many=True), **errors(404)},
+        summary="Every version of the lot's certificate, the current one first (empty before release)",
+    )
+    def get(self, request: Request, pk: int) -> Response:
+        return Response(CertificateSerializer(certificate_versions_of_lot(pk), many=True).data)
+
+
+class LotCertificateReissueView(APIView):
+    permission_classes = [IsAuthenticated, RELEASE]
+
+    @extend_schema(
+        request=ReissueSerializer,
+        responses={201: CertificateSerializer, **errors(400, 403, 404, 409)},
+        summary="Reissue the certificate of a released lot (QA), with a reason, signed with the user's password",
+        description=(
+            "The new version gets a new number and is marked as replacing the current one, which stays "
+            "retrievable (`?version=`). `customer` corrects the lot's customer first; otherwise the new version "
+            "is built from the record as it stands. 409 unless the lot is released."
+        ),
+    )
+    def post(self, request: Request, pk: int) -> Response:
+        data = validated(ReissueSerializer, request)
+        certificate = certificate_reissue(
+            request.user, pk, reason=data["reason"], customer=data["customer"], password=data["password"], request=request,
+        )
+        return Response(CertificateSerializer(certificate).data, status=status.HTTP_201_CREATED)
 
 
 @extend_schema_view(

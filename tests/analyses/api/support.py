@@ -29,12 +29,12 @@ from analyses.models import (
 )
 
 from analyses.services.assignments import test_assign_bulk
-from analyses.services.lots import lot_create
+from analyses.services.lots import lot_create, lot_release
 from analyses.services.review import test_accept
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
 from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
-from tests.factories import ProductFactory
+from tests.factories import SIGNING_PASSWORD, ProductFactory
 
 WRITTEN_MODELS = (
     Product, Specification, SpecificationLine, Lot, Sample, Test, Result, Investigation, Certificate, AuditEntry,
@@ -109,6 +109,13 @@ class Lab:
     def accepted(self, av=(AV_LOW, AV_LOW_TWIN), label: str = "L-200-A") -> list[Test]:
         """Entered by analyst2, accepted by analyst."""
         return [test_accept(self.users["analyst"], test) for test in self.entered("analyst2", label, av)]
+
+    def released(self) -> Lot:
+        """The lot, its tests accepted and released by QA (certificate version 1 issued)."""
+        self.accepted()
+        lot_release(self.users["qa"], self.lot, password=SIGNING_PASSWORD)
+        self.lot.refresh_from_db()
+        return self.lot
 
     def investigation(self) -> Investigation:
         """An open OOS investigation: AV 0.69 mg KOH/g > 0.6 (Codex CXS 210 appendix, refined, found)."""

@@ -6,7 +6,11 @@ import pytest
 
 from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, AV_TRACE, PV_LOW, PV_LOW_TWIN, TRACE
 
+from tests.factories import SIGNING_PASSWORD
+
 pytestmark = pytest.mark.django_db
+
+SIGNED = {"password": SIGNING_PASSWORD}  # the release's electronic signature
 
 
 def ok(response, status: int = 200) -> dict:
@@ -36,7 +40,7 @@ def oos(lab, clients) -> dict:
 
 
 def test_an_oos_result_blocks_release_with_what_is_missing(oos, lab, clients):
-    response = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json")
+    response = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json")
     assert response.status_code == 409
     body = response.json()
     assert f"OOS investigation {oos['id']} is open" in " ".join(body["missing"])
@@ -59,7 +63,7 @@ def test_confirmed_oos_rejects_the_lot(oos, lab, clients):
     assert {s["state"] for s in samples["results"]} == {"rejected"}
     again = clients["qa"].post(f"/api/investigations/{oos['id']}/close/", {"conclusion": "lab_error", "findings": "x"}, format="json")
     assert again.status_code == 409 and "already closed" in again.json()["detail"]
-    refused = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json")
+    refused = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json")
     assert refused.status_code == 409 and "rejected" in refused.json()["detail"]
 
 
@@ -82,7 +86,7 @@ def test_lab_error_invalidates_and_the_retest_goes_to_release(oos, users, lab, c
         ok(clients["analyst2"].post("/api/results/", {"test": retest_id, "inputs": inputs, **AV_TRACE}, format="json"), 201)
     accepted = ok(clients["analyst"].post(f"/api/tests/{retest_id}/accept/", format="json"))
     assert accepted["verdict"] == "pass"
-    certificate = ok(clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json"), 201)
+    certificate = ok(clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json"), 201)
     av_rows = [row for row in certificate["content"]["results"] if row["method"] == "av"]
     assert [row["test"] for row in av_rows] == [retest_id]  # the invalidated test is not on the certificate
     assert av_rows[0]["reported"] == "0.35"  # mean 0.3548325 -> 0.35, ASTM E29 (see test_lifecycle)

@@ -3,12 +3,14 @@
 Product, lot and sample names are invented (a made-up refinery), not real data."""
 from __future__ import annotations
 
+import re
 from decimal import Decimal
 
 import pytest
 
 from analyses.audit import audit_chain_verify
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, TRACE
+from tests.factories import SIGNING_PASSWORD
 
 pytestmark = pytest.mark.django_db
 
@@ -79,8 +81,9 @@ def test_receipt_to_release_and_certificate(users, clients):
 
     readiness = ok(qa.get(f"/api/lots/{lot['id']}/readiness/"))
     assert readiness == {"lot": "SUN-24-001", "state": "open", "releasable": True, "missing": [], "warnings": []}
-    issued = ok(qa.post(f"/api/lots/{lot['id']}/release/", {"note": "all specifications met"}, format="json"), 201)
-    assert issued["number"] == "COA-SUN-24-001" and issued["issued_by"] == "qa"
+    signed = {"note": "all specifications met", "password": SIGNING_PASSWORD}
+    issued = ok(qa.post(f"/api/lots/{lot['id']}/release/", signed, format="json"), 201)
+    assert re.fullmatch(r"MVO-\d{4}-\d{5}", issued["number"]) and issued["issued_by"] == "qa"
 
     certificate = ok(clients["analyst"].get(f"/api/lots/{lot['id']}/certificate/"))
     assert certificate == issued  # what was issued is what is read back

@@ -3,7 +3,11 @@ from __future__ import annotations
 
 import pytest
 
+from tests.factories import SIGNING_PASSWORD
+
 pytestmark = pytest.mark.django_db
+
+SIGNED = {"password": SIGNING_PASSWORD}  # the release's electronic signature
 
 
 def test_an_incoming_delivery_is_created_with_its_supplier_and_tank(lab, clients):
@@ -21,7 +25,7 @@ def test_an_incoming_delivery_is_created_with_its_supplier_and_tank(lab, clients
 def test_lots_filter_by_state_product_origin_code_and_dates(lab, clients):
     lab.lot
     clients["manager"].post("/api/lots/", {"code": "L-300", "product": lab.product.pk, "origin": "production", "produced_on": "2024-01-10"}, format="json")
-    clients["qa"].post(f"/api/lots/{lab.lot.pk}/reject/", {"reason": "tank contaminated"}, format="json")
+    clients["qa"].post(f"/api/lots/{lab.lot.pk}/reject/", {"reason": "tank contaminated", "password": SIGNING_PASSWORD}, format="json")
     get = clients["analyst"].get
     assert [x["code"] for x in get("/api/lots/", {"state": "rejected"}).json()["results"]] == ["L-200"]
     assert [x["code"] for x in get("/api/lots/", {"code": "300"}).json()["results"]] == ["L-300"]
@@ -35,11 +39,11 @@ def test_lots_filter_by_state_product_origin_code_and_dates(lab, clients):
 
 def test_rejection_rejects_the_open_samples_and_ends_the_lot(lab, clients):
     sample = lab.received()
-    response = clients["qa"].post(f"/api/lots/{lab.lot.pk}/reject/", {"reason": "water in tank"}, format="json")
+    response = clients["qa"].post(f"/api/lots/{lab.lot.pk}/reject/", {"reason": "water in tank", "password": SIGNING_PASSWORD}, format="json")
     assert response.status_code == 200 and response.json()["state"] == "rejected"
     detail = clients["qa"].get(f"/api/samples/{sample.pk}/").json()
     assert detail["state"] == "rejected" and {t["state"] for t in detail["tests"]} == {"cancelled"}
-    again = clients["qa"].post(f"/api/lots/{lab.lot.pk}/reject/", {"reason": "again"}, format="json")
+    again = clients["qa"].post(f"/api/lots/{lab.lot.pk}/reject/", {"reason": "again", "password": SIGNING_PASSWORD}, format="json")
     assert again.status_code == 409
     register = clients["manager"].post("/api/samples/", {"lot": lab.lot.pk}, format="json")
     assert register.status_code == 409
@@ -58,14 +62,14 @@ def test_readiness_lists_what_is_missing_and_release_refuses_with_it(lab, client
 
 
 def test_a_lot_without_samples_is_not_releasable(lab, clients):
-    response = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json")
+    response = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json")
     assert response.status_code == 409
     assert response.json()["missing"] == ["lot L-200 has no release-critical test"]
 
 
 def test_a_released_lot_is_not_released_twice(lab, clients):
     lab.accepted()
-    assert clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json").status_code == 201
-    again = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", format="json")
+    assert clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json").status_code == 201
+    again = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json")
     assert again.status_code == 409 and "released" in again.json()["detail"]
     assert clients["qa"].get(f"/api/lots/{lab.lot.pk}/readiness/").json()["missing"] == ["lot L-200 is released"]

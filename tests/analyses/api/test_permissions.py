@@ -23,9 +23,11 @@ from analyses.services.samples import sample_hold
 from analyses.services.stability import stability_study_create
 from tests.analyses.api.support import Call, Lab, row_counts
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE
-from tests.factories import UserFactory
+from tests.factories import SIGNING_PASSWORD, UserFactory
 
 pytestmark = pytest.mark.django_db
+
+SIGNED = {"password": SIGNING_PASSWORD}  # the release's electronic signature
 
 ROLES = ("manager", "analyst", "qa", "admin", "nobody", "anonymous", "superuser")
 
@@ -104,6 +106,7 @@ MANAGER_QA_ADMIN_200 = {"manager": 200, "qa": 200, "admin": 200, "superuser": 20
 MANAGER_ADMIN_200 = {"manager": 200, "admin": 200, "superuser": 200}
 SIGNED_IN_READ = {"manager": 200, "analyst": 200, "qa": 200, "admin": 200, "nobody": 200, "superuser": 200}
 SIGNED_IN_200 = {role: 200 for role in ("manager", "analyst", "qa", "admin", "nobody", "superuser")}
+EVERYONE_200 = {role: 200 for role in ROLES if role != "anonymous"}
 
 CASES = [
     Case("product create", lambda lab: Call("post", "/api/products/", {"code": "HOO", "name": "High-oleic oil"}), MANAGER_ADMIN),
@@ -127,8 +130,15 @@ CASES = [
         DRAFTERS,
     ),
     Case("lot create", lambda lab: Call("post", "/api/lots/", {"code": "L-9", "product": lab.product.pk, "origin": "production"}), MANAGER_ADMIN),
-    Case("lot release", lambda lab: (lab.accepted(), Call("post", f"/api/lots/{lab.lot.pk}/release/"))[1], {"qa": 201}),
-    Case("lot reject", lambda lab: Call("post", f"/api/lots/{lab.lot.pk}/reject/", {"reason": "tank contaminated"}), {"qa": 200}),
+    Case("lot release", lambda lab: (lab.accepted(), Call("post", f"/api/lots/{lab.lot.pk}/release/", SIGNED))[1], {"qa": 201}),
+    Case(
+        "certificate reissue",
+        lambda lab: (lab.released(), Call("post", f"/api/lots/{lab.lot.pk}/certificate/reissue/", {
+            "reason": "customer name corrected", "customer": "Invented Bakeries plc", **SIGNED,
+        }))[1],
+        {"qa": 201},
+    ),
+    Case("lot reject", lambda lab: Call("post", f"/api/lots/{lab.lot.pk}/reject/", {"reason": "tank contaminated", "password": SIGNING_PASSWORD}), {"qa": 200}),
     Case("sample register", lambda lab: Call("post", "/api/samples/", {"lot": lab.lot.pk}), MANAGER_ADMIN),
     Case(
         "sample receive",
@@ -247,6 +257,10 @@ CASES = [
         lambda lab: Call("get", f"/api/results/{lab.entered()[0].results.first().pk}/uncertainty/"),
         SIGNED_IN_200,
     ),
+    # certificates: every signed-in user may read them, in every form (not JSON: the body is not parsed)
+    Case("certificate pdf", lambda lab: (lab.released(), Call("get", f"/api/lots/{lab.lot.pk}/certificate.pdf"))[1], EVERYONE_200),
+    Case("certificate html", lambda lab: (lab.released(), Call("get", f"/api/lots/{lab.lot.pk}/certificate.html"))[1], EVERYONE_200),
+    Case("certificate versions", lambda lab: (lab.released(), Call("get", f"/api/lots/{lab.lot.pk}/certificates/"))[1], EVERYONE_200),
     Case("users list", lambda lab: Call("get", "/api/users/?role=analyst"), MANAGER_ADMIN_200),
 ]
 
@@ -271,10 +285,9 @@ def test_permission_matrix(case: Case, role: str, lab, identities):
     before = row_counts()
     response = call.send(identities[role])
     expected = expected_status(case, role)
-    assert response.status_code == expected, (role, case.name, response.content)
-    body = response.json()
+    assert response.status_code == expected, (role, case.name, response.content[:300])
     if expected in (401, 403):
-        assert body["detail"]  # the reason is given
+        assert response.json()["detail"]  # the reason is given
         assert row_counts() == before  # a refusal writes nothing
 
 
@@ -289,7 +302,7 @@ def test_every_state_changing_route_is_in_the_matrix():
         "product-list": "product create", "specification-list": "specification create",
         "specification-lines": "specification lines replace", "specification-approve": "specification approve",
         "specification-revise": "specification revise", "lot-list": "lot create", "lot-release": "lot release",
-        "lot-reject": "lot reject", "sample-list": "sample register", "sample-receive": "sample receive",
+        "lot-reject": "lot reject", "lot-certificate-reissue": "certificate reissue", "sample-list": "sample register", "sample-receive": "sample receive",
         "sample-hold": "sample hold", "sample-resume": "sample resume", "sample-cancel": "sample cancel",
         "test-assign": "tests assign", "test-accept": "test accept", "test-send-back": "test send back",
         "result-record": "result record", "result-record-bulk": "result record bulk", "result-correct": "result correct",
@@ -364,7 +377,7 @@ def test_a_superuser_in_the_qa_group_still_may_not_enter_results(lab, client_for
 
 
 def test_a_superuser_is_told_that_release_is_for_the_qa_group(lab, identities):
-    response = identities["superuser"].post(f"/api/lots/{lab.lot.pk}/release/", format="json")
+    response = identities["superuser"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json")
     assert response.status_code == 403
     assert "qa_reviewer group only" in response.json()["detail"]
 

@@ -15,7 +15,7 @@ from analyses.services.samples import sample_receive, sample_register
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept
 from tests.analyses.lab_setup import AV_LOW, AV_TRACE, enter_passing
-from tests.factories import InstrumentCheckFactory, usable_instrument
+from tests.factories import SIGNING_PASSWORD, InstrumentCheckFactory, usable_instrument
 
 pytestmark = pytest.mark.django_db
 
@@ -92,7 +92,7 @@ def _released_lot_with_results(lab, users, code: str, samples: int) -> None:
         tests = test_assign_bulk(users["manager"], list(sample.tests.order_by("method_code")), assignee=users["analyst"])
         for test in enter_passing(users["analyst"], tests):
             test_accept(users["analyst2"], test)
-    lot_release(users["qa"], lot)
+    lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
 
 
 def test_impact_of_a_titrant_lot_finds_the_released_lot_in_constant_queries(clients, lab, users, django_assert_num_queries):

@@ -22,6 +22,7 @@ from analyses.services.lots import lot_release
 from analyses.services.review import test_accept
 from analyses.services.samples import sample_cancel, sample_hold, sample_resume
 from tests.analyses.lab_setup import AV_HIGH, AV_HIGH_TWIN, AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates
+from tests.factories import SIGNING_PASSWORD
 
 pytestmark = pytest.mark.django_db
 
@@ -43,7 +44,7 @@ def oos(users, assigned_tests):
 def test_an_accepted_oos_result_opens_an_investigation_that_blocks_release(users, oos):
     assert oos.state == InvestigationState.OPEN
     with pytest.raises(Conflict) as caught:
-        lot_release(users["qa"], oos.lot)
+        lot_release(users["qa"], oos.lot, password=SIGNING_PASSWORD)
     assert any(f"OOS investigation {oos.pk} is open" in line for line in caught.value.missing)
     assert any("av test" in line and "out of specification" in line for line in caught.value.missing)
     oos.lot.refresh_from_db()
@@ -89,7 +90,7 @@ def test_lab_error_invalidates_the_result_and_a_retest_leads_to_release(users, o
     test_accept(users["analyst"], retest)
     sample.refresh_from_db()
     assert sample.state == SampleState.TESTING_COMPLETE
-    certificate = lot_release(users["qa"], closed.lot)
+    certificate = lot_release(users["qa"], closed.lot, password=SIGNING_PASSWORD)
     # the certificate lists the retest, not the invalidated test
     assert sorted(row["test"] for row in certificate.content["results"] if row["method"] == "av") == [retest.pk]
 

@@ -12,6 +12,7 @@ from analyses.services.review import test_accept
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
 from tests.analyses.lab_setup import entry, enter_passing
+from tests.factories import SIGNING_PASSWORD
 
 pytestmark = pytest.mark.django_db
 
@@ -40,7 +41,7 @@ def test_release_lists_everything_missing_and_changes_nothing(users, assigned_te
     lot = assigned_tests[0].sample.lot
     sample_register(users["manager"], lot, label="L-100-NOT-YET")
     with pytest.raises(Conflict) as caught:
-        lot_release(users["qa"], lot)
+        lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
     missing = caught.value.missing
     assert "sample L-100-NOT-YET has not been received" in missing
     assert sum("is assigned, not accepted" in line for line in missing) == 2
@@ -52,11 +53,11 @@ def test_release_lists_everything_missing_and_changes_nothing(users, assigned_te
 def test_a_lot_without_tests_or_with_a_held_sample_is_not_released(users, lot, received_sample):
     empty = lot_create(users["manager"], code="L-EMPTY", product=lot.product, origin="production")
     with pytest.raises(Conflict) as caught:
-        lot_release(users["qa"], empty)
+        lot_release(users["qa"], empty, password=SIGNING_PASSWORD)
     assert caught.value.missing == ["lot L-EMPTY has no release-critical test"]
     sample_hold(users["qa"], received_sample, reason="seal broken")
     with pytest.raises(Conflict) as caught:
-        lot_release(users["qa"], lot)
+        lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
     assert "sample L-100-A is on hold: seal broken" in caught.value.missing
 
 
@@ -80,7 +81,7 @@ def test_release_cancels_open_non_critical_tests_and_releases_the_sample(users, 
     sv = sample.tests.get(method_code="sv")
     test_assign_bulk(users["manager"], [av], assignee=users["analyst"])
     test_accept(users["analyst2"], enter_passing(users["analyst"], [av])[0])
-    certificate = lot_release(users["qa"], sample.lot)
+    certificate = lot_release(users["qa"], sample.lot, password=SIGNING_PASSWORD)
     assert [row["method"] for row in certificate.content["results"]] == ["av"]
     sv.refresh_from_db()
     assert sv.state == TestState.CANCELLED
@@ -108,7 +109,7 @@ def test_a_non_critical_result_awaiting_review_blocks_release(users, product):
     sv.refresh_from_db()
     assert sv.state == TestState.RESULT_ENTERED
     with pytest.raises(Conflict) as caught:
-        lot_release(users["qa"], sample.lot)
+        lot_release(users["qa"], sample.lot, password=SIGNING_PASSWORD)
     assert caught.value.missing == [f"sample {sample.label}: sv test {sv.pk} is result_entered, awaiting review"]
     sample.lot.refresh_from_db()
     assert sample.lot.state == LotState.OPEN
@@ -117,21 +118,21 @@ def test_a_non_critical_result_awaiting_review_blocks_release(users, product):
 def test_rejection_needs_a_reason_and_closes_the_lot(users, assigned_tests):
     lot = assigned_tests[0].sample.lot
     with pytest.raises(InvalidInput):
-        lot_reject(users["qa"], lot, reason=" ")
-    rejected = lot_reject(users["qa"], lot, reason="tank contaminated with water")
+        lot_reject(users["qa"], lot, reason=" ", password=SIGNING_PASSWORD)
+    rejected = lot_reject(users["qa"], lot, reason="tank contaminated with water", password=SIGNING_PASSWORD)
     assert rejected.state == LotState.REJECTED and rejected.decided_by == users["qa"]
     assert set(lot.samples.values_list("state", flat=True)) == {SampleState.REJECTED}
     assert set(assigned_tests[0].sample.tests.values_list("state", flat=True)) == {TestState.CANCELLED}
     with pytest.raises(Conflict):
-        lot_release(users["qa"], lot)
+        lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
     with pytest.raises(Conflict):
-        lot_reject(users["qa"], lot, reason="again")
+        lot_reject(users["qa"], lot, reason="again", password=SIGNING_PASSWORD)
 
 
 def test_a_certificate_is_never_changed(users, assigned_tests):
     for test in enter_passing(users["analyst"], assigned_tests):
         test_accept(users["analyst2"], test)
-    certificate = lot_release(users["qa"], assigned_tests[0].sample.lot)
+    certificate = lot_release(users["qa"], assigned_tests[0].sample.lot, password=SIGNING_PASSWORD)
     certificate.content["results"] = []
     with pytest.raises(ImmutableRowError):
         certificate.save()

@@ -35,7 +35,7 @@ from tests.analyses.lab_setup import (
     enter_duplicates,
     AV_TRACE,
 )
-from tests.factories import UserFactory
+from tests.factories import SIGNING_PASSWORD, UserFactory
 
 pytestmark = pytest.mark.django_db
 
@@ -142,12 +142,12 @@ CASES: dict[str, tuple[Callable, Callable, set[str]]] = {
     ),
     "lot_release": (
         lambda r: _releasable(r.getfixturevalue("users"), r.getfixturevalue("assigned_tests")),
-        lot_release,
+        lambda actor, lot: lot_release(actor, lot, password=SIGNING_PASSWORD),
         {"qa"},
     ),
     "lot_reject": (
         lambda r: r.getfixturevalue("lot"),
-        lambda actor, lot: lot_reject(actor, lot, reason="supplier recall"),
+        lambda actor, lot: lot_reject(actor, lot, reason="supplier recall", password=SIGNING_PASSWORD),
         {"qa"},
     ),
 }
@@ -193,14 +193,14 @@ def test_the_superuser_flag_opens_no_qa_decision_and_no_raw_data_to_qa(users, as
     segregation of duties; the superuser flag changes neither."""
     root = UserFactory(username="root", is_superuser=True)
     with pytest.raises(NotAllowed, match="may not reject lots"):
-        lot_reject(root, lot, reason="no QA decision for superusers")
+        lot_reject(root, lot, reason="no QA decision for superusers", password=SIGNING_PASSWORD)
     qa_root = UserFactory(username="root-qa", is_superuser=True, roles=["qa_reviewer"])
     with pytest.raises(InvalidInput, match="QA reviewer"):
         test_assign_bulk(users["manager"], [assigned_tests[0]], assignee=qa_root)
     with pytest.raises(NotAllowed, match="QA reviewer"):
         result_record(qa_root, assigned_tests[0], inputs=AV_LOW)  # admins may enter any test, QA never
     assert not assigned_tests[0].results.exists()
-    lot_reject(qa_root, lot, reason="a QA member decides as QA")  # membership, not the flag, decides
+    lot_reject(qa_root, lot, reason="a QA member decides as QA", password=SIGNING_PASSWORD)  # membership, not the flag, decides
 
 
 def test_a_qa_reviewer_who_is_also_admin_still_may_not_enter_results(users, assigned_tests):

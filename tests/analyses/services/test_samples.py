@@ -15,6 +15,7 @@ from analyses.services.review import test_accept
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register, sample_resume
 from analyses.services.specifications import specification_approve, specification_revise
 from tests.analyses.lab_setup import AV_LOW, PV_LOW, PV_LOW_TWIN, enter_duplicates, enter_passing, AV_TRACE
+from tests.factories import SIGNING_PASSWORD
 
 pytestmark = pytest.mark.django_db
 
@@ -129,7 +130,7 @@ def test_register_refuses_a_used_label_and_a_closed_lot(users, sample):
     with pytest.raises(InvalidInput) as caught:
         sample_register(users["manager"], sample.lot, label="L-100-A")
     assert "label" in caught.value.fields
-    lot_reject(users["qa"], sample.lot, reason="supplier recall")
+    lot_reject(users["qa"], sample.lot, reason="supplier recall", password=SIGNING_PASSWORD)
     with pytest.raises(Conflict, match="rejected"):
         sample_register(users["manager"], sample.lot, label="L-100-Z")
     sample.refresh_from_db()
@@ -141,7 +142,7 @@ def test_a_released_lot_still_takes_stability_pulls_and_their_tests_but_no_routi
     for test in enter_passing(users["analyst"], assigned_tests):
         test_accept(users["analyst2"], test)
     lot = assigned_tests[0].sample.lot
-    lot_release(users["qa"], lot)
+    lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
     with pytest.raises(Conflict, match="released"):
         sample_register(manager, lot, label="L-100-LATE")
     pull = sample_register(manager, lot, kind="stability_pull", label="L-100-M3")

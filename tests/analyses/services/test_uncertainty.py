@@ -22,7 +22,7 @@ from analyses.services.specifications import specification_approve, specificatio
 from analyses.services.uncertainty import LAB_PAIRS_NEEDED, budget_source
 from plugins.registry import get_registry
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, entry_for
-from tests.factories import ProductFactory
+from tests.factories import SIGNING_PASSWORD, ProductFactory
 
 pytestmark = pytest.mark.django_db
 
@@ -112,7 +112,7 @@ def test_a_conditional_pass_is_no_oos_shows_in_review_and_readiness_and_releases
     readiness = lot_readiness(lot)
     assert readiness["missing"] == []
     assert any("conditional pass" in w for w in readiness["warnings"])
-    certificate = lot_release(users["qa"], lot)
+    certificate = lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
     line = certificate.content["results"][0]
     assert line["verdict"] == Verdict.CONDITIONAL_PASS
     assert line["expanded_uncertainty"] == TestUncertainty.objects.get(test=test).expanded
@@ -123,7 +123,7 @@ def test_a_conditional_pass_is_no_oos_shows_in_review_and_readiness_and_releases
 def test_the_certificate_states_the_rule_and_its_risk(users):
     test = _enter(users, _av_test(users, "guard_band", "GB3"), AV_LOW, AV_LOW_TWIN)
     test_accept(users["analyst2"], test)
-    content = lot_release(users["qa"], test.sample.lot).content
+    content = lot_release(users["qa"], test.sample.lot, password=SIGNING_PASSWORD).content
     rules = content["decision_rules"]
     assert len(rules) == 1 and rules[0]["rule"] == "guard_band"
     assert "w = U" in rules[0]["statement"]
@@ -133,7 +133,7 @@ def test_the_certificate_states_the_rule_and_its_risk(users):
 def test_the_default_certificate_states_simple_acceptance_and_its_50_percent(users):
     test = _enter(users, _av_test(users, "simple", "SA2"), AV_LOW, AV_LOW_TWIN)
     test_accept(users["analyst2"], test)
-    rules = lot_release(users["qa"], test.sample.lot).content["decision_rules"]
+    rules = lot_release(users["qa"], test.sample.lot, password=SIGNING_PASSWORD).content["decision_rules"]
     assert rules[0]["rule"] == "simple" and "up to 50 %" in rules[0]["risk"]
 
 

@@ -1,0 +1,1 @@
+"""Documents rendered for people outside the lab: the certificate of analysis as PDF and HTML."""
