@@ -6,7 +6,8 @@ decision rule with that U, and, once every replicate is in, stores the mean's bu
 re-judges the test's aggregate (the ``aggregate`` dict the caller is about to store).
 
 The inputs' standard uncertainties come from a budget source (``budget_source``): the per-method
-default budget (plugins.default_budget) until traceability records exist. The repeatability is
+default budget (plugins.default_budget), overridden by ``TracedBudget`` for what the result was
+measured with (issue 9): the titrant's standardisation, the balance's and the burette's calibrations. The repeatability is
 the plugin's, unless settings.OLEOTRACE_REPEATABILITY_SOURCE is "lab_duplicates" and the lab has
 at least LAB_PAIRS_NEEDED accepted duplicate pairs for the method (the most recent ones are used).
 """
@@ -19,10 +20,20 @@ from django.conf import settings
 from django.utils import timezone
 
 from analyses.audit import audit_append, created, json_safe
-from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Test, TestState, TestUncertainty
+from analyses.models import (
+    AuditAction,
+    InstrumentKind,
+    Result,
+    ResultStatus,
+    ResultUncertainty,
+    Test,
+    TestState,
+    TestUncertainty,
+)
 from analyses.services.result_trace import TITRANT_INPUT, stored_inputs
 from analyses.services.review_warnings import line_inputs
 from analyses.services.verdicts import line_verdict
+from analyses.traceability.standardisation import tolerance_as_u, weighing_by_difference_u
 from plugins.contract import MethodInputError, MethodPlugin, QuantityInput
 from plugins.default_budget import DefaultBudget
 from plugins.registry import UnknownMethod, get_registry
@@ -63,19 +74,51 @@ def budget_source(plugin: MethodPlugin) -> BudgetSource:
     return DefaultBudget()
 
 
-class StandardisedTitrantBudget:
-    """A budget source for a result measured with a standardised titrant lot (issue 9): the
-    titrant concentration's u is the standardisation's (QUAM A2); every other term is ``base``'s."""
+def calibration_u(kind: str, calibration) -> Decimal | None:
+    """One reading's standard uncertainty from an instrument's calibration, as QUAM A2 treats it:
+    the stated u, else the tolerance as a triangular distribution (a / √6); a mass weighed by
+    difference takes the balance's u twice (√2 · u). None when the certificate states neither."""
+    if calibration.standard_uncertainty:
+        u = Decimal(calibration.standard_uncertainty)
+    elif calibration.tolerance:
+        u = tolerance_as_u(Decimal(calibration.tolerance))
+    else:
+        return None
+    return weighing_by_difference_u(u) if kind == InstrumentKind.BALANCE else u
+
+
+# which instrument kinds measure an input in each unit (the unit of their calibration)
+MEASURED_BY = {"g": (InstrumentKind.BALANCE,), "mL": (InstrumentKind.BURETTE, InstrumentKind.TITRATOR)}
+
+
+class TracedBudget:
+    """A budget source for a result measured with named instruments and a standardised titrant
+    (issue 9): the titrant concentration's u is its standardisation's, a mass's the balance's
+    calibration, a titre's the burette's or titrator's; every other term is ``base``'s."""
 
     def __init__(self, base: BudgetSource, result: Result):
         self.base = base
-        self.u = float(result.titrant_uncertainty)
-        self.basis = f"standardisation of titrant lot {result.reagent_lot.code} (Eurachem/CITAC QUAM A2)"
-        self.name = f"{base.name}; titrant concentration from its standardisation"
+        self.titrant = None
+        if result.titrant_uncertainty and result.reagent_lot_id:
+            self.titrant = StandardUncertainty(
+                float(result.titrant_uncertainty),
+                f"standardisation of titrant lot {result.reagent_lot.code} (Eurachem/CITAC QUAM A2)",
+            )
+        self.by_unit: dict[str, StandardUncertainty] = {}
+        for use in result.instrument_uses.select_related("instrument", "calibration"):
+            for unit, kinds in MEASURED_BY.items():
+                if use.instrument.kind in kinds and use.calibration.unit in ("", unit):
+                    u = calibration_u(use.instrument.kind, use.calibration)
+                    if u is not None:
+                        basis = f"calibration {use.calibration.certificate_ref} of {use.instrument.asset_id} (QUAM A2)"
+                        self.by_unit[unit] = StandardUncertainty(float(u), basis)
+        self.name = f"{base.name}; titrant and instruments from their standardisation and calibrations"
 
     def input_uncertainty(self, plugin: MethodPlugin, spec: QuantityInput, value: Decimal | float) -> StandardUncertainty | None:
-        if spec.name == TITRANT_INPUT:
-            return StandardUncertainty(self.u, self.basis)
+        if spec.name == TITRANT_INPUT and self.titrant is not None:
+            return self.titrant
+        if spec.unit in self.by_unit:
+            return self.by_unit[spec.unit]
         return self.base.input_uncertainty(plugin, spec, value)
 
     def repeatability(self, plugin: MethodPlugin, result: float) -> StandardUncertainty | None:
@@ -90,8 +133,8 @@ def budget_of(result: Result, plugin: MethodPlugin | None = None) -> Budget | No
         inputs = stored_inputs(result)
         values = plugin.validate(line_inputs(plugin, result.test.specification_line, inputs))
         source = budget_source(plugin)
-        if result.titrant_uncertainty and result.reagent_lot_id:
-            source = StandardisedTitrantBudget(source, result)
+        if result.reagent_lot_id or result.instrument_uses.exists():
+            source = TracedBudget(source, result)
         return result_budget(plugin, values, source, given=set(inputs))
     except (UnknownMethod, MethodInputError):
         return None

@@ -170,7 +170,7 @@ def _entered_test(replicates: int):
     """A test with ``replicates`` AV results entered through the service (so budgets are stored)."""
     from analyses.models import Test
     from analyses.services.results import result_record
-    from tests.analyses.lab_setup import AV_LOW
+    from tests.analyses.lab_setup import AV_LOW, AV_TRACE
 
     from analyses.models import SampleState
 
@@ -179,7 +179,7 @@ def _entered_test(replicates: int):
         sample=sample, replicates=replicates, assignee=UserFactory(roles=["analyst"]), state=TestState.ASSIGNED
     )
     for _ in range(replicates):
-        result = result_record(test.assignee, test, inputs=AV_LOW)
+        result = result_record(test.assignee, test, inputs=AV_LOW, **AV_TRACE)
     return Test.objects.get(pk=test.pk), result
 
 

@@ -171,3 +171,24 @@ def test_a_guard_band_multiple_is_kept_as_written_and_survives_a_revision(users)
     assert (line.decision_rule, line.guard_band_multiple) == ("guard_band", "1.5")
     revised = specification_revise(users["manager"], specification_approve(users["qa"], draft), effective_from="2030-01-01")
     assert revised.lines.get().guard_band_multiple == "1.5"
+
+
+def test_a_traced_result_takes_its_u_from_the_standardisation_and_the_calibrations(users, assigned_tests):
+    """Issue 10 on issue 9: the titrant's u is its standardisation's, the mass's the balance's
+    calibration (weighed by difference: sqrt(2) u) and each titre's the burette's tolerance as a
+    triangular distribution (a / sqrt(6)), as Eurachem/CITAC QUAM A2 treats them."""
+    from analyses.models import Result
+
+    av = next(t for t in assigned_tests if t.method_code == "av")
+    first = result_record(users["analyst"], av, **entry_for(av, AV_LOW))
+    first = Result.objects.select_related("reagent_lot").get(pk=first.pk)
+    terms = {term["name"]: term for term in ResultUncertainty.objects.get(result=first).budget["terms"]}
+    balance = first.instrument_uses.get(instrument__kind="balance").calibration
+    burette = first.instrument_uses.get(instrument__kind="burette").calibration
+    assert terms["titrant_concentration"]["u"] == pytest.approx(float(first.titrant_uncertainty), rel=1e-12)
+    assert "KOH-BENCH" in terms["titrant_concentration"]["basis"]
+    assert terms["sample_mass"]["u"] == pytest.approx(2 ** 0.5 * float(balance.standard_uncertainty), rel=1e-12)
+    assert balance.certificate_ref in terms["sample_mass"]["basis"]
+    for titre in ("sample_volume", "blank_volume"):
+        assert terms[titre]["u"] == pytest.approx(float(burette.tolerance) / 6 ** 0.5, rel=1e-12)
+        assert burette.certificate_ref in terms[titre]["basis"]
