@@ -12,7 +12,7 @@ from typing import Any
 
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import Comparison
-from analyses.services.specifications import limit_as_written
+from analyses.services.specifications import limits_given_or_codex
 from analyses.services.verdicts import verdict_for
 from plugins.contract import MethodInputError, MethodPlugin, MethodResult
 from plugins.registry import UnknownMethod, get_registry
@@ -50,21 +50,9 @@ class Calculation:
 def _limits(
     plugin: MethodPlugin, minimum: Any, maximum: Any, oil_type: str | None, comparison: str | None
 ) -> CalculationLimits | None:
-    low = limit_as_written(minimum, "minimum")
-    high = limit_as_written(maximum, "maximum")
-    source = ""
-    if oil_type:
-        if low or high:
-            raise InvalidInput.for_field("oil_type", "give either limits or a Codex oil type, not both")
-        default = plugin.limits_for(oil_type)
-        if default is None:
-            known = ", ".join(sorted(limit.oil_type for limit in plugin.spec_limits)) or "none"
-            raise InvalidInput.for_field(
-                "oil_type", f"method {plugin.code} has no default limits for {oil_type!r} (known: {known})"
-            )
-        low = limit_as_written(default.minimum, "minimum")
-        high = limit_as_written(default.maximum, "maximum")
-        source = f"{default.source}; {oil_type}; {default.evidence}"
+    low, high, source = limits_given_or_codex(
+        plugin, minimum, maximum, oil_type or "", fields=("minimum", "maximum", "oil_type")
+    )
     chosen = comparison or Comparison.ABSOLUTE
     if chosen not in Comparison.values:
         raise InvalidInput.for_field("comparison", f"must be one of {', '.join(Comparison.values)}")

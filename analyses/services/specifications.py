@@ -83,6 +83,31 @@ def limit_as_written(raw: Any, field: str) -> str:
     return plain
 
 
+def limits_given_or_codex(
+    plugin: MethodPlugin, minimum: Any, maximum: Any, oil_type: str, *, fields: tuple[str, str, str]
+) -> tuple[str, str, str]:
+    """The limits as written, or the plugin's Codex default for ``oil_type``: (minimum, maximum,
+    source), "" for each one not set. ``fields`` names (minimum, maximum, oil type) in errors."""
+    minimum_field, maximum_field, oil_type_field = fields
+    low = limit_as_written(minimum, minimum_field)
+    high = limit_as_written(maximum, maximum_field)
+    if not oil_type:
+        return low, high, ""
+    if low or high:
+        raise InvalidInput.for_field(oil_type_field, "give either limits or a Codex oil type, not both")
+    default = plugin.limits_for(oil_type)
+    if default is None:
+        known = ", ".join(sorted(limit.oil_type for limit in plugin.spec_limits)) or "none"
+        raise InvalidInput.for_field(
+            oil_type_field, f"method {plugin.code} has no default limits for {oil_type!r} (known: {known})"
+        )
+    return (
+        limit_as_written(default.minimum, minimum_field),
+        limit_as_written(default.maximum, maximum_field),
+        f"{default.source}; {oil_type}; {default.evidence}",
+    )
+
+
 def _line_basis(plugin: MethodPlugin, raw: Any, prefix: str, oil_types: Sequence[str]) -> tuple[str, str]:
     """The line's basis and the unit that follows from it: ("", result_unit) for a method
     without a basis. The first of ``oil_types`` given names the conventional basis."""
@@ -117,22 +142,11 @@ def _clean_line(raw: Any, index: int, product_oil_type: str = "") -> dict[str, A
         plugin = get_registry().get(code)
     except UnknownMethod as exc:
         raise InvalidInput.for_field(f"{prefix}.method", str(exc)) from None
-    minimum = limit_as_written(raw.get("minimum"), f"{prefix}.minimum")
-    maximum = limit_as_written(raw.get("maximum"), f"{prefix}.maximum")
     oil_type = str(raw.get("codex_oil_type") or "").strip()
-    source = ""
-    if oil_type:
-        if minimum or maximum:
-            raise InvalidInput.for_field(f"{prefix}.codex_oil_type", "give either limits or a Codex oil type, not both")
-        default = plugin.limits_for(oil_type)
-        if default is None:
-            known = ", ".join(sorted(limit.oil_type for limit in plugin.spec_limits)) or "none"
-            raise InvalidInput.for_field(
-                f"{prefix}.codex_oil_type", f"method {code} has no default limits for {oil_type!r} (known: {known})"
-            )
-        minimum = limit_as_written(default.minimum, f"{prefix}.minimum")
-        maximum = limit_as_written(default.maximum, f"{prefix}.maximum")
-        source = f"{default.source}; {oil_type}; {default.evidence}"
+    minimum, maximum, source = limits_given_or_codex(
+        plugin, raw.get("minimum"), raw.get("maximum"), oil_type,
+        fields=(f"{prefix}.minimum", f"{prefix}.maximum", f"{prefix}.codex_oil_type"),
+    )
     if not minimum and not maximum:
         raise InvalidInput.for_field(f"{prefix}.minimum", "give a minimum, a maximum, or a Codex oil type")
     basis, unit = _line_basis(plugin, raw, prefix, (oil_type, product_oil_type))
