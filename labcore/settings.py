@@ -152,6 +152,7 @@ REST_FRAMEWORK = {
     ],
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
     "DEFAULT_PAGINATION_CLASS": "rest_framework.pagination.PageNumberPagination",
+    "DEFAULT_METADATA_CLASS": "analyses.api.metadata.InputFieldsMetadata",
     "PAGE_SIZE": 50,
     "DEFAULT_FILTER_BACKENDS": ["django_filters.rest_framework.DjangoFilterBackend"],
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
@@ -214,7 +215,11 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
     # the enum hook is drf-spectacular's default; ours documents the 401s and 404s the framework gives
-    "POSTPROCESSING_HOOKS": ["drf_spectacular.hooks.postprocess_schema_enums", "analyses.api.schema.default_responses"],
+    "POSTPROCESSING_HOOKS": [
+        "drf_spectacular.hooks.postprocess_schema_enums",
+        "analyses.api.schema.default_responses",
+        "analyses.api.schema.integrator_texts",
+    ],
 }
 
 # Celery: Redis when REDIS_URL is set, otherwise a filesystem broker that needs no server.

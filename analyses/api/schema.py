@@ -61,6 +61,21 @@ IDEMPOTENCY_KEY = OpenApiParameter(
     ),
 )
 
+# The project's own response header (not another service's convention): set on a replayed entry.
+REPLAYED_HEADER = "Oleotrace-Replayed"
+
+REPLAYED = OpenApiParameter(
+    name=REPLAYED_HEADER,
+    type=OpenApiTypes.STR,
+    location=OpenApiParameter.HEADER,
+    response=[201],
+    enum=["true"],
+    description=(
+        "Present, with the value `true`, only when this answer repeats an earlier one: the request carried an "
+        "Idempotency-Key already used by the same user, so nothing new was recorded."
+    ),
+)
+
 
 # Answers every operation of a kind can give, added where a view's own description leaves them out.
 NOT_AUTHENTICATED = "Not authenticated: no credentials, or a token that is not valid"
@@ -97,4 +112,26 @@ def default_responses(result: dict, generator, request, public) -> dict:
                 else:
                     responses["404"] = _error_response(PAGE_NOT_FOUND)
             operation["responses"] = dict(sorted(responses.items()))
+    return result
+
+
+def integrator_texts(result: dict, generator, request, public) -> dict:
+    """drf-spectacular postprocessing hook: the descriptions of ``analyses.api.integrator_texts``
+    on each operation and schema component, and one for every page of a list."""
+    from analyses.api.integrator_texts import OPERATIONS, SCHEMAS
+
+    for operations in result.get("paths", {}).values():
+        for operation in operations.values():
+            text = OPERATIONS.get(operation.get("operationId"))
+            if text:
+                operation["description"] = text
+    for name, component in result.get("components", {}).get("schemas", {}).items():
+        if name in SCHEMAS:
+            component["description"] = SCHEMAS[name]
+        elif name.startswith("Paginated") and name.endswith("List"):
+            item = name.removeprefix("Paginated").removesuffix("List")
+            component["description"] = (
+                f"A page of a list: `count` of everything that matches, links to the `next` and `previous` pages "
+                f"(null at either end), and `results`, each a {item}."
+            )
     return result

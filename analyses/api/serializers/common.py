@@ -11,8 +11,9 @@ from analyses.api.schema import IDEMPOTENCY_KEY_HEADER, IDEMPOTENCY_KEY_MAX
 
 
 class StrictSerializer(serializers.Serializer):
-    """An input serializer that refuses fields it does not know, so a misspelt field
-    ("maximun") is named in a 400 instead of being silently ignored."""
+    # An input serializer that refuses fields it does not know, so a misspelt field
+    # ("maximun") is named in a 400 instead of being silently ignored. (A comment, not a
+    # docstring: a docstring would become the schema's text for every request body.)
 
     def to_internal_value(self, data):
         if isinstance(data, Mapping):

@@ -6,7 +6,7 @@ from django.http import HttpResponse
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import OpenApiParameter, extend_schema, extend_schema_view
 from rest_framework import status
-from rest_framework.generics import RetrieveAPIView
+from rest_framework.generics import GenericAPIView, RetrieveAPIView
 from rest_framework.permissions import IsAuthenticated
 from rest_framework.request import Request
 from rest_framework.response import Response
@@ -21,6 +21,7 @@ from analyses.api.serializers.alerts import (
     BaselineSerializer,
     SeriesSerializer,
 )
+from analyses.api.pagination import PageWithSize
 from analyses.api.views.common import PagedListView, validated
 from analyses.models import Alert, AlertSeverity, AlertSource, AlertState, ControlBaseline, Product, StabilityStudy
 from analyses.selectors.alerts import alert_list
@@ -78,6 +79,7 @@ class AlertAcknowledgeView(APIView):
 
 @extend_schema_view(get=extend_schema(summary="Control baselines (mean and SD per series)", responses={200: BaselineSerializer(many=True)}))
 class BaselineListView(PagedListView):
+    input_serializer_classes = {"POST": BaselineInSerializer}
     serializer_class = BaselineSerializer
     permission_classes = [IsAuthenticated, requires("set_control_baseline", "enter control baselines", methods=("POST",))]
 
@@ -90,10 +92,16 @@ class BaselineListView(PagedListView):
         return Response(BaselineSerializer(baseline).data, status=status.HTTP_201_CREATED)
 
 
-class SeriesListView(APIView):
+class SeriesListView(GenericAPIView):
+    pagination_class = PageWithSize
+    serializer_class = SeriesSerializer
+    filter_backends = ()  # the series are computed, not a table to filter
+
     @extend_schema(responses={200: SeriesSerializer(many=True)}, summary="Every trend series with its result count and baseline")
     def get(self, request: Request) -> Response:
-        return Response(SeriesSerializer(series_overview(), many=True).data)
+        # paged like every other list; the series are few and computed together, so the page is cut from the whole list
+        page = self.paginate_queryset(series_overview())
+        return self.get_paginated_response(SeriesSerializer(page, many=True).data)
 
 
 class SeriesChartView(APIView):

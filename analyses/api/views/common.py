@@ -18,7 +18,8 @@ def validated(serializer_class: type[serializers.Serializer], request: Request) 
 
 
 class PagedListView(ListAPIView):
-    """A list from a selector, filtered by its FilterSet and paged; ``page_size`` up to 200."""
+    # A list from a selector, filtered by its FilterSet and paged; ``page_size`` up to 200.
+    # (A comment, not a docstring: a docstring would become the schema's text for every list.)
 
     pagination_class = PageWithSize
 

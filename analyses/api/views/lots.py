@@ -39,6 +39,7 @@ RELEASE = requires("release_lot", "release or reject lots")
 
 @extend_schema_view(get=extend_schema(summary="List lots", responses={200: LotSerializer(many=True), **errors(400)}))
 class LotListView(PagedListView):
+    input_serializer_classes = {"POST": LotCreateSerializer}
     serializer_class = LotSerializer
     filterset_class = LotFilter
     permission_classes = [IsAuthenticated, requires("create_lot", "create lots", methods=("POST",))]

@@ -18,6 +18,7 @@ from analyses.services.products import product_create
 
 @extend_schema_view(get=extend_schema(summary="List products", responses={200: ProductSerializer(many=True), **errors()}))
 class ProductListView(PagedListView):
+    input_serializer_classes = {"POST": ProductCreateSerializer}
     serializer_class = ProductSerializer
     permission_classes = [IsAuthenticated, requires("add_product", "create products", methods=("POST",))]
 

@@ -10,7 +10,7 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from analyses.api.permissions import NotQAReviewer, requires
-from analyses.api.schema import IDEMPOTENCY_KEY, errors
+from analyses.api.schema import IDEMPOTENCY_KEY, REPLAYED, REPLAYED_HEADER, errors
 from analyses.api.serializers.common import idempotency_key
 from analyses.api.serializers.results import (
     ResultCorrectSerializer,
@@ -25,7 +25,6 @@ from analyses.selectors.uncertainty import result_uncertainty
 from analyses.services.results import result_correct_once, result_record_bulk_once, result_record_once
 
 RECORD = requires("record_result", "enter results")
-REPLAYED_HEADER = "Idempotent-Replayed"
 REPLAY_NOTE = (
     f"A repeat with the same Idempotency-Key returns the first result with the same status; the response then "
     f"carries the header `{REPLAYED_HEADER}: true`."
@@ -42,7 +41,7 @@ class ResultRecordView(APIView):
 
     @extend_schema(
         request=ResultRecordSerializer,
-        parameters=[IDEMPOTENCY_KEY],
+        parameters=[IDEMPOTENCY_KEY, REPLAYED],
         responses={201: OpenApiResponse(ResultSerializer, description=REPLAY_NOTE), **errors(400, 403, 409)},
         summary="Enter one replicate of a test assigned to me",
         description="Plugin input errors name the input: `inputs.sample_mass`. " + REPLAY_NOTE,
@@ -61,7 +60,7 @@ class ResultRecordBulkView(APIView):
 
     @extend_schema(
         request=ResultRecordBulkSerializer,
-        parameters=[IDEMPOTENCY_KEY],
+        parameters=[IDEMPOTENCY_KEY, REPLAYED],
         responses={
             201: OpenApiResponse(ResultSerializer(many=True), description=REPLAY_NOTE),
             **errors(400, 403, 409),
@@ -107,7 +106,7 @@ class ResultCorrectView(APIView):
 
     @extend_schema(
         request=ResultCorrectSerializer,
-        parameters=[IDEMPOTENCY_KEY],
+        parameters=[IDEMPOTENCY_KEY, REPLAYED],
         responses={201: OpenApiResponse(ResultSerializer, description=REPLAY_NOTE), **errors(400, 403, 404, 409)},
         summary="Correct a result before acceptance: a new version with the reason; the old one is kept, superseded",
     )

@@ -28,6 +28,7 @@ STATE_ERRORS = errors(400, 403, 404, 409)
 
 @extend_schema_view(get=extend_schema(summary="List samples", responses={200: SampleSerializer(many=True), **errors(400)}))
 class SampleListView(PagedListView):
+    input_serializer_classes = {"POST": SampleRegisterSerializer}
     serializer_class = SampleSerializer
     filterset_class = SampleFilter
     permission_classes = [IsAuthenticated, requires("register_sample", "register samples", methods=("POST",))]

@@ -34,6 +34,7 @@ DRAFT = requires("draft_specification", "draft or revise specifications")
     get=extend_schema(summary="List specifications", responses={200: SpecificationSerializer(many=True), **errors(400)})
 )
 class SpecificationListView(PagedListView):
+    input_serializer_classes = {"POST": SpecificationCreateSerializer}
     serializer_class = SpecificationSerializer
     filterset_class = SpecificationFilter
     permission_classes = [

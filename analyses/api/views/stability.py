@@ -30,6 +30,7 @@ PLOT_PARAMETERS = [
 
 @extend_schema_view(get=extend_schema(summary="List stability studies", responses={200: StudySerializer(many=True)}))
 class StudyListView(PagedListView):
+    input_serializer_classes = {"POST": StudyCreateSerializer}
     serializer_class = StudySerializer
     permission_classes = [IsAuthenticated, requires("manage_stability_study", "create stability studies", methods=("POST",))]
 

@@ -71,6 +71,7 @@ def _period(request: Request) -> dict:
 # --- reagents ---------------------------------------------------------------------------
 @extend_schema_view(get=extend_schema(summary="List reagent kinds", responses={200: ReagentKindSerializer(many=True), **errors()}))
 class ReagentKindListView(PagedListView):
+    input_serializer_classes = {"POST": ReagentKindCreateSerializer}
     serializer_class = ReagentKindSerializer
     permission_classes = [IsAuthenticated, requires("manage_reagent_kinds", "register reagent kinds", methods=("POST",))]
 
@@ -104,6 +105,7 @@ class ReagentKindChangeView(APIView):
 @extend_schema_view(get=extend_schema(summary="List titrant lots, with whether each is usable now",
                                       responses={200: ReagentLotSerializer(many=True), **errors()}))
 class ReagentLotListView(PagedListView):
+    input_serializer_classes = {"POST": ReagentLotCreateSerializer}
     serializer_class = ReagentLotSerializer
     permission_classes = [IsAuthenticated, requires("register_reagent_lot", "register titrant lots", methods=("POST",))]
 
@@ -129,6 +131,7 @@ class ReagentLotDetailView(RetrieveAPIView):
 @extend_schema_view(get=extend_schema(summary="A titrant lot's standardisations, newest first",
                                       responses={200: StandardisationSerializer(many=True), **errors(404)}))
 class LotStandardisationListView(PagedListView):
+    input_serializer_classes = {"POST": StandardisationRecordSerializer}
     serializer_class = StandardisationSerializer
     permission_classes = [IsAuthenticated, requires("record_standardisation", "record standardisations", methods=("POST",))]
 
@@ -175,6 +178,7 @@ class ReagentLotImpactView(APIView):
 @extend_schema_view(get=extend_schema(summary="List instruments, with whether each is usable now",
                                       responses={200: InstrumentSerializer(many=True), **errors()}))
 class InstrumentListView(PagedListView):
+    input_serializer_classes = {"POST": InstrumentCreateSerializer}
     serializer_class = InstrumentSerializer
     permission_classes = [IsAuthenticated, requires("manage_instruments", "register instruments", methods=("POST",))]
 
@@ -200,6 +204,7 @@ class InstrumentDetailView(RetrieveAPIView):
 @extend_schema_view(get=extend_schema(summary="An instrument's calibrations, newest first",
                                       responses={200: CalibrationSerializer(many=True), **errors(404)}))
 class CalibrationListView(PagedListView):
+    input_serializer_classes = {"POST": CalibrationCreateSerializer}
     serializer_class = CalibrationSerializer
     permission_classes = [IsAuthenticated, requires("manage_instruments", "record calibrations", methods=("POST",))]
 
@@ -215,6 +220,7 @@ class CalibrationListView(PagedListView):
 @extend_schema_view(get=extend_schema(summary="An instrument's routine checks, newest first",
                                       responses={200: InstrumentCheckSerializer(many=True), **errors(404)}))
 class InstrumentCheckListView(PagedListView):
+    input_serializer_classes = {"POST": InstrumentCheckCreateSerializer}
     serializer_class = InstrumentCheckSerializer
     permission_classes = [IsAuthenticated, requires("record_instrument_check", "record instrument checks", methods=("POST",))]
 

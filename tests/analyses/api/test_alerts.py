@@ -70,7 +70,9 @@ def test_only_qa_enters_baselines_and_bad_ones_are_refused(clients, lot):
 
 def test_series_and_their_control_charts(clients, qc_key):
     series = clients["qa"].get("/api/trends/series/").json()
-    assert series == [{"series_key": qc_key, "kind": "qc", "method_code": "av", "results": 11,
+    # paged like every other list (issue 13)
+    assert series["count"] == 1 and series["next"] is None
+    assert series["results"] == [{"series_key": qc_key, "kind": "qc", "method_code": "av", "results": 11,
                        "baseline": {"mean": MEAN, "sd": SD, "source": "entered"}}]
     chart = clients["qa"].get(f"/api/trends/series/{qc_key}/chart/").json()
     # Shewhart/Levey-Jennings limits at mean ± 3 s

@@ -16,8 +16,8 @@ def test_the_same_idempotency_key_twice_records_one_result(lab, clients):
     retry = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-1")
     assert first.status_code == retry.status_code == 201
     assert retry.json() == first.json()
-    assert "Idempotent-Replayed" not in first.headers
-    assert retry.headers["Idempotent-Replayed"] == "true"
+    assert "Oleotrace-Replayed" not in first.headers
+    assert retry.headers["Oleotrace-Replayed"] == "true"
     assert Result.objects.filter(test=av_test).count() == 1
     # a new key is a new determination: the second replicate
     second = clients["analyst"].post("/api/results/", {**body, "inputs": AV_LOW_TWIN}, format="json", HTTP_IDEMPOTENCY_KEY="tab-3-row-2")
@@ -59,7 +59,7 @@ def test_bulk_entry_records_all_and_a_retry_with_the_same_key_records_nothing_mo
     assert body[2]["value"] == pytest.approx(4.98) and body[2]["unit"] == "meq O2/kg"
     retry = clients["analyst"].post("/api/results/bulk/", {"results": items}, format="json", HTTP_IDEMPOTENCY_KEY="batch-1")
     assert retry.status_code == 201 and retry.json() == body
-    assert retry.headers["Idempotent-Replayed"] == "true"
+    assert retry.headers["Oleotrace-Replayed"] == "true"
     assert Result.objects.count() == 4
     tests = clients["analyst"].get("/api/tests/", {"sample": av_test.sample_id}).json()["results"]
     assert {t["state"] for t in tests} == {"result_entered"}
