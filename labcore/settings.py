@@ -283,6 +283,13 @@ CELERY_BEAT_SCHEDULE = {
 # many days are raised as alerts by the daily traceability scan.
 TRACEABILITY_DUE_DAYS = int(os.environ.get("TRACEABILITY_DUE_DAYS", 14))
 
+# Cross-check of AV against FFA x the basis factor on one sample (analyses/services/cross_checks.py): a
+# difference above this fraction of the larger value, and above the absolute floor in mg KOH/g, is a
+# review warning on both tests. Common practice, no source: two titrations each repeatable to about 5 %
+# (ISO 660, Ca 5a-40, from memory) differ by some 7 %; the floor keeps refined oils' small values quiet.
+CROSS_CHECK_AV_FFA_RELATIVE = float(os.environ.get("CROSS_CHECK_AV_FFA_RELATIVE", 0.10))
+CROSS_CHECK_AV_FFA_ABSOLUTE = float(os.environ.get("CROSS_CHECK_AV_FFA_ABSOLUTE", 0.05))
+
 # The audit chain's head is appended to a file here (analyses/services/audit_anchors.py); audit_verify
 # checks the chain against it. Put it where the database's administrators cannot write.
 AUDIT_ANCHOR_DIR = Path(os.environ.get("AUDIT_ANCHOR_DIR", VAR_DIR / "audit-anchors"))

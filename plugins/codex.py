@@ -47,6 +47,22 @@ def _identity(column: int) -> tuple[SpecLimit, ...]:
     return tuple(limits)
 
 
+# Unsaponifiable matter, CXS 210 (g/kg in the standard, here as % m/m: 15 g/kg = 1.5 %), from memory.
+_UNSAPONIFIABLE = tuple(
+    SpecLimit(oil_type, f"{CXS_210} (unsaponifiable matter, g/kg / 10)", maximum=maximum, evidence=MEMORY)
+    for oil_type, maximum in (
+        ("soybean", 1.5), ("maize", 2.8), ("palm", 1.2), ("rapeseed_low_erucic", 2.0), ("coconut", 1.5),
+        ("sunflowerseed", 1.5), ("palm_kernel", 1.0), ("groundnut", 1.0),
+    )
+)
+
+# Slip melting point (degC), CXS 210 palm oils, from memory.
+_SLIP_MELTING_POINT = (
+    SpecLimit("palm", f"{CXS_210} (slip melting point)", minimum=33.0, maximum=39.0, evidence=MEMORY),
+    SpecLimit("palm_olein", f"{CXS_210} (slip melting point)", minimum=19.0, maximum=24.0, evidence=MEMORY),
+    SpecLimit("palm_kernel", f"{CXS_210} (slip melting point)", minimum=25.0, maximum=28.0, evidence=MEMORY),
+)
+
 _QUALITY: dict[str, tuple[SpecLimit, ...]] = {
     "sv": _identity(0),
     "iv": _identity(3),
@@ -62,6 +78,15 @@ _QUALITY: dict[str, tuple[SpecLimit, ...]] = {
         SpecLimit("olive_virgin", CXS_33, maximum=20.0, evidence=MEMORY),
         SpecLimit("olive_refined", CXS_33, maximum=5.0, evidence=MEMORY),
     ),
+    # Matter volatile at 105 degC <= 0.2 % m/m for refined oils (CXS 210 appendix, found); Codex names
+    # 105 degC, ISO 662 dries at 103 +- 2 degC: the plugin records the oven temperature used.
+    "mv": (SpecLimit("refined", CXS_210_QUALITY, maximum=0.2),),
+    # Insoluble impurities <= 0.05 % m/m, soap content <= 0.005 % m/m (50 mg/kg) for refined oils
+    # (CXS 210 appendix, from memory: shared/references.md "Other quality parameters").
+    "insol": (SpecLimit("refined", CXS_210_QUALITY, maximum=0.05, evidence=MEMORY),),
+    "soap": (SpecLimit("refined", f"{CXS_210_QUALITY} (0.005 % m/m = 50 mg/kg)", maximum=50, evidence=MEMORY),),
+    "unsap": _UNSAPONIFIABLE,
+    "smp": _SLIP_MELTING_POINT,
     "ffa": (
         SpecLimit("olive_extra_virgin", CXS_33, maximum=0.8),
         SpecLimit("olive_virgin", CXS_33, maximum=2.0),

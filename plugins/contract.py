@@ -78,7 +78,8 @@ from plugins.units import UnitProblem, to_decimal, to_magnitude
 
 ENTRY_POINT_GROUP = "oleotrace.methods"
 # the instrument kinds a plugin may require (the lab's instrument register uses the same words)
-INSTRUMENT_KINDS = ("balance", "burette", "automatic_titrator", "spectrophotometer", "oven", "thermometer", "gc")
+INSTRUMENT_KINDS = ("balance", "burette", "automatic_titrator", "spectrophotometer", "oven", "thermometer", "gc",
+                    "oxidative_stability")
 TITRANT_INPUT = "titrant_concentration"
 # what a titration needs: a balance for the test portion, a burette or titrator for the titre
 TITRATION_INSTRUMENTS: tuple[tuple[str, ...], ...] = (("balance",), ("burette", "automatic_titrator"))

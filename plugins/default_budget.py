@@ -44,6 +44,12 @@ DEFAULTS_BY_UNIT: dict[str, UnitDefault] = {
     # Photometric accuracy of a UV-VIS spectrophotometer near 0.3-1 A: +-0.005 A rectangular, about
     # 0.003 A. Common practice, no source.
     "dimensionless": UnitDefault("default budget: spectrophotometer absorbance, 0.003 A (common practice, no source)", u=0.003),
+    # A calibrated thermometer with 0.2 degC divisions, read to half a division: about 0.1 degC with its
+    # calibration (slip melting point, oven temperature). Common practice, no source.
+    "degC": UnitDefault("default budget: calibrated thermometer reading, 0.1 °C (common practice, no source)", u=0.1),
+    # An oxidative stability instrument's end point (OSI, AOCS Cd 12b-92): 2 % of the induction time for the
+    # algorithm's placing of the maximum of the second derivative. Common practice, no source.
+    "h": UnitDefault("default budget: stability instrument end point, 2 % relative (common practice, no source)", relative=0.02),
 }
 
 

@@ -7,7 +7,7 @@ arithmetic in the text: "9**9**9 g" would tie up the process for minutes.
 from __future__ import annotations
 
 import re
-from decimal import Decimal
+from decimal import Context, Decimal, localcontext
 from functools import lru_cache
 from numbers import Real
 from typing import Any
@@ -64,7 +64,20 @@ def to_decimal(raw: Any, unit: str) -> Decimal:
     if match is None:  # to_magnitude refuses what does not match; keep the two in step
         raise UnitProblem(f"cannot read {raw!r} as a quantity in {unit}")
     ureg = exact_registry()
-    return ureg.Quantity(Decimal(match["number"]), ureg.Unit(match["unit"])).to(unit).magnitude
+    given = ureg.Quantity(Decimal(match["number"]), ureg.Unit(match["unit"]))
+    target = ureg.Quantity(Decimal(1), ureg.Unit(unit))
+    if not (given._is_multiplicative and target._is_multiplicative):
+        return given.to(unit).magnitude  # an offset unit (degF -> degC): pint's own conversion
+    # number x (given in base units) / (target in base units), in one high-precision step: pint's
+    # single factor is rounded to 28 digits where it does not terminate (1 min = 0.01666... h), so
+    # 375 min would be 6.250000000000000000000000001 h, not the 6.25 h it is.
+    given_base, target_base = given.to_base_units(), target.to_base_units()
+    if given_base.units != target_base.units:
+        raise UnitProblem(f"has unit {match['unit']!r}, which cannot be converted to {unit}")
+    with localcontext(Context(prec=60)):
+        converted = given_base.magnitude / target_base.magnitude
+        # written without an exponent, as the analyst would write it: 1.30 L is 1300 mL, not 1.30E+3
+        return converted.quantize(Decimal(1)) if converted.as_tuple().exponent > 0 else converted
 
 
 def to_magnitude(raw: Any, unit: str) -> float:

@@ -15,6 +15,7 @@ class InstrumentKind(models.TextChoices):
     OVEN = "oven", "Oven"
     THERMOMETER = "thermometer", "Thermometer"
     GC = "gc", "Gas chromatograph"
+    OXIDATIVE_STABILITY = "oxidative_stability", "Oxidative stability instrument (AOCS Cd 12b-92)"
 
 
 class Instrument(models.Model):

@@ -29,6 +29,7 @@ from analyses.models import (
     TestState,
 )
 from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.cross_checks import cross_checks_refresh_partners
 from analyses.services.lots import lot_reject_locked
 from analyses.services.samples import TEST_FIELDS
 from analyses.services.transitions import FINAL_SAMPLE_STATES, lot_takes_work, record_test_move, sample_sync
@@ -45,6 +46,8 @@ def _retest(actor: Actor, test: Test, findings: str) -> Test:
         )
     record_test_move(actor, test, TestState.INVALIDATED, reason=f"lab error: {findings}")
     test.save(update_fields=["state"])
+    # an invalidated result is no partner of a cross-check any more (services/cross_checks.py)
+    cross_checks_refresh_partners(actor, test, reason=f"test {test.pk} invalidated (lab error)")
     retest = Test.objects.create(
         sample=test.sample,
         specification_line=test.specification_line,

@@ -48,6 +48,7 @@ from analyses.services.access import (
     require_permission,
     required_text,
 )
+from analyses.services.cross_checks import cross_check_warnings, cross_checks_refresh_partners
 from analyses.services.review_warnings import line_inputs, test_review_warnings
 from analyses.services.result_trace import (
     Trace,
@@ -195,6 +196,10 @@ def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | Non
         after = {**aggregate, "review_warnings": test_review_warnings(_plugin(test), test, mean)}
     for name, value in after.items():
         setattr(test, name, value)
+    # results of other methods on the sample that chemistry ties to this one (services/cross_checks.py)
+    if aggregate is not None:
+        after["review_warnings"] = test.review_warnings = after["review_warnings"] + cross_check_warnings(test)
+    cross_checks_refresh_partners(actor, test, reason=reason)
     changes = {name: [before[name], after[name]] for name in AGGREGATE_FIELDS if before[name] != after[name]}
     if changes:
         audit_append(

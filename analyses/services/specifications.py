@@ -125,6 +125,11 @@ def _line_basis(plugin: MethodPlugin, raw: Any, prefix: str, oil_types: Sequence
         # the first oil type given decides: a Codex oil type before the product's
         oil_type = next((name for name in oil_types if name), "")
         basis = plugin.basis.by_oil_type.get(oil_type) or choice.default
+        if basis is None:  # no conventional basis (OSI's temperature): the line must name one
+            raise InvalidInput.for_field(
+                f"{prefix}.basis",
+                f"is required: method {plugin.code}'s result depends on it; give one of {', '.join(choice.choices)}",
+            )
     return basis, plugin.unit_for({plugin.basis.input_name: basis})
 
 

@@ -13,11 +13,20 @@ import pytest
 from plugins import codex
 from plugins.acid import AcidValue
 from plugins.free_fatty_acids import FreeFattyAcids
+from plugins.insoluble_impurities import InsolubleImpurities
 from plugins.iodine import IodineValueWijs
+from plugins.moisture import MoistureVolatileMatter
 from plugins.peroxide import PeroxideValue
 from plugins.saponification import SaponificationValue
+from plugins.slip_melting_point import SlipMeltingPoint
+from plugins.soap import SoapContent
+from plugins.unsaponifiable import UnsaponifiableMatter
 
-PLUGINS = {"sv": SaponificationValue, "iv": IodineValueWijs, "av": AcidValue, "pv": PeroxideValue, "ffa": FreeFattyAcids}
+PLUGINS = {
+    "sv": SaponificationValue, "iv": IodineValueWijs, "av": AcidValue, "pv": PeroxideValue, "ffa": FreeFattyAcids,
+    "mv": MoistureVolatileMatter, "insol": InsolubleImpurities, "soap": SoapContent, "unsap": UnsaponifiableMatter,
+    "smp": SlipMeltingPoint,
+}
 EVIDENCE = {"found": "found", "memory": "from memory"}
 
 # (method, oil type, minimum, maximum, tag in references.md, standard the source must name)
@@ -57,6 +66,24 @@ TABLE = [
     ("pv", "olive_extra_virgin", None, 20.0, "memory", "CXS 33"),
     ("pv", "olive_virgin", None, 20.0, "memory", "CXS 33"),
     ("pv", "olive_refined", None, 5.0, "memory", "CXS 33"),
+    # Other quality factors of refined oils, CXS 210 appendix: volatile matter at 105 degC <= 0.2 % (found);
+    # insoluble impurities <= 0.05 %, soap <= 0.005 % = 50 mg/kg (memory)
+    ("mv", "refined", None, 0.2, "found", "CXS 19"),
+    ("insol", "refined", None, 0.05, "memory", "CXS 19"),
+    ("soap", "refined", None, 50, "memory", "CXS 19"),
+    # Unsaponifiable matter, CXS 210, g/kg written as % (15 g/kg = 1.5 %): not in references.md, memory
+    ("unsap", "soybean", None, 1.5, "memory", "CXS 210"),
+    ("unsap", "maize", None, 2.8, "memory", "CXS 210"),
+    ("unsap", "palm", None, 1.2, "memory", "CXS 210"),
+    ("unsap", "rapeseed_low_erucic", None, 2.0, "memory", "CXS 210"),
+    ("unsap", "coconut", None, 1.5, "memory", "CXS 210"),
+    ("unsap", "sunflowerseed", None, 1.5, "memory", "CXS 210"),
+    ("unsap", "palm_kernel", None, 1.0, "memory", "CXS 210"),
+    ("unsap", "groundnut", None, 1.0, "memory", "CXS 210"),
+    # Slip melting point (degC), CXS 210 palm oils: not in references.md, memory
+    ("smp", "palm", 33.0, 39.0, "memory", "CXS 210"),
+    ("smp", "palm_olein", 19.0, 24.0, "memory", "CXS 210"),
+    ("smp", "palm_kernel", 25.0, 28.0, "memory", "CXS 210"),
 ]
 
 
@@ -93,6 +120,7 @@ def test_identity_ranges_are_ordered():
 
 def test_method_without_codex_limits_gets_none():
     assert codex.limits_for("anv") == ()
+    assert codex.limits_for("osi") == ()  # Codex sets no oxidative stability limit
 
 
 def test_conventional_ffa_basis_names_known_oil_types_and_bases():

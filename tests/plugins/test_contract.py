@@ -34,11 +34,17 @@ PINT = pint.UnitRegistry()
 # The same quantity in another unit: (unit, factor from the input's own unit).
 OTHER_UNIT = {"g": ("mg", Decimal(1000)), "mL": ("L", Decimal("0.001")), "mol/L": ("mmol/L", Decimal(1000)),
               # an absorbance has no other unit (percent would pass for % transmittance): its own, written out
-              "dimensionless": ("dimensionless", Decimal(1))}
+              "dimensionless": ("dimensionless", Decimal(1)),
+              "h": ("min", Decimal(60))}
+# Offset units: (unit, offset added to the value in the input's own unit). 0 degC = 273.15 K (SI definition).
+OTHER_OFFSET_UNIT = {"degC": ("K", Decimal("273.15"))}
 
 
 def in_other_unit(spec: QuantityInput, value: float) -> str:
     """``value`` (in spec.unit) written as a string in another unit, with exact decimal arithmetic."""
+    if spec.unit in OTHER_OFFSET_UNIT:
+        other, offset = OTHER_OFFSET_UNIT[spec.unit]
+        return f"{Decimal(repr(float(value))) + offset} {other}"
     if spec.unit not in OTHER_UNIT:
         pytest.fail(f"no alternative unit for {spec.unit!r}; add one to OTHER_UNIT")
     other, factor = OTHER_UNIT[spec.unit]
@@ -47,7 +53,7 @@ def in_other_unit(spec: QuantityInput, value: float) -> str:
 
 def test_registry_holds_exactly_the_builtins():
     registry = get_registry()
-    assert registry.codes() == ["anv", "av", "ffa", "iv", "pv", "sv"]
+    assert registry.codes() == ["anv", "av", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
     assert registry.rejected == []
 
 

@@ -14,6 +14,8 @@ DEVELOPERS.md lists these checks beside the transcription guards.
 """
 from __future__ import annotations
 
+from decimal import Decimal
+
 import pytest
 from molmass import Formula
 
@@ -112,3 +114,94 @@ def test_anv_from_absorbances_built_by_the_definition(mass, anisidine_value, bac
     assert max(unreacted, reacted) <= 2.0  # within the plugin's absorbance bound
     inputs = {"sample_mass": mass, "absorbance_unreacted": unreacted, "absorbance_reacted": reacted}
     assert float(AnisidineValue().calculate(inputs).value) == pytest.approx(anisidine_value, rel=1e-9)
+
+
+# --- the refinery's other quality tests (issue 11) -------------------------------------------------
+
+WATER, SODIUM_OLEATE, CALCIUM_STEARATE = "H2O", "C18H33NaO2", "Ca(C18H35O2)2"
+
+
+def test_sodium_oleate_molar_mass_is_the_soap_factor():
+    # AOCS Cc 17-95 expresses soap as sodium oleate (found); its factor is M(C18H33NaO2) = 304.44 g/mol (molmass)
+    from plugins.soap import SODIUM_OLEATE_MOLAR_MASS
+
+    assert float(SODIUM_OLEATE_MOLAR_MASS) == pytest.approx(Formula(SODIUM_OLEATE).mass, rel=2e-4)
+
+
+@pytest.mark.parametrize("soap_mg", [0.4, 2.0, 4.0])
+def test_soap_of_oil_spiked_with_a_known_mass_of_sodium_oleate(soap_mg):
+    # 40 g of soap-free refined oil (Cc 17-95's portion, found) with ``soap_mg`` mg of sodium oleate: one HCl per
+    # molecule (RCOONa + HCl -> RCOOH + NaCl), titre = mmol / (mol/L); expected soap = mg / 0.040 kg.
+    from plugins.soap import SoapContent
+
+    mass, hcl, blank = 40.0, 0.01, 0.05
+    titre = blank + soap_mg / Formula(SODIUM_OLEATE).mass / hcl
+    inputs = {"sample_mass": mass, "sample_volume": titre, "blank_volume": blank, "titrant_concentration": hcl}
+    result = SoapContent().calculate(inputs)
+    # 304.4 against 304.44: 1.5e-4 relative, within 2e-4
+    assert float(result.value) == pytest.approx(soap_mg / 0.040, rel=2e-4)
+
+
+def test_unsaponifiable_residue_with_a_known_mass_of_oleic_acid():
+    # A residue of 50.0 mg squalene (unsaponifiable, C30H50) carrying 3.0 mg oleic acid that escaped the
+    # washing; the oleic acid takes one NaOH per molecule: titre = mmol / (mol/L), molmass. From 5.0 g of oil
+    # the unsaponifiable matter is 50.0 mg / 5.0 g = 1.000 %, whatever the acid carried.
+    from plugins.unsaponifiable import OLEIC_ACID_PER_MMOL, UnsaponifiableMatter
+
+    assert float(OLEIC_ACID_PER_MMOL) * 1000 == pytest.approx(Formula(OLEIC).mass, rel=2e-3)  # 282 vs 282.46
+    naoh, acid_g, unsap_g = 0.02, 0.0030, 0.0500
+    titre = acid_g / Formula(OLEIC).mass * 1000 / naoh
+    inputs = {"sample_mass": 5.0, "residue_mass": unsap_g + acid_g, "sample_volume": titre, "titrant_concentration": naoh}
+    result = UnsaponifiableMatter().calculate(inputs)
+    # 0.282 against 0.28246 misplaces 0.16 % of the 3 mg acid: 5e-6 g, 1e-4 % of the oil
+    assert float(result.value) == pytest.approx(1.000, abs=2e-4)
+
+
+def test_moisture_of_oil_with_a_known_amount_of_water():
+    # 0.555 mmol of water (M from molmass, 18.015 g/mol: 10.0 mg) added to 10.0 g of dry oil; ISO 662's
+    # loss is the water, so the result is 10.0 mg in 10.01 g: 0.0999 %.
+    from plugins.moisture import MoistureVolatileMatter
+
+    water_g = 0.555 * Formula(WATER).mass / 1000
+    inputs = {"sample_mass": 10.0 + water_g, "mass_loss": water_g, "oven_temperature": 103}
+    result = MoistureVolatileMatter().calculate(inputs)
+    assert float(result.value) == pytest.approx(100 * 0.555 * 18.015 / 1000 / (10.0 + 0.555 * 18.015 / 1000), rel=1e-4)
+
+
+def test_insoluble_impurities_of_oil_with_a_known_calcium_soap():
+    # ISO 663 counts calcium soaps as insoluble impurities (found). 0.0100 mmol of calcium stearate
+    # (Ca(C18H35O2)2, 607.0 g/mol by molmass) in 20.0 g of clean oil stays on the filter: 6.07 mg, 0.0304 %.
+    from plugins.insoluble_impurities import InsolubleImpurities
+
+    residue = 0.0100 * Formula(CALCIUM_STEARATE).mass / 1000
+    assert residue == pytest.approx(0.00607, abs=1e-5)
+    result = InsolubleImpurities().calculate({"sample_mass": 20.0, "residue_mass": residue})
+    assert float(result.value) == pytest.approx(0.0304, abs=1e-4)
+    assert str(result.reported) == "0.030"
+
+
+def test_osi_published_reading_entered_in_minutes():
+    # AOCS Cd 12b-92 (found, and the AACC 58-54.02 summary): results state the temperature, "OSI 11.7 hr at
+    # 110 degC". 702 min is 11.7 h by the definition of the hour; the unit carries the temperature.
+    from plugins.oxidative_stability import OxidativeStabilityIndex
+
+    result = OxidativeStabilityIndex().calculate({"induction_time": "702 min", "temperature": "110"})
+    assert result.exact == Decimal("11.7")
+    assert str(result.reported) == "11.7"
+    assert result.unit == "h at 110 °C"
+
+
+def test_slip_melting_point_from_fahrenheit_readings_is_the_exact_mean():
+    # Three tubes read on a degF thermometer; by definition t/degC = (t/degF - 32) / 1.8 (NIST SP 811).
+    # The mean is taken with the standard library's exact arithmetic on fractions.
+    from fractions import Fraction
+    from statistics import mean
+
+    from plugins.slip_melting_point import SlipMeltingPoint
+
+    readings_f = ["96.8", "97.2", "97.7"]
+    expected = mean((Fraction(r) - 32) / Fraction("1.8") for r in readings_f)
+    inputs = {f"tube_{n}": f"{r} degF" for n, r in enumerate(readings_f, start=1)}
+    result = SlipMeltingPoint().calculate(inputs)
+    assert float(result.value) == pytest.approx(float(expected), rel=1e-12)
+    assert str(result.reported) == "36.2"  # 36.1666...: a palm oil, inside CXS 210's 33-39 degC (memory)

@@ -20,7 +20,9 @@ from plugins.registry import get_registry
 PLUGINS = get_registry().all()
 CODES = [plugin.code for plugin in PLUGINS]
 # Titrations share their input names; other methods test these properties in their own module.
-TITRATIONS = [plugin for plugin in PLUGINS if "titrant_concentration" in {spec.name for spec in plugin.inputs}]
+# Unsaponifiable matter titrates too, but its result is a corrected residue mass, not volume x c x factor / m:
+# it has no titre blank, and tests/plugins/test_unsaponifiable.py checks its own properties.
+TITRATIONS = [plugin for plugin in PLUGINS if {"titrant_concentration", "blank_volume"} <= {spec.name for spec in plugin.inputs}]
 TITRATION_CODES = [plugin.code for plugin in TITRATIONS]
 BACK_TITRATIONS = ["sv", "iv"]  # B - S: the sample consumes reagent
 NO_DEADLINE = settings(deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])

@@ -12,7 +12,7 @@ def test_method_list_carries_metadata(api, db):
     response = api.get("/api/methods/")
     assert response.status_code == 200
     codes = [m["code"] for m in response.json()]
-    assert codes == ["anv", "av", "ffa", "iv", "pv", "sv"]
+    assert codes == ["anv", "av", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
 
 
 def test_method_detail_and_unknown_method(api, db):
