@@ -39,6 +39,10 @@ TYPICAL = {
     "ffa": {"sample_mass": "28.2", "sample_volume": "2.5", "titrant_concentration": "0.1"},
     "pv": {"sample_mass": "5.0", "sample_volume": "5.0", "blank_volume": "0.05", "titrant_concentration": "0.002"},
     "anv": {"sample_mass": "2.0", "absorbance_unreacted": "0.080", "absorbance_reacted": "0.300"},
+    # a soybean oil's GC run as area % (invented, inside the Codex ranges); the budget is that of the
+    # headline (the calculated IV) through the area-% normalisation, each area with 1 % relative u
+    # (common practice, no source); tests/plugins/test_fatty_acid_composition.py checks the components
+    "fac": {"C16:0": "10.5", "C18:0": "4.0", "C18:1": "23.0", "C18:2": "54.0", "C18:3": "7.5", "C20:0": "0.4", "unidentified": "0.6"},
 }
 
 
