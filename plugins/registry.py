@@ -23,6 +23,8 @@ from plugins.contract import (
     MethodInputError,  # noqa: F401  (kept importable from here)
     MethodPlugin,
     QuantityInput,
+    join_parameter,
+    split_parameter,
 )
 from plugins.units import registry as unit_registry
 
@@ -78,10 +80,16 @@ class PluginRegistry:
         self.rejected.append(RejectedPlugin(label, reason))
 
     def get(self, code: str) -> MethodPlugin:
+        """The plugin of a method code, or of a parameter "<code>:<component>" of a profile plugin
+        ("fac:C18:2"); UnknownMethod for an unknown code or a component the plugin lacks."""
+        method, component = split_parameter(code)
         try:
-            return self._plugins[code]
+            plugin = self._plugins[method if component else code]
         except KeyError:
             raise UnknownMethod(code, self._plugins) from None
+        if component and component not in {c.name for c in plugin.components}:
+            raise UnknownMethod(code, [join_parameter(method, c.name) for c in plugin.components] or self._plugins)
+        return plugin
 
     def all(self) -> list[MethodPlugin]:
         return [self._plugins[code] for code in sorted(self._plugins)]
@@ -90,7 +98,19 @@ class PluginRegistry:
         return sorted(self._plugins)
 
     def __contains__(self, code: object) -> bool:
-        return code in self._plugins
+        if not isinstance(code, str):
+            return False
+        try:
+            self.get(code)
+        except UnknownMethod:
+            return False
+        return True
+
+    def unit_of(self, code: str) -> str:
+        """The unit of a method's result, or of one component of a profile ("fac:C18:2" -> "%")."""
+        plugin = self.get(code)
+        component = split_parameter(code)[1]
+        return plugin.component_spec(component).unit if component else plugin.result_unit
 
 
 def plugin_problem(plugin_class: object) -> str | None:
