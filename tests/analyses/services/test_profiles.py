@@ -129,3 +129,20 @@ def test_the_certificate_gives_each_component_its_row(users, gc, gc_product):
     assert rows["fac:iv_calc"]["unit"] == "g I2/100 g"
     html = certificate_html(certificate.content)
     assert "C18:2 (linoleic)" in html and "AOCS Ce 1h-05" in html and "48.0 to 59.0" in html
+
+
+def test_each_component_is_its_own_trend_series(users, gc, gc_product):
+    from analyses.selectors.trend_series import series_key, trend_series_frame
+    from analyses.services.trend_scan import _parse_key
+
+    for code in ("L-GC4", "L-GC5"):
+        for test in _enter(users, _tests(users, gc_product, code), SOYBEAN_RUN if code == "L-GC4" else BLEND_RUN):
+            test_accept(users["analyst2"], test)
+    key = series_key("production", gc_product.pk, "fac:C18:2")
+    assert _parse_key(key) == ("production", "fac:C18:2")
+    frame = trend_series_frame([key])
+    assert list(frame["method_code"]) == ["fac:C18:2", "fac:C18:2"]
+    assert sorted(frame["value"]) == [54.0, 62.1]
+    assert list(trend_series_frame([series_key("production", gc_product.pk, "fac:C16:0")])["value"]) == pytest.approx(
+        [10.5, 9.0]
+    )
