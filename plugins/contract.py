@@ -56,6 +56,27 @@ Uncertainty (GUM, JCGM 100:2008)
     uncertainties from a budget source; ``default_uncertainties`` (name -> ``UnitDefault`` of
     ``plugins.default_budget``) overrides the default budget's per-unit values for one input.
 
+Profiles (several named components from one determination; issue 11)
+    A plugin that declares ``components`` (a tuple of :class:`Component`) returns a profile:
+    every component has its own value, unit, rounding (``decimals``) and default limits per
+    oil type (``spec_limits``, e.g. the Codex CXS 210 composition ranges), and is either a
+    ``measured`` component (a fatty acid, "C18:2") or a ``derived`` value computed from the
+    others ("iv_calc"). Such a plugin implements ``compute_profile(values)`` (name ->
+    unrounded Decimal, every declared component present) instead of ``compute``; the
+    contract's ``compute`` then returns the ``headline`` component, whose unit and places
+    are ``result_unit`` and ``decimals``, so everything written for one value (worked
+    examples, sensitivities, uncertainty budgets) works on the headline unchanged.
+    ``calculate`` returns a :class:`MethodResult` whose ``components`` hold a
+    :class:`ComponentValue` per component (exact, reported by ASTM E29 at the component's
+    places); ``MethodResult.component(name)`` is the same result seen as that one value, which
+    is how a specification line on ``fac:C18:2`` judges it. ``component_sensitivities`` gives
+    df/dx for any component. A ``WorkedExample`` may name the ``component`` it checks.
+    ``profile_warnings(result, oil_type)`` returns the review warnings of a profile (e.g. an
+    identity screen against the declared oil); the default is none. Component names use the
+    trade's shorthand (C16:0, C18:1, C18:1t); a parameter is written ``<code>:<component>``
+    (:func:`split_parameter`). Single-value plugins declare no components and nothing about
+    them changes.
+
 Every public entry point (:meth:`MethodPlugin.calculate`) validates first, so a plugin
 never sees a value it cannot use. All input errors are one type,
 :class:`MethodInputError`, which names the offending input and says why.
@@ -222,6 +243,84 @@ class WorkedExample:
     expected: float
     source: str
     tolerance: float = 1e-9
+    component: str | None = None  # a profile plugin's component; None: the headline value
+
+
+@dataclass(frozen=True)
+class Component:
+    """One named value of a profile (see "Profiles" in the module docstring).
+
+    ``kind`` is "measured" (entered through the inputs: a fatty acid's share) or "derived"
+    (computed from the measured ones: a calculated iodine value, a sum)."""
+
+    name: str
+    title: str
+    unit: str
+    decimals: int
+    kind: str = "measured"
+    spec_limits: tuple[SpecLimit, ...] = ()
+    help: str = ""
+
+    def limits_for(self, oil_type: str) -> SpecLimit | None:
+        for limit in self.spec_limits:
+            if limit.oil_type == oil_type:
+                return limit
+        return None
+
+    def describe(self) -> dict[str, Any]:
+        return {
+            "name": self.name,
+            "title": self.title,
+            "unit": self.unit,
+            "decimals": self.decimals,
+            "kind": self.kind,
+            "help": self.help,
+            "spec_limits": [
+                {"oil_type": s.oil_type, "minimum": s.minimum, "maximum": s.maximum, "source": s.source, "evidence": s.evidence}
+                for s in self.spec_limits
+            ],
+        }
+
+
+@dataclass(frozen=True)
+class ComponentValue:
+    """One component of a computed profile: ``exact`` unrounded, ``reported`` by ASTM E29 at
+    the component's places. ``detected`` is False for a measured component the analyst gave
+    no peak for (its value is 0, "not detected")."""
+
+    name: str
+    exact: Decimal
+    reported: Decimal
+    unit: str
+    decimals: int
+    kind: str = "measured"
+    detected: bool = True
+
+    @property
+    def value(self) -> float:
+        return float(self.exact)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "name": self.name,
+            "exact": str(self.exact),
+            "reported": str(self.reported),
+            "unit": self.unit,
+            "decimals": self.decimals,
+            "kind": self.kind,
+            "detected": self.detected,
+        }
+
+
+def split_parameter(parameter: str) -> tuple[str, str]:
+    """``"fac:C18:2"`` -> ``("fac", "C18:2")``; ``"iv"`` -> ``("iv", "")``. Method codes are
+    identifiers, so the first colon ends the code and the rest is the component."""
+    code, _, component = str(parameter).partition(":")
+    return code.strip(), component.strip()
+
+
+def join_parameter(code: str, component: str) -> str:
+    return f"{code}:{component}" if component else code
 
 
 @dataclass(frozen=True)
@@ -247,10 +346,28 @@ class MethodResult:
     decimals: int
     inputs: dict[str, Any] = field(default_factory=dict)
     exact: Decimal | None = None
+    # a profile's components by name (empty for a single-value method); see "Profiles"
+    components: Mapping[str, ComponentValue] = field(default_factory=dict)
 
     @property
     def judged(self) -> Decimal:
         return self.exact if self.exact is not None else float_as_decimal(self.value)
+
+    def component(self, name: str) -> MethodResult:
+        """This result seen as one component's value (itself for "" on a single value)."""
+        if not name:
+            return self
+        try:
+            part = self.components[name]
+        except KeyError:
+            raise MethodInputError("component", f"{name!r} is not a component of method {self.code}") from None
+        return MethodResult(
+            code=self.code, version=self.version, value=part.value, reported=part.reported, unit=part.unit,
+            decimals=part.decimals, inputs=self.inputs, exact=part.exact, components=self.components,
+        )
+
+    def components_as_dict(self) -> dict[str, dict[str, Any]]:
+        return {name: part.as_dict() for name, part in self.components.items()}
 
     def as_dict(self) -> dict[str, Any]:
         return {
@@ -263,6 +380,7 @@ class MethodResult:
             "decimals": self.decimals,
             # exact inputs as decimal strings, so that JSON keeps the digits as written
             "inputs": {k: str(v) if isinstance(v, Decimal) else v for k, v in self.inputs.items()},
+            **({"components": self.components_as_dict()} if self.components else {}),
         }
 
 
@@ -324,13 +442,32 @@ class MethodPlugin:
     titrants: ClassVar[tuple[str, ...]] = ()
     instruments: ClassVar[tuple[tuple[str, ...], ...]] = ()
 
+    # --- profiles (issue 11): see "Profiles" in the module docstring -----------------
+    components: ClassVar[tuple[Component, ...]] = ()
+    headline: ClassVar[str] = ""
+
     REQUIRED_ATTRIBUTES: ClassVar[tuple[str, ...]] = (
         "code", "title", "version", "standards", "inputs", "result_unit", "decimals",
     )
 
     # --- to override -------------------------------------------------------------
     def compute(self, values: Mapping[str, Any]) -> Decimal:
+        """The result; for a profile plugin, its headline component."""
+        if self.components:
+            return self.compute_profile(values)[self.headline]
         raise NotImplementedError
+
+    def compute_profile(self, values: Mapping[str, Any]) -> Mapping[str, Decimal]:
+        """A profile plugin's components, unrounded, by name (see "Profiles")."""
+        raise NotImplementedError
+
+    def measured_components(self, values: Mapping[str, Any]) -> set[str]:
+        """The measured components these inputs report (the rest were not detected); all by default."""
+        return {c.name for c in self.components if c.kind == "measured"}
+
+    def profile_warnings(self, result: MethodResult, oil_type: str) -> list[str]:
+        """What a reviewer should weigh about a profile for a product of ``oil_type``; none by default."""
+        return []
 
     def check(self, values: Mapping[str, Any]) -> None:
         """Cross-field rules; raise MethodInputError naming the field."""
@@ -348,6 +485,25 @@ class MethodPlugin:
                 continue
             coefficients[spec.name] = self._difference(values, spec.name, x)
         return coefficients
+
+    def component_sensitivities(self, values: Mapping[str, Any], component: str) -> dict[str, float]:
+        """df/dx of one component of a profile, as :meth:`sensitivities` does for the headline."""
+        if not component or component == self.headline:
+            return self.sensitivities(values)
+        self.component_spec(component)  # refuses an unknown name
+        view = _ComponentView(self, component)
+        return {
+            spec.name: view._difference(values, spec.name, values[spec.name])
+            for spec in self.inputs
+            if isinstance(spec, QuantityInput) and values.get(spec.name) is not None and not isinstance(values[spec.name], str)
+        }
+
+    def component_spec(self, name: str) -> Component:
+        for component in self.components:
+            if component.name == name:
+                return component
+        known = ", ".join(c.name for c in self.components) or "none (it reports one value)"
+        raise MethodInputError("component", f"{name!r} is not a component of method {self.code}; its components: {known}")
 
     def _difference(self, values: Mapping[str, Any], name: str, x: Decimal | float) -> float:
         exact = isinstance(x, Decimal)
@@ -428,7 +584,25 @@ class MethodPlugin:
             decimals=self.decimals,
             inputs=values,
             exact=exact,
+            components=self._profile(values) if self.components else {},
         )
+
+    def _profile(self, values: Mapping[str, Any]) -> dict[str, ComponentValue]:
+        """Every declared component, exact and reported at its own places."""
+        with localcontext(exact_context()):
+            profile = self.compute_profile(values)
+        detected = self.measured_components(values)
+        parts: dict[str, ComponentValue] = {}
+        for component in self.components:
+            exact = profile[component.name]
+            if not isinstance(exact, Decimal) or not exact.is_finite():
+                raise MethodInputError("inputs", f"give no finite {component.name}")
+            parts[component.name] = ComponentValue(
+                name=component.name, exact=exact, reported=round_half_even(exact, component.decimals),
+                unit=component.unit, decimals=component.decimals, kind=component.kind,
+                detected=component.kind != "measured" or component.name in detected,
+            )
+        return parts
 
     def report(self, value: Decimal | float) -> Decimal:
         return round_half_even(value, self.decimals)
@@ -486,7 +660,21 @@ class MethodPlugin:
             **describe_declarations(cls),
             "titrants": list(cls.titrants),
             "instruments": [{"any_of": list(need)} for need in cls.instruments],
+            "headline": cls.headline or None,
+            "components": [component.describe() for component in cls.components],
         }
+
+
+class _ComponentView:
+    """A profile plugin seen as one component, for central differences on that component."""
+
+    def __init__(self, plugin: MethodPlugin, component: str):
+        self.plugin, self.component = plugin, component
+
+    def compute(self, values: Mapping[str, Any]) -> Decimal:
+        return self.plugin.compute_profile(values)[self.component]
+
+    _difference = MethodPlugin._difference
 
 
 # --- Method scope, blank and result basis ------------------------------------------

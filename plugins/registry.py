@@ -19,9 +19,12 @@ from plugins.contract import (
     INSTRUMENT_KINDS,
     TITRANT_INPUT,
     ChoiceInput,
+    Component,
     MethodInputError,  # noqa: F401  (kept importable from here)
     MethodPlugin,
     QuantityInput,
+    join_parameter,
+    split_parameter,
 )
 from plugins.units import registry as unit_registry
 
@@ -77,10 +80,16 @@ class PluginRegistry:
         self.rejected.append(RejectedPlugin(label, reason))
 
     def get(self, code: str) -> MethodPlugin:
+        """The plugin of a method code, or of a parameter "<code>:<component>" of a profile plugin
+        ("fac:C18:2"); UnknownMethod for an unknown code or a component the plugin lacks."""
+        method, component = split_parameter(code)
         try:
-            return self._plugins[code]
+            plugin = self._plugins[method if component else code]
         except KeyError:
             raise UnknownMethod(code, self._plugins) from None
+        if component and component not in {c.name for c in plugin.components}:
+            raise UnknownMethod(code, [join_parameter(method, c.name) for c in plugin.components] or self._plugins)
+        return plugin
 
     def all(self) -> list[MethodPlugin]:
         return [self._plugins[code] for code in sorted(self._plugins)]
@@ -89,7 +98,19 @@ class PluginRegistry:
         return sorted(self._plugins)
 
     def __contains__(self, code: object) -> bool:
-        return code in self._plugins
+        if not isinstance(code, str):
+            return False
+        try:
+            self.get(code)
+        except UnknownMethod:
+            return False
+        return True
+
+    def unit_of(self, code: str) -> str:
+        """The unit of a method's result, or of one component of a profile ("fac:C18:2" -> "%")."""
+        plugin = self.get(code)
+        component = split_parameter(code)[1]
+        return plugin.component_spec(component).unit if component else plugin.result_unit
 
 
 def plugin_problem(plugin_class: object) -> str | None:
@@ -124,7 +145,11 @@ def plugin_problem(plugin_class: object) -> str | None:
                 unit_registry().Unit(spec.unit)
             except (pint.errors.PintError, ValueError, AttributeError, TypeError):
                 return f"input {spec.name!r} has unit {spec.unit!r}, which pint does not know"
-    if plugin_class.compute is MethodPlugin.compute:
+    if plugin_class.components:
+        problem = _profile_problem(plugin_class)
+        if problem:
+            return problem
+    elif plugin_class.compute is MethodPlugin.compute:
         return "does not implement compute()"
     if isinstance(plugin_class.titrants, str) or not all(isinstance(t, str) and t for t in plugin_class.titrants):
         return "titrants must be a tuple of substance names such as ('KOH',)"
@@ -149,11 +174,42 @@ def plugin_problem(plugin_class: object) -> str | None:
             result = plugin.calculate(example.inputs)
         except Exception as exc:  # whatever compute() raises, the plugin is left out, not the service
             return f"worked example {number} ({example.source}) raised {type(exc).__name__}: {exc}"
+        if example.component:
+            if example.component not in result.components:
+                return f"worked example {number} checks {example.component!r}, which is not one of its components"
+            result = result.component(example.component)
         if not math.isclose(result.value, example.expected, rel_tol=0, abs_tol=example.tolerance):
             return (
                 f"fails its worked example {number} ({example.source}): "
                 f"got {result.value:.6g}, expected {example.expected:.6g} ± {example.tolerance:g}"
             )
+    return None
+
+
+def _profile_problem(plugin_class: type[MethodPlugin]) -> str | None:
+    """Why a profile plugin's components break the contract ("Profiles" in plugins.contract)."""
+    if plugin_class.compute_profile is MethodPlugin.compute_profile:
+        return "declares components but does not implement compute_profile()"
+    if not all(isinstance(c, Component) for c in plugin_class.components):
+        return "components must be plugins.contract.Component"
+    names = [c.name for c in plugin_class.components]
+    if len(set(names)) != len(names):
+        return "declares a component name twice"
+    for component in plugin_class.components:
+        if not component.name or component.name != component.name.strip() or not component.unit:
+            return f"component {component.name!r} needs a name without surrounding blanks and a unit"
+        if component.kind not in ("measured", "derived"):
+            return f"component {component.name!r} has kind {component.kind!r}; it must be measured or derived"
+        if not isinstance(component.decimals, int) or isinstance(component.decimals, bool) or component.decimals < 0:
+            return f"component {component.name!r} has decimals {component.decimals!r}; a whole number, 0 or more"
+        for limit in component.spec_limits:
+            if not getattr(limit, "source", None):
+                return f"component {component.name!r} has a spec limit that names no source"
+    headline = next((c for c in plugin_class.components if c.name == plugin_class.headline), None)
+    if headline is None:
+        return f"headline {plugin_class.headline!r} is not one of its components"
+    if headline.unit != plugin_class.result_unit or headline.decimals != plugin_class.decimals:
+        return "the headline component's unit and decimals must be result_unit and decimals"
     return None
 
 

@@ -163,18 +163,20 @@ def _budget(value: float, unit: str, terms: Sequence[_Term], source: str, replic
 
 
 def result_budget(
-    plugin: MethodPlugin, values: Mapping[str, Any], source: BudgetSource, *, given: Collection[str] | None = None
+    plugin: MethodPlugin, values: Mapping[str, Any], source: BudgetSource, *, given: Collection[str] | None = None,
+    component: str = "",
 ) -> Budget:
     """The budget of one determination from its validated ``values`` (as compute() takes them).
     ``given``: the inputs the analyst entered; an input filled in by its default (a blank of 0
-    where none was run) was not measured and has no uncertainty term."""
+    where none was run) was not measured and has no uncertainty term. ``component``: one
+    component of a profile plugin (default: its headline, or the single value)."""
     from decimal import localcontext
 
     from plugins.contract import exact_context
 
     with localcontext(exact_context()):
-        y = float(plugin.compute(values))
-    coefficients = plugin.sensitivities(values)
+        y = float(plugin.compute_profile(values)[component] if component else plugin.compute(values))
+    coefficients = plugin.component_sensitivities(values, component) if component else plugin.sensitivities(values)
     specs = {spec.name: spec for spec in plugin.inputs if isinstance(spec, QuantityInput)}
     terms: list[_Term] = []
     for name, c in coefficients.items():
@@ -184,10 +186,11 @@ def result_budget(
         if standard is None:
             continue
         terms.append(_Term(name, specs[name].unit, float(values[name]), standard.u, c, standard.basis))
+    unit = plugin.component_spec(component).unit if component else plugin.unit_for(values)
     repeatability = source.repeatability(plugin, y)
     if repeatability is not None:
-        terms.append(_Term(REPEATABILITY, plugin.unit_for(values), 0.0, repeatability.u, 1.0, repeatability.basis))
-    return _budget(y, plugin.unit_for(values), terms, source.name, 1)
+        terms.append(_Term(REPEATABILITY, unit, 0.0, repeatability.u, 1.0, repeatability.basis))
+    return _budget(y, unit, terms, source.name, 1)
 
 
 def mean_budget(replicates: Sequence[Budget | Mapping[str, Any]]) -> Budget:

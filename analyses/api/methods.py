@@ -10,6 +10,7 @@ from rest_framework.views import APIView
 
 from analyses.api.schema import errors
 from analyses.api.serializers.common import TextField
+from analyses.api.serializers.results import ComponentsField
 from analyses.api.serializers.states import VerdictField
 from analyses.models import Comparison, Verdict
 from analyses.selectors.methods import method_detail, method_list
@@ -36,10 +37,24 @@ class MethodSerializer(serializers.Serializer):
     basis = serializers.DictField(
         allow_null=True, help_text="The input that says what the result is expressed as, with the conventional choice per oil type"
     )
+    headline = serializers.CharField(
+        allow_null=True,
+        help_text="For a method that reports a profile (fatty-acid composition): the component that stands for it where "
+        "one number is asked for (the calculated iodine value); null for a single-value method",
+    )
+    components = serializers.ListField(
+        child=serializers.DictField(),
+        help_text="For a profile: each component (a fatty acid by its shorthand such as C18:2, or a derived value such as "
+        "iv_calc) with its unit, places, kind and default limits per oil type with their sources. A specification line "
+        "limits one as <code>:<component>, e.g. fac:C18:2. Empty for a single-value method.",
+    )
 
 
 class CalculationRequestSerializer(serializers.Serializer):
-    method = serializers.CharField(help_text="Method code, e.g. sv, iv, av, pv, ffa")
+    method = serializers.CharField(
+        help_text="Method code, e.g. sv, iv, av, pv, ffa; for a profile, the component to judge, e.g. fac:C18:2 "
+        "(fac alone is judged on its calculated iodine value)"
+    )
     inputs = serializers.DictField(
         help_text='Input name to value: a number in the default unit, or a quantity string such as "2015 mg"'
     )
@@ -79,7 +94,13 @@ class CalculationResultSerializer(serializers.Serializer):
     )
     review_warnings = serializers.ListField(
         child=serializers.CharField(),
-        help_text="What a reviewer would be warned of: outside the method's validated range, a prescribed blank not run",
+        help_text="What a reviewer would be warned of: outside the method's validated range, a prescribed blank not run; "
+        "for a fatty-acid composition, the identity screen against the Codex ranges of oil_type",
+    )
+    components = ComponentsField(
+        required=False,
+        help_text="For a profile: every component, exact and reported; the value above is the judged one. Absent for a "
+        "single-value method.",
     )
 
 

@@ -51,6 +51,9 @@ class Result(models.Model):
     )
     titrant_concentration = models.TextField(blank=True, help_text="mol/L from the standardisation, Decimal string")
     titrant_uncertainty = models.TextField(blank=True, help_text="its standard uncertainty, mol/L, Decimal string")
+    # a profile method's every component (plugins.contract "Profiles"): name -> exact and reported
+    # value, unit, places, kind, detected; empty for a single-value method
+    components = models.JSONField(default=dict, blank=True)
 
     class Meta:
         ordering = ["test_id", "replicate", "version"]

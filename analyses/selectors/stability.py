@@ -143,5 +143,5 @@ def study_plot(study_id: int, method_code: str, condition_id: int) -> dict[str, 
     return stability_plot_data(
         rows["months"].tolist(), rows["value"].tolist(), result, lots=rows["lot"].tolist(),
         title=f"{study.code}: {method_code} at {condition}",
-        unit=get_registry().get(method_code).result_unit if method_code in get_registry() else "",
+        unit=get_registry().unit_of(method_code) if method_code in get_registry() else "",
     )

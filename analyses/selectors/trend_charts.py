@@ -61,7 +61,7 @@ def series_chart(series_key: str, chart: str = "shewhart") -> dict[str, Any]:
         established = baseline_establish(values[:MINIMUM_BASELINE_POINTS])
         mean, sd = established.mean, established.sd
     method_code = frame["method_code"].iloc[0]
-    unit = get_registry().get(method_code).result_unit if method_code in get_registry() else ""
+    unit = get_registry().unit_of(method_code) if method_code in get_registry() else ""
     title = f"{series_key} ({method_code})"
     if chart == "ewma":
         chart_data = ewma_chart(values, mean, sd, settings.TREND_EWMA_SMOOTHING, settings.TREND_EWMA_WIDTH)

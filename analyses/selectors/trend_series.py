@@ -37,7 +37,7 @@ def _series_filter(series_keys: Iterable[str]) -> Q:
     """Rows of the named series only, so a scan or chart reads its own series, not the database."""
     wanted = Q(pk__in=[])
     for key in series_keys:
-        parts = str(key).split(":")
+        parts = str(key).split(":", 2)  # a profile component keeps its colons: fac:C18:2
         if len(parts) != 3 or not parts[1].isdigit() or not 0 < int(parts[1]) < 2**63:
             continue
         kind, owner, method_code = parts[0], int(parts[1]), parts[2]

@@ -14,7 +14,7 @@ from analyses.errors import InvalidInput, NotFound
 from analyses.models import Comparison
 from analyses.services.specifications import limits_given_or_codex
 from analyses.services.verdicts import verdict_for
-from plugins.contract import MethodInputError, MethodPlugin, MethodResult
+from plugins.contract import MethodInputError, MethodPlugin, MethodResult, split_parameter
 from plugins.registry import UnknownMethod, get_registry
 from plugins.review_warnings import review_warnings
 
@@ -48,10 +48,10 @@ class Calculation:
 
 
 def _limits(
-    plugin: MethodPlugin, minimum: Any, maximum: Any, oil_type: str | None, comparison: str | None
+    plugin: MethodPlugin, minimum: Any, maximum: Any, oil_type: str | None, comparison: str | None, component: str = ""
 ) -> CalculationLimits | None:
     low, high, source = limits_given_or_codex(
-        plugin, minimum, maximum, oil_type or "", fields=("minimum", "maximum", "oil_type")
+        plugin, minimum, maximum, oil_type or "", fields=("minimum", "maximum", "oil_type"), component=component
     )
     chosen = comparison or Comparison.ABSOLUTE
     if chosen not in Comparison.values:
@@ -80,9 +80,12 @@ def calculation_run(
         plugin = get_registry().get(method_code)
     except UnknownMethod as exc:
         raise NotFound(str(exc)) from None
-    limits = _limits(plugin, minimum, maximum, oil_type, comparison)
+    component = split_parameter(method_code)[1]
+    if plugin.components and not component:
+        component = plugin.headline  # "fac" alone is judged on its headline (the calculated IV)
+    limits = _limits(plugin, minimum, maximum, oil_type, comparison, component)
     try:
-        result = plugin.calculate(inputs)
+        result = plugin.calculate(inputs).component(component)
     except MethodInputError as exc:
         raise InvalidInput.for_field(exc.field, exc.reason) from None
     verdict = None
@@ -94,4 +97,6 @@ def calculation_run(
             comparison=limits.comparison,
         )
     warnings = review_warnings(plugin, result.inputs, result.judged, result.unit)
+    if plugin.components:
+        warnings += plugin.profile_warnings(result, oil_type or "")
     return Calculation(result, limits, verdict, warnings)

@@ -28,6 +28,7 @@ from analyses.services.decision_statements import rule_statement
 from analyses.services.release import release_samples
 from analyses.services.signatures import release_meaning, signature_confirm
 from analyses.services.uncertainty import mean_expanded_uncertainty
+from plugins.contract import split_parameter
 from plugins.registry import UnknownMethod, get_registry
 from plugins.uncertainty import COVERAGE_FACTOR
 
@@ -50,11 +51,17 @@ def _distinct(statements) -> list[dict[str, str]]:
 
 
 def _method_facts(code: str) -> dict[str, Any]:
+    """The method's title and standards; for one component of a profile ("fac:C18:2") the title
+    names the component, so each component is its own row of the certificate."""
+    component = split_parameter(code)[1]
     try:
         plugin = get_registry().get(code)
     except UnknownMethod:
-        return {"method_title": code, "standards": []}
-    return {"method_title": plugin.title, "standards": list(plugin.standards)}
+        return {"method_title": code, "standards": [], "component": component or None}
+    title = plugin.title
+    if component:
+        title = f"{plugin.title}: {component} ({plugin.component_spec(component).title})"
+    return {"method_title": title, "standards": list(plugin.standards), "component": component or None}
 
 
 def measured_with(result) -> dict[str, Any]:

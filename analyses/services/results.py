@@ -62,13 +62,20 @@ from analyses.services.transitions import record_test_move, sample_require_worka
 from analyses.services.uncertainty import result_uncertainty_record
 from analyses.services.verdicts import line_verdict
 from labcore.metrics import RESULTS_ENTERED, count_on_commit
-from plugins.contract import MethodInputError, MethodPlugin, MethodResult, exact_context, float_as_decimal
+from plugins.contract import (
+    MethodInputError,
+    MethodPlugin,
+    MethodResult,
+    exact_context,
+    float_as_decimal,
+    split_parameter,
+)
 from plugins.registry import UnknownMethod, get_registry
 
 RESULT_FIELDS = (
     "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
     "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
-    "idempotency_key", "reagent_lot", "standardisation", "titrant_concentration", "titrant_uncertainty",
+    "idempotency_key", "reagent_lot", "standardisation", "titrant_concentration", "titrant_uncertainty", "components",
 )
 AGGREGATE_FIELDS = ("value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "review_warnings")
 BULK_ITEM_KEYS = {"test", "inputs", "replicate", "idempotency_key", "titrant_lot", "instruments"}
@@ -91,6 +98,8 @@ def _calculate(plugin: MethodPlugin, test: Test, inputs: Any, trace: Trace) -> M
         raise InvalidInput.for_field("inputs", "must be an object of name=value pairs")
     try:
         outcome = plugin.calculate(trace.plugin_inputs(line_inputs(plugin, test.specification_line, inputs)))
+        # a test of one component of a profile ("fac:C18:2") is judged on that component
+        outcome = outcome.component(split_parameter(test.method_code)[1])
     except MethodInputError as exc:
         field = "inputs" if exc.field == "inputs" else f"inputs.{exc.field}"
         raise InvalidInput.for_field(field, exc.reason) from None
@@ -223,6 +232,7 @@ def _result_fields(
         "unit": outcome.unit,
         "method_code": outcome.code,
         "method_version": outcome.version,
+        "components": outcome.components_as_dict(),
         "verdict": line_verdict(outcome.judged, test.specification_line),
         "duplicate_check": aggregate["duplicate_check"] if aggregate else None,
         "entered_by": actor,

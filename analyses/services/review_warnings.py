@@ -48,8 +48,27 @@ def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[st
     their blanks, the mean against the method's scope, and a conditional pass. Never a reason to refuse."""
     return (
         _replicate_warnings(plugin, test) + scope_warnings(plugin, mean, test.specification_line.unit)
-        + _decision_warnings(test, mean)
+        + _profile_warnings(plugin, test) + _decision_warnings(test, mean)
     )
+
+
+def _profile_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
+    """A profile's own warnings (the fatty-acid identity screen against the product's declared oil
+    type, unidentified area), from each current replicate's inputs as stored; every test on a
+    component of the profile carries them, so whoever reviews any of them sees them."""
+    if not plugin.components:
+        return []
+    oil_type = test.sample.lot.product.oil_type
+    found: list[str] = []
+    for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
+        try:
+            outcome = plugin.calculate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
+        except MethodInputError:
+            continue  # said by _replicate_warnings
+        for warning in plugin.profile_warnings(outcome, oil_type):
+            if warning not in found:
+                found.append(warning)
+    return found
 
 
 def _decision_warnings(test: Test, mean: Any) -> list[str]:

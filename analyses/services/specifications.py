@@ -38,7 +38,7 @@ from analyses.audit import audit_append, created, snapshot
 from analyses.errors import Conflict, InvalidInput
 from analyses.models import AuditAction, Comparison, DecisionRule, Product, Specification, SpecificationLine, SpecificationStatus
 from analyses.services.access import Actor, fetch, require_permission
-from plugins.contract import MethodPlugin
+from plugins.contract import MethodPlugin, join_parameter, split_parameter
 from plugins.registry import UnknownMethod, get_registry
 
 SPECIFICATION_FIELDS = ("product", "version", "status", "effective_from", "note", "revised_from")
@@ -84,10 +84,13 @@ def limit_as_written(raw: Any, field: str) -> str:
 
 
 def limits_given_or_codex(
-    plugin: MethodPlugin, minimum: Any, maximum: Any, oil_type: str, *, fields: tuple[str, str, str]
+    plugin: MethodPlugin, minimum: Any, maximum: Any, oil_type: str, *, fields: tuple[str, str, str],
+    component: str = "",
 ) -> tuple[str, str, str]:
     """The limits as written, or the plugin's Codex default for ``oil_type``: (minimum, maximum,
-    source), "" for each one not set. ``fields`` names (minimum, maximum, oil type) in errors."""
+    source), "" for each one not set. ``fields`` names (minimum, maximum, oil type) in errors.
+    ``component``: a profile plugin's component, whose own defaults apply (the CXS 210
+    composition ranges of each fatty acid)."""
     minimum_field, maximum_field, oil_type_field = fields
     low = limit_as_written(minimum, minimum_field)
     high = limit_as_written(maximum, maximum_field)
@@ -95,11 +98,13 @@ def limits_given_or_codex(
         return low, high, ""
     if low or high:
         raise InvalidInput.for_field(oil_type_field, "give either limits or a Codex oil type, not both")
-    default = plugin.limits_for(oil_type)
+    holder = plugin.component_spec(component) if component else plugin
+    default = holder.limits_for(oil_type)
     if default is None:
-        known = ", ".join(sorted(limit.oil_type for limit in plugin.spec_limits)) or "none"
+        known = ", ".join(sorted(limit.oil_type for limit in holder.spec_limits)) or "none"
+        named = join_parameter(plugin.code, component)
         raise InvalidInput.for_field(
-            oil_type_field, f"method {plugin.code} has no default limits for {oil_type!r} (known: {known})"
+            oil_type_field, f"method {named} has no default limits for {oil_type!r} (known: {known})"
         )
     return (
         limit_as_written(default.minimum, minimum_field),
@@ -133,6 +138,20 @@ def _line_basis(plugin: MethodPlugin, raw: Any, prefix: str, oil_types: Sequence
     return basis, plugin.unit_for({plugin.basis.input_name: basis})
 
 
+def _line_component(plugin: MethodPlugin, code: str, prefix: str) -> str:
+    """The component a line on a profile method targets ("fac:C18:2" -> "C18:2"); a profile
+    method's line must name one, a single-value method's line none."""
+    component = split_parameter(code)[1]
+    if plugin.components and not component:
+        names = ", ".join(c.name for c in plugin.components)
+        raise InvalidInput.for_field(
+            f"{prefix}.method",
+            f"method {plugin.code} reports a profile: name the component the line limits, e.g. {plugin.code}:"
+            f"{plugin.components[0].name} or {plugin.code}:{plugin.headline} (components: {names})",
+        )
+    return component
+
+
 def _clean_line(raw: Any, index: int, product_oil_type: str = "") -> dict[str, Any]:
     prefix = f"lines.{index}"
     if not isinstance(raw, Mapping):
@@ -147,14 +166,17 @@ def _clean_line(raw: Any, index: int, product_oil_type: str = "") -> dict[str, A
         plugin = get_registry().get(code)
     except UnknownMethod as exc:
         raise InvalidInput.for_field(f"{prefix}.method", str(exc)) from None
+    component = _line_component(plugin, code, prefix)
     oil_type = str(raw.get("codex_oil_type") or "").strip()
     minimum, maximum, source = limits_given_or_codex(
         plugin, raw.get("minimum"), raw.get("maximum"), oil_type,
-        fields=(f"{prefix}.minimum", f"{prefix}.maximum", f"{prefix}.codex_oil_type"),
+        fields=(f"{prefix}.minimum", f"{prefix}.maximum", f"{prefix}.codex_oil_type"), component=component,
     )
     if not minimum and not maximum:
         raise InvalidInput.for_field(f"{prefix}.minimum", "give a minimum, a maximum, or a Codex oil type")
     basis, unit = _line_basis(plugin, raw, prefix, (oil_type, product_oil_type))
+    if component:
+        unit = plugin.component_spec(component).unit
     if minimum and maximum and Decimal(minimum) > Decimal(maximum):
         raise InvalidInput.for_field(f"{prefix}.maximum", f"must not be below the minimum {minimum}")
     comparison = str(raw.get("comparison") or Comparison.ABSOLUTE)
@@ -171,7 +193,7 @@ def _clean_line(raw: Any, index: int, product_oil_type: str = "") -> dict[str, A
         "decision_rule": rule,
         "guard_band_multiple": multiple,
         "position": index,
-        "method_code": code,
+        "method_code": join_parameter(plugin.code, component) if component else code,
         "unit": unit,
         "minimum": minimum,
         "maximum": maximum,

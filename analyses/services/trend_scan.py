@@ -135,12 +135,12 @@ def _not_yet_alerted(drafts: list[AlertDraft]) -> list[AlertDraft]:
 
 
 def _qc_methods(series_keys: list[str]) -> list[str]:
-    parts = [key.split(":") for key in series_keys]
+    parts = [key.split(":", 2) for key in series_keys]
     return sorted({p[2] for p in parts if len(p) == 3 and p[0] == SeriesKind.QC_CHECK and p[2]})
 
 
 def _parse_key(series_key: str) -> tuple[str, str]:
-    parts = str(series_key).split(":")
+    parts = str(series_key).split(":", 2)
     if len(parts) != 3 or parts[0] not in SeriesKind.values or not parts[1].isdigit() or not parts[2]:
         raise InvalidInput.for_field("series_key", "must look like qc:<lot id>:<method> or production:<product id>:<method>")
     return parts[0], parts[2]

@@ -34,7 +34,7 @@ from analyses.services.result_trace import TITRANT_INPUT, stored_inputs
 from analyses.services.review_warnings import line_inputs
 from analyses.services.verdicts import line_verdict
 from analyses.traceability.standardisation import tolerance_as_u, weighing_by_difference_u
-from plugins.contract import MethodInputError, MethodPlugin, QuantityInput
+from plugins.contract import MethodInputError, MethodPlugin, QuantityInput, split_parameter
 from plugins.default_budget import DefaultBudget
 from plugins.registry import UnknownMethod, get_registry
 from plugins.uncertainty import (
@@ -135,7 +135,9 @@ def budget_of(result: Result, plugin: MethodPlugin | None = None) -> Budget | No
         source = budget_source(plugin)
         if result.reagent_lot_id or result.instrument_uses.exists():
             source = TracedBudget(source, result)
-        return result_budget(plugin, values, source, given=set(inputs))
+        # a test of one component of a profile ("fac:C18:2"): the budget of that component
+        component = split_parameter(result.test.method_code)[1]
+        return result_budget(plugin, values, source, given=set(inputs), component=component)
     except (UnknownMethod, MethodInputError):
         return None
 

@@ -129,6 +129,11 @@ class CertificateResultSerializer(serializers.Serializer):
     test = serializers.IntegerField()
     method = serializers.CharField()
     method_title = serializers.CharField()
+    component = serializers.CharField(
+        allow_null=True, required=False,
+        help_text="For a method that reports a profile (fatty-acid composition), the component this row gives, "
+        "in the trade's shorthand (C18:2) or a derived value (iv_calc); null for a single-value method",
+    )
     standards = serializers.ListField(child=serializers.CharField())
     method_versions = serializers.ListField(child=serializers.CharField())
     replicates = serializers.ListField(child=serializers.CharField(), help_text="Each replicate as reported")

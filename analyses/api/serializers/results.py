@@ -10,8 +10,30 @@ from analyses.models import Result, Test
 INPUTS_HELP = (
     'Input name to value, as the method plugin defines them (see /api/methods/{code}/): a number in the '
     'default unit or a quantity string such as "2015 mg". Kept exactly as received. Send strings to keep the '
-    'digits as written, e.g. "1.30": a JSON number 1.30 is read as 1.3 before it reaches the service.'
+    'digits as written, e.g. "1.30": a JSON number 1.30 is read as 1.3 before it reaches the service. '
+    'A fatty-acid composition (method fac) takes one peak area or area % per fatty acid by its shorthand, '
+    '{"C16:0": "44.1", "C18:1": "39.0", "C18:2": "10.6", "unidentified": "0.4"}, optionally '
+    '"response_factors": "theoretical" or a laboratory factor per acid ("rf:C16:0": "1.02"); the same run is '
+    'entered on each test of the sample that limits one of its components (several at once through the bulk entry).'
 )
+
+
+@extend_schema_field(
+    {
+        "type": "object",
+        "additionalProperties": {
+            "type": "object",
+            "properties": {
+                "name": {"type": "string"}, "exact": {"type": "string"}, "reported": {"type": "string"},
+                "unit": {"type": "string"}, "decimals": {"type": "integer"},
+                "kind": {"type": "string", "enum": ["measured", "derived"]}, "detected": {"type": "boolean"},
+            },
+            "required": ["name", "exact", "reported", "unit", "decimals", "kind", "detected"],
+        },
+    }
+)
+class ComponentsField(serializers.JSONField):
+    """Every component of a profile (empty for a single-value method)."""
 
 
 @extend_schema_field({"oneOf": [{"type": "integer"}, {"type": "string"}]})
@@ -45,6 +67,13 @@ class ResultSerializer(serializers.ModelSerializer):
     entered_by = username_field("entered_by")
     titrant_lot = serializers.CharField(source="reagent_lot.code", read_only=True, allow_null=True)
     instruments = ResultInstrumentSerializer(source="instrument_uses", many=True, read_only=True)
+    components = ComponentsField(
+        read_only=True,
+        help_text="For a method that reports a profile (fatty-acid composition): every component by name, each with "
+        "its exact and reported value, unit and places, whether it is measured or derived (calculated iodine and "
+        "saponification values, sums), and whether its peak was given; empty for a single-value method. The "
+        "result's own value is the component its test limits (the test's method_code, e.g. fac:C18:2).",
+    )
 
     class Meta:
         model = Result
@@ -52,7 +81,7 @@ class ResultSerializer(serializers.ModelSerializer):
             "id", "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
             "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
             "status_reason", "entered_by", "entered_at", "titrant_lot", "standardisation", "titrant_concentration",
-            "titrant_uncertainty", "instruments",
+            "titrant_uncertainty", "instruments", "components",
         ]
         read_only_fields = fields
 

@@ -12,7 +12,7 @@ def test_method_list_carries_metadata(api, db):
     response = api.get("/api/methods/")
     assert response.status_code == 200
     codes = [m["code"] for m in response.json()]
-    assert codes == ["anv", "av", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
+    assert codes == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
 
 
 def test_method_detail_and_unknown_method(api, db):
@@ -105,3 +105,19 @@ def test_calculation_without_limits_has_no_verdict(api, db):
     response = api.post("/api/calculations/", {"method": EXACT_AT_LIMIT[1][0], "inputs": EXACT_AT_LIMIT[1][1]}, format="json")
     assert response.json()["verdict"] is None
     assert response.json()["limits"] is None
+
+
+def test_a_profile_is_described_and_calculated_per_component(api, db):
+    fac = api.get("/api/methods/fac/").json()
+    assert fac["headline"] == "iv_calc" and "C18:2" in [c["name"] for c in fac["components"]]
+    assert api.get("/api/methods/iv/").json()["components"] == []
+    run = {"C16:0": "9.0", "C18:0": "3.4", "C18:1": "19.0", "C18:2": "62.1", "C18:3": "6.5"}
+    answer = api.post("/api/calculations/", {"method": "fac:C18:2", "inputs": run, "oil_type": "soybean"}, format="json")
+    assert answer.status_code == 200, answer.json()
+    body = answer.json()
+    # Codex CXS 210 soybean C18:2 48.0-59.0 (from memory, shared/references.md)
+    assert body["reported"] == "62.1" and body["unit"] == "%" and body["verdict"] == "oos"
+    assert body["limits"]["maximum"] == "59.0" and body["components"]["iv_calc"]["unit"] == "g I2/100 g"
+    assert any("above the 59.0 % maximum for soybean oil" in w for w in body["review_warnings"])
+    unknown = api.post("/api/calculations/", {"method": "fac:C99:9", "inputs": run}, format="json")
+    assert unknown.status_code == 404
