@@ -33,6 +33,8 @@ def api_root(request, format=None):
             "reagent_kinds": reverse("reagent-kind-list", request=request, format=format),
             "reagent_lots": reverse("reagent-lot-list", request=request, format=format),
             "instruments": reverse("instrument-list", request=request, format=format),
+            "import_mappings": reverse("import-mapping-list", request=request, format=format),
+            "imports": reverse("result-import-list", request=request, format=format),
             "schema": reverse("schema", request=request, format=format),
             "docs": reverse("api-docs", request=request, format=format),
         }

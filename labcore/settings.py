@@ -314,6 +314,8 @@ OLEOTRACE_REPEATABILITY_SOURCE = os.environ.get("OLEOTRACE_REPEATABILITY_SOURCE"
 if OLEOTRACE_REPEATABILITY_SOURCE not in ("plugin", "lab_duplicates"):
     raise ImproperlyConfigured("OLEOTRACE_REPEATABILITY_SOURCE must be plugin or lab_duplicates")
 OLEOTRACE_NON_BINARY_STATEMENTS = _env_flag("OLEOTRACE_NON_BINARY_STATEMENTS")
+# instrument file import: the largest file taken, in bytes (5 MiB: far above a day's titrator or GC export)
+OLEOTRACE_IMPORT_MAX_BYTES = int(os.environ.get("OLEOTRACE_IMPORT_MAX_BYTES", str(5 * 1024 * 1024)))
 
 EMAIL_BACKEND = os.environ.get("EMAIL_BACKEND", "django.core.mail.backends.console.EmailBackend")
 DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")

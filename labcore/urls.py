@@ -14,6 +14,7 @@ urlpatterns = [
     path("api/", include("analyses.api.urls")),
     path("api/", include("analyses.api.urls_monitoring")),
     path("api/", include("analyses.api.urls_traceability")),
+    path("api/", include("analyses.api.urls_imports")),
     path("api/auth/", include("rest_framework.urls")),
     path("api/schema/", SpectacularAPIView.as_view(), name="schema"),
     path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="api-docs"),

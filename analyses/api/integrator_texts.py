@@ -52,6 +52,27 @@ OPERATIONS: dict[str, str] = {
         "result, use `POST /api/results/`. Anyone may call it. Bad inputs are refused with 400 naming each field "
         "(`inputs.sample_mass`)."
     ),
+    # --- instrument file import ---
+    "import_mappings_list": "Import mappings: which column of a lab's export file holds what. " + SIGNED_IN + " " + PAGED,
+    "import_mappings_create": (
+        "Names a mapping from a file layout's roles to your export's column headings: for the titrator layout, "
+        "sample, method, titre, titrant lot (required), blank, sample mass and instruments; inputs a method needs "
+        "beyond those go in `extra_inputs`. For lab managers and admins. A name in use, a role the layout does not "
+        "have, or a required role left out is refused with 400 naming it (`columns.titre`)."
+    ),
+    "import_mappings_retrieve": "One import mapping. " + SIGNED_IN,
+    "imports_list": "Files imported, newest first, with their SHA-256, mapping, rows and the results they entered. " + SIGNED_IN + " " + PAGED,
+    "imports_create": (
+        "Imports results from an instrument export (CSV in UTF-8, or XLSX; first sheet), one result per row, all or "
+        "nothing, through the same checks as entering them by hand: the tests must be yours and awaiting "
+        "results, the titrant lot and instruments usable. For analysts and admins; a member of the QA group never "
+        "enters raw data. Refused with 400 naming `file`: a file beyond the size limit, another kind of file, a "
+        "missing column, an Excel formula (never evaluated: paste values), or a bad cell, named by row and column "
+        "(\"row 14, column V (mL): must be a number\"; the heading is row 1). The same file again (same SHA-256) "
+        "answers with the first import and the header `Oleotrace-Replayed: true`; nothing is entered twice. With "
+        "another mapping it answers 409."
+    ),
+    "imports_retrieve": "One imported file and the results it entered. " + SIGNED_IN,
     # --- products and specifications ---
     "products_list": "Products (oil grades) with their oil type. " + SIGNED_IN + " " + PAGED,
     "products_create": (
@@ -347,6 +368,8 @@ SCHEMAS: dict[str, str] = {
     "ConditionInRequest": "One storage condition of a stability study: temperature and light.",
     "CredentialsRequest": "A user name, password and a name for the new token.",
     "InstrumentCheckCreateRequest": "A routine check of an instrument: the reference used, its nominal and measured values, and the tolerance.",
+    "ImportMappingCreateRequest": "A mapping to name: its layout, the column heading of each role, extra method inputs and the instruments used for every row.",
+    "ResultImportUploadRequest": "An export file (multipart upload) and the name of the mapping to read it with.",
     "InstrumentCreateRequest": "An instrument to register: asset id, kind, location and how often it is checked.",
     "InvestigationCloseRequest": "How an investigation ends: its conclusion and the findings behind it.",
     "LotCreateRequest": "A lot to create: code, product, origin, supplier or customer, container, quantity and production date (not in the future).",
@@ -398,6 +421,8 @@ SCHEMAS: dict[str, str] = {
     "Condition": "A storage condition of a stability study.",
     "Error": "Why a request was refused (401, 403, 404, 409); a 409 may list what is missing.",
     "InvalidInputError": "Why a request was refused with 400: every offending field named, nested ones with dots (`results.2.inputs.sample_mass`).",
+    "ImportMapping": "A named mapping of a file layout's roles to the column headings of a lab's export.",
+    "ResultImport": "A file imported: its name, SHA-256 and size, the mapping, how many rows, and the results it entered.",
     "Instrument": "An instrument with its calibration, last check, and whether it may be used now (and why not).",
     "InstrumentCheck": "A recorded routine check of an instrument and whether it passed.",
     "Investigation": "An out-of-specification investigation: the result that opened it, the limits, its state and conclusion.",

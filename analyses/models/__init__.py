@@ -2,6 +2,7 @@
 from analyses.models.audit import AuditAction, AuditChainHead, AuditEntry
 from analyses.models.certificates import Certificate
 from analyses.models.immutable import AppendOnlyModel, ImmutableRowError
+from analyses.models.imports import ImportLayout, ImportMapping, ResultImport
 from analyses.models.instruments import (
     Calibration,
     CheckKind,
@@ -57,6 +58,9 @@ from analyses.models.testing import (
 )
 
 __all__ = [
+    "ImportLayout",
+    "ImportMapping",
+    "ResultImport",
     "ApiToken",
     "LockoutScope",
     "LoginLockout",

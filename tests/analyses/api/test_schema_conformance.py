@@ -45,6 +45,8 @@ MISSING_ID = 987654321
 TOKEN_NAME = "schema conformance"
 ID_MODELS = {
     "alerts": models.Alert,
+    "import-mappings": models.ImportMapping,
+    "imports": models.ResultImport,
     "auth/tokens": models.ApiToken,
     "instruments": models.Instrument,
     "investigations": models.Investigation,

@@ -97,7 +97,8 @@ def test_options_on_a_list_that_creates_shows_the_fields_a_client_sends(schema):
         actions = client.options(path).json().get("actions")
         if actions is None:
             continue  # a view without a form to describe (e.g. calculations): DRF lists no actions
-        body = operation["requestBody"]["content"]["application/json"]["schema"]
+        content = operation["requestBody"]["content"]
+        body = (content.get("application/json") or content["multipart/form-data"])["schema"]
         component = schema["components"]["schemas"][body["$ref"].rsplit("/", 1)[1]]
         writable = {field for field, info in actions["POST"].items() if not info.get("read_only")}
         assert writable == set(component["properties"]), path
