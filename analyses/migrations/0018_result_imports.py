@@ -6,7 +6,7 @@ import django.db.models.deletion
 class Migration(migrations.Migration):
 
     dependencies = [
-        ("analyses", "0015_certificate_versions_and_customer"),
+        ("analyses", "0017_result_components"),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 
