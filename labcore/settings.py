@@ -289,6 +289,9 @@ TRACEABILITY_DUE_DAYS = int(os.environ.get("TRACEABILITY_DUE_DAYS", 14))
 # (ISO 660, Ca 5a-40, from memory) differ by some 7 %; the floor keeps refined oils' small values quiet.
 CROSS_CHECK_AV_FFA_RELATIVE = float(os.environ.get("CROSS_CHECK_AV_FFA_RELATIVE", 0.10))
 CROSS_CHECK_AV_FFA_ABSOLUTE = float(os.environ.get("CROSS_CHECK_AV_FFA_ABSOLUTE", 0.05))
+# titrated against calculated from the composition (ISO 3961 Annex B, AOCS Cd 1c-85): common practice, no source
+CROSS_CHECK_IV_ABSOLUTE = float(os.environ.get("CROSS_CHECK_IV_ABSOLUTE", 2.0))  # g I2/100 g
+CROSS_CHECK_SV_ABSOLUTE = float(os.environ.get("CROSS_CHECK_SV_ABSOLUTE", 3.0))  # mg KOH/g
 
 # The audit chain's head is appended to a file here (analyses/services/audit_anchors.py); audit_verify
 # checks the chain against it. Put it where the database's administrators cannot write.

@@ -13,8 +13,8 @@ corrected or sent-back result takes its warning away from the other test too.
 
 An entry is a :class:`CrossCheck`: the two method codes and a ``compare`` function that receives the
 two tests (first the one of ``methods[0]``) and returns a :class:`Disagreement` or None. The
-fatty-acid composition's calculated IV and SV (issue 11) are meant to be added here as further
-entries against ``iv`` and ``sv``.
+fatty-acid composition's calculated IV and SV are compared with the titrated ones when the sample
+has tests on ``fac:iv_calc`` or ``fac:sv_calc``.
 """
 from __future__ import annotations
 
@@ -107,8 +107,48 @@ def compare_av_ffa(av: Test, ffa: Test) -> Disagreement | None:
     )
 
 
+# --- titrated IV and SV against the ones calculated from the fatty-acid composition ---------------
+# ISO 3961 Annex B computes the IV from the composition (AOCS Cd 1c-85) and warns that crude,
+# cold-pressed and (partially) hydrogenated oils can differ between the two methods (found,
+# shared/references.md). The comparison needs the calculated value as a test of its own: a
+# specification line on ``fac:iv_calc`` or ``fac:sv_calc``.
+ANNEX_B_PRODUCT_WORDS = ("crude", "cold-pressed", "cold pressed", "virgin", "hydrogenated")
+
+
+def _annex_b_note(test: Test) -> str:
+    product = test.sample.lot.product
+    described = " ".join((product.name, product.oil_type, product.description)).lower()
+    found = [word for word in ANNEX_B_PRODUCT_WORDS if word in described]
+    if not found:
+        return ""
+    return (f"; the product is {found[0]}: ISO 3961 Annex B warns that crude, cold-pressed and hydrogenated oils "
+            "can differ between the titrated and the calculated iodine value, so the difference may be the oil's, "
+            "not the analysis'")
+
+
+def _titrated_against_calculated(what: str, unit: str, setting: str, *, annex_b: bool) -> Callable[[Test, Test], Disagreement | None]:
+    def compare(titrated: Test, calculated: Test) -> Disagreement | None:
+        tolerance = Decimal(str(getattr(settings, setting)))
+        with localcontext(exact_context()):
+            difference = abs(_exact(titrated) - _exact(calculated))
+        if difference <= tolerance:
+            return None
+        note = _annex_b_note(titrated) if annex_b else ""
+        return Disagreement(
+            f"{what} {titrated.reported} {unit} titrated against {calculated.reported} {unit} calculated from the "
+            f"fatty-acid composition: they differ by {difference:.1f} {unit}, more than the tolerance of "
+            f"{tolerance.normalize():f} {unit} ({setting}, a setting; common practice, no source){note}"
+        )
+
+    return compare
+
+
 CROSS_CHECKS: tuple[CrossCheck, ...] = (
     CrossCheck("AV against FFA", ("av", "ffa"), compare_av_ffa),
+    CrossCheck("IV against the composition", ("iv", "fac:iv_calc"),
+               _titrated_against_calculated("IV", "g I2/100 g", "CROSS_CHECK_IV_ABSOLUTE", annex_b=True)),
+    CrossCheck("SV against the composition", ("sv", "fac:sv_calc"),
+               _titrated_against_calculated("SV", "mg KOH/g", "CROSS_CHECK_SV_ABSOLUTE", annex_b=False)),
 )
 
 
