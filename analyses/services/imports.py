@@ -12,7 +12,7 @@ from __future__ import annotations
 import hashlib
 import re
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 from django.conf import settings
@@ -30,6 +30,7 @@ from analyses.services.access import Actor, actor_name, fetch, refuse_raw_data_e
 from analyses.services.results import result_record_bulk_once
 from analyses.services.uniqueness import UniqueKey, insert_or_fetch
 
+GC_METHOD = "fac"  # the fatty-acid composition plugin, whose tests are "fac:<component>"
 MAPPING_FIELDS = ("name", "layout", "columns", "extra_inputs", "default_instruments")
 IMPORT_FIELDS = ("sha256", "file_name", "size_bytes", "mapping", "rows")
 DEFAULT_MAX_BYTES = 5 * 1024 * 1024
@@ -106,8 +107,9 @@ def import_mapping_create(
 
 @dataclass(frozen=True)
 class _Entry:
-    row: Row
+    row: Row  # the row an error of the entry points to, unless an input has its own
     item: dict[str, Any]
+    input_rows: dict[str, Row] = field(default_factory=dict)  # GC: each component's own row
 
 
 def _titrator_entries(mapping: ImportMapping, rows: Sequence[Row]) -> list[_Entry]:
@@ -144,6 +146,40 @@ def _titrator_entries(mapping: ImportMapping, rows: Sequence[Row]) -> list[_Entr
     return entries
 
 
+def _gc_entries(mapping: ImportMapping, rows: Sequence[Row]) -> list[_Entry]:
+    """One entry per open fatty-acid-composition test of each sample: the sample's peaks as one
+    profile (every ``fac:<component>`` test of the sample gets the same run)."""
+    columns = mapping.columns
+    by_sample: dict[str, dict[str, Row]] = {}
+    for row in rows:
+        label, component = row.cells[columns["sample"]], row.cells[columns["component"]]
+        if not label:
+            raise FileProblem("is empty; give the sample's label", row=row.number, column=columns["sample"])
+        if not component:
+            raise FileProblem("is empty; give the fatty acid (C16:0, C18:1 …)", row=row.number, column=columns["component"])
+        peaks = by_sample.setdefault(label, {})
+        if component in peaks:
+            raise FileProblem(f"{component} of sample {label!r} is already in row {peaks[component].number}",
+                              row=row.number, column=columns["component"])
+        peaks[component] = row
+    tests: dict[str, list[int]] = {}
+    for test in (Test.objects.filter(sample__label__in=by_sample, method_code__startswith=f"{GC_METHOD}:",
+                                     state__in=WORKABLE_TEST_STATES)
+                 .select_related("sample").only("pk", "sample__label").order_by("pk")):
+        tests.setdefault(test.sample.label, []).append(test.pk)
+    entries = []
+    for label, peaks in by_sample.items():
+        first = min(peaks.values(), key=lambda row: row.number)
+        if label not in tests:
+            raise FileProblem(f"sample {label!r} has no fatty-acid composition test awaiting results",
+                              row=first.number, column=columns["sample"])
+        inputs = {component: row.cells[columns["area"]] for component, row in peaks.items()}
+        for test in tests[label]:
+            item = {"test": test, "inputs": inputs, "titrant_lot": None, "instruments": list(mapping.default_instruments)}
+            entries.append(_Entry(first, item, input_rows=dict(peaks)))
+    return entries
+
+
 def _column_of(mapping: ImportMapping, field: str | None) -> str | None:
     """The file's column heading behind a result-entry field (``inputs.sample_volume`` …)."""
     columns = mapping.columns
@@ -155,6 +191,8 @@ def _column_of(mapping: ImportMapping, field: str | None) -> str | None:
         return columns.get("instruments", "(the mapping's default instruments)")
     if field == "titrant_lot":
         return columns.get("titrant_lot")
+    if field.startswith("inputs.") and mapping.layout == ImportLayout.GC:
+        return columns["area"]
     if field.startswith("inputs."):
         name = field.removeprefix("inputs.")
         for role in LAYOUT_ROLES[mapping.layout]:
@@ -172,7 +210,9 @@ def _in_file_terms(exc: DomainError, mapping: ImportMapping, entries: Sequence[_
     match = next((ITEM_FIELD.match(name) for name in names if ITEM_FIELD.match(name)), None)
     if match is None:
         return exc
-    row = entries[int(match[1])].row.number
+    entry = entries[int(match[1])]
+    input_name = (match[2] or "").removeprefix("inputs.")
+    row = entry.input_rows.get(input_name, entry.row).number
     column = _column_of(mapping, match[2])
     reasons = exc.fields.get(match[0]) or [exc.detail.split(": ", 1)[-1]]
     where = f"row {row}, column {column}" if column else f"row {row}"
@@ -213,8 +253,6 @@ def results_import(
         mapping = found
     else:
         mapping = fetch(ImportMapping, mapping, label="import mapping")
-    if mapping.layout != ImportLayout.TITRATOR:
-        raise InvalidInput.for_field("mapping", f"the {mapping.layout} layout cannot be imported yet")
     file_name = required_text(file_name, "file")
     if not isinstance(content, (bytes, bytearray)) or not content:
         raise InvalidInput.for_field("file", "is empty")
@@ -228,10 +266,17 @@ def results_import(
 
     required = [mapping.columns[role.name] for role in LAYOUT_ROLES[mapping.layout] if role.name in mapping.columns]
     entries: list[_Entry] = []
+    peaks: list[Row] = []  # GC: a sample's peaks may span chunks, so they are grouped at the end
     try:
         for chunk in read_rows(bytes(content), file_name, required):
-            entries.extend(_titrator_entries(mapping, chunk))
-            say(f"read {len(entries):,} rows")
+            if mapping.layout == ImportLayout.GC:
+                peaks.extend(chunk)
+                say(f"read {len(peaks):,} rows")
+            else:
+                entries.extend(_titrator_entries(mapping, chunk))
+                say(f"read {len(entries):,} rows")
+        if mapping.layout == ImportLayout.GC:
+            entries = _gc_entries(mapping, peaks)
     except FileProblem as problem:
         raise _file_problem(problem) from None
     if not entries:
@@ -243,7 +288,7 @@ def results_import(
             ResultImport, {"sha256": sha256},
             lambda: ResultImport.objects.create(
                 sha256=sha256, file_name=file_name[:255], size_bytes=len(content), mapping=mapping,
-                rows=len(entries), imported_by=actor, imported_at=timezone.now(),
+                rows=len(peaks) if mapping.layout == ImportLayout.GC else len(entries), imported_by=actor, imported_at=timezone.now(),
             ),
         )
         if not new:

@@ -8,6 +8,7 @@ from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import AuditEntry, ImportMapping, Result, ResultImport, Test
 from analyses.services.imports import import_mapping_create, results_import
 from tests.analyses.concurrency import race
+from tests.analyses.services.test_profiles import gc, gc_product  # noqa: F401  (fixtures)
 
 pytestmark = pytest.mark.django_db
 
@@ -120,3 +121,46 @@ def test_two_imports_of_one_file_at_once_enter_it_once(postgres, users, assigned
     assert not [outcome for outcome in outcomes if isinstance(outcome, Exception)]
     assert sorted(outcome.replayed for outcome in outcomes) == [False, True, True]
     assert Result.objects.count() == 4 and ResultImport.objects.count() == 1
+
+
+# --- the GC layout: a sample's peaks become one profile, entered on each of its fac tests ---------
+
+GC_COLUMNS = {"sample": "Sample", "component": "Peak", "area": "Area"}
+
+
+def _gc_file(run: dict, label: str = "L-GCI-A") -> bytes:
+    return ("Sample,Peak,Area\n" + "".join(f"{label},{name},{area}\n" for name, area in run.items())).encode()
+
+
+@pytest.fixture
+def gc_tests(users, gc, gc_product):
+    from tests.analyses.services.test_profiles import _tests  # noqa: PLC0415
+
+    return _tests(users, gc_product, "L-GCI")
+
+
+def test_a_gc_file_enters_one_profile_on_every_component_test_of_the_sample(users, gc_tests):
+    from tests.analyses.services.test_profiles import SOYBEAN_RUN
+
+    mapping = import_mapping_create(users["manager"], name="gc", layout="gc", columns=GC_COLUMNS,
+                                    default_instruments=["BAL-BENCH", "GC-BENCH"])
+    outcome = results_import(users["analyst"], content=_gc_file(SOYBEAN_RUN), file_name="gc-run.csv", mapping=mapping)
+    assert outcome.result_import.rows == len(SOYBEAN_RUN)
+    # three specification lines (fac:C18:2, fac:iv_calc, fac:C16:0): three tests, one result each, same run
+    results = list(Result.objects.filter(pk__in=outcome.result_import.result_ids))
+    assert sorted(r.test.method_code for r in results) == ["fac:C16:0", "fac:C18:2", "fac:iv_calc"]
+    linoleic = next(r for r in results if r.test.method_code == "fac:C18:2")
+    assert linoleic.components["C18:2"]["exact"] == "54"  # 54.0 of 100.0 identified area units
+
+
+def test_a_bad_peak_is_named_by_its_own_row(users, gc_tests):
+    mapping = import_mapping_create(users["manager"], name="gc", layout="gc", columns=GC_COLUMNS,
+                                    default_instruments=["BAL-BENCH", "GC-BENCH"])
+    content = _gc_file({"C16:0": "10.5", "C18:1": "23.0", "C18:2": "lots", "C18:3": "7.5"})
+    with pytest.raises(InvalidInput) as problem:
+        results_import(users["analyst"], content=content, file_name="gc-run.csv", mapping=mapping)
+    assert problem.value.detail.startswith("row 4, column Area: "), problem.value.detail
+    twice = _gc_file({"C16:0": "10.5"}) + b"L-GCI-A,C16:0,10.6\n"
+    with pytest.raises(InvalidInput, match=r"row 3, column Peak: C16:0 of sample 'L-GCI-A' is already in row 2"):
+        results_import(users["analyst"], content=twice, file_name="gc-run.csv", mapping=mapping)
+    assert not Result.objects.exists()
