@@ -324,6 +324,8 @@ EMAIL_BACKEND = os.environ.get("EMAIL_BACKEND", "django.core.mail.backends.conso
 DEFAULT_FROM_EMAIL = os.environ.get("DEFAULT_FROM_EMAIL", "oleotrace@localhost")
 ALERT_EMAIL_RECIPIENTS = [a for a in os.environ.get("ALERT_EMAIL_RECIPIENTS", "qa@localhost").split(",") if a]
 ALERT_WEBHOOK_URL = os.environ.get("ALERT_WEBHOOK_URL", "")
+# Where readers reach this service: alert texts, e-mails and webhooks link to charts under it.
+OLEOTRACE_BASE_URL = os.environ.get("OLEOTRACE_BASE_URL", "http://localhost:8000").rstrip("/")
 
 # One format on standard error for every line, tagged with the request id ("-" outside a request).
 # Django sends unhandled exceptions (django.request, ERROR, with the traceback) only to mail_admins

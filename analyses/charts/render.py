@@ -9,12 +9,21 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
 FIGURE_SIZE = (8.0, 4.5)  # inches
+NOTE_LINE_HEIGHT = 0.17  # inches per line of notes below a chart
 DPI = 100
 
 
-def new_figure() -> Figure:
-    figure = Figure(figsize=FIGURE_SIZE, dpi=DPI, layout="constrained")
+def new_figure(*, notes: int | None = None) -> Figure:
+    """A figure on the Agg canvas. With ``notes`` (a number of text lines) it holds two
+    axes: the chart, and below it a text-only strip tall enough for that many lines."""
+    if notes is None:
+        figure = Figure(figsize=FIGURE_SIZE, dpi=DPI, layout="constrained")
+        FigureCanvasAgg(figure)
+        return figure
+    strip = NOTE_LINE_HEIGHT * (notes + 1) if notes else 0.05
+    figure = Figure(figsize=(FIGURE_SIZE[0], FIGURE_SIZE[1] + strip), dpi=DPI, layout="constrained")
     FigureCanvasAgg(figure)
+    figure.subplots(2, 1, height_ratios=[FIGURE_SIZE[1], strip])
     return figure
 
 

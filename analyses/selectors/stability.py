@@ -8,7 +8,7 @@ from django.db.models import QuerySet
 
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import PullPoint, StabilityStudy, StudyAttribute, Test, TestState
-from plugins.registry import get_registry
+from analyses.selectors.series_names import method_names
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -109,7 +109,7 @@ def study_list() -> QuerySet[StabilityStudy]:
 def study_get(study_id: int | str) -> StabilityStudy:
     """The study, or NotFound (ids beyond a 64-bit key cannot exist)."""
     study_id = int(study_id)
-    study = StabilityStudy.objects.filter(pk=study_id).first() if 0 < study_id < 2**63 else None
+    study = StabilityStudy.objects.filter(pk=study_id).select_related("product").first() if 0 < study_id < 2**63 else None
     if study is None:
         raise NotFound(f"stability study {study_id} not found")
     return study
@@ -140,8 +140,11 @@ def study_plot(study_id: int, method_code: str, condition_id: int) -> dict[str, 
         rows["months"], rows["value"], limit, limit_side=side, lots=rows["lot"].tolist(),
         extrapolation_factor=branch.factor or 1.0, extrapolation_months=branch.months_beyond,
     )
+    title, unit = method_names(method_code)
+    lots = sorted(set(rows["lot"].tolist())) or [lot.code for lot in study.lots.all()]
     return stability_plot_data(
         rows["months"].tolist(), rows["value"].tolist(), result, lots=rows["lot"].tolist(),
-        title=f"{study.code}: {method_code} at {condition}",
-        unit=get_registry().unit_of(method_code) if method_code in get_registry() else "",
+        title=f"Stability: {title}{f', {unit}' if unit else ''} at {condition}",
+        subtitle=f"product {study.product.code} {study.product.name} · lot{'s' if len(lots) > 1 else ''} {', '.join(lots)} · study {study.code}",
+        unit=unit,
     )

@@ -23,6 +23,7 @@ from django.utils import timezone
 from analyses.audit import audit_append
 from analyses.models import Alert, AuditAction
 from analyses.services.access import fetch
+from analyses.services.alert_texts import alert_email
 from analyses.services.alerts import alert_payload
 from analyses.services.system import scheduler_actor
 from labcore.metrics import ALERT_DELIVERIES, count_on_commit
@@ -82,9 +83,10 @@ def alert_notify(alert_id: int) -> DeliveryOutcome:
     changes: dict[str, list[Any]] = {}
     if _email_owed(alert):
         try:
+            subject, body = alert_email(Alert.objects.select_related("product", "lot", "study").get(pk=alert.pk))
             send_mail(
-                subject=f"[oleotrace] {alert.severity}: {alert.rule} on {alert.series_key}",
-                message=alert.message,
+                subject=subject,
+                message=body,
                 from_email=settings.DEFAULT_FROM_EMAIL,
                 recipient_list=settings.ALERT_EMAIL_RECIPIENTS,
             )

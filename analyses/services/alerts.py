@@ -13,6 +13,7 @@ from analyses.audit import audit_append, created
 from analyses.errors import Conflict
 from analyses.models import Alert, AlertSeverity, AlertState, AuditAction
 from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.alert_texts import alert_chart_url, alert_rule_in_words
 from analyses.services.background import enqueue_on_commit
 from analyses.services.system import scheduler_actor
 from labcore.metrics import ALERTS_RAISED, count_on_commit
@@ -89,13 +90,20 @@ def alert_acknowledge(actor: Actor, alert: Alert | int, *, comment: str) -> Aler
 
 
 def alert_payload(alert: Alert) -> dict[str, Any]:
+    """The webhook's body: the alert, its rule in words and the link to its chart."""
     return {
         "id": alert.pk,
         "source": alert.source,
         "rule": alert.rule,
+        "rule_in_words": alert_rule_in_words(alert),
         "severity": alert.severity,
         "series": alert.series_key,
+        "method": alert.method_code or None,
+        "product": alert.product.code if alert.product_id else None,
+        "lot": alert.lot.code if alert.lot_id else None,
+        "study": alert.study.code if alert.study_id else None,
         "message": alert.message,
+        "chart_url": alert_chart_url(alert),
         "points": alert.points,
         "raised_at": alert.raised_at.isoformat(),
     }

@@ -1,5 +1,5 @@
 """The demo's monitoring part (fixtures/demo_monitoring.json): a QC reference-oil series
-that drifts, and a stability study with accelerated conditions, all entered through the
+that drifts, a production series whose acid value steps up, and a stability study with accelerated conditions, all entered through the
 services as the lab would. INVENTED DEMO DATA: values come from stated rules, not a lab.
 """
 from __future__ import annotations
@@ -86,6 +86,37 @@ def _qc_series(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log, trac
             log(f"  QC reference lot {lot.code}: {index + 1}/{len(values)} check samples tested")
 
 
+def production_values(spec: Mapping[str, Any]) -> list[float]:
+    """Routine results in control, then shifted up by ``shift_sd`` s (scatter kept within ±1.8 s)."""
+    rng = np.random.default_rng(spec["seed"])
+    n = spec["in_control_points"] + spec["shifted_points"]
+    scatter = spec["sd"] * np.clip(rng.standard_normal(n), -1.8, 1.8)
+    shift = np.where(np.arange(n) >= spec["in_control_points"], spec["shift_sd"] * spec["sd"], 0.0)
+    return [round(float(v), 4) for v in spec["mean"] + shift + scatter]
+
+
+def _production_series(spec: Mapping[str, Any], users: Mapping[str, Any], log: Log, trace: Trace) -> None:
+    """One production lot a day with one routine sample tested for ``method``: the demo's
+    production chart (its specification limit drawn) and its Nelson alert."""
+    values = production_values(spec)
+    first = f"{spec['lot_prefix']}01"
+    if Lot.objects.filter(code=first).exists():
+        log(f"  production lots {first}...: exist, skipped")
+        return
+    product = Product.objects.get(code=spec["product"])
+    for index, value in enumerate(values):
+        # a day apart, ending a week before the demo's own lots are received
+        received = timezone.now() - dt.timedelta(days=len(values) - index + 7)
+        lot = lot_create(users["manager"], code=f"{spec['lot_prefix']}{index + 1:02d}", product=product, origin="production",
+                         container_ref="Finished-oil tank FT-2")
+        sample = sample_register(users["manager"], lot, label=f"{lot.code}-01", registered_at=received)
+        sample_receive(users["manager"], sample, condition="sealed bottle", storage_place="sample store",
+                       received_at=received, methods=[spec["method"]])
+        _complete(users, sample.tests.get(), value, trace)
+        if (index + 1) % 10 == 0:
+            log(f"  production lots of {product.code}: {index + 1}/{len(values)} tested for {spec['method']}")
+
+
 def pull_value(kinetics: Mapping[str, Any], method: str, celsius: float, months: float, index: int) -> float:
     """Zero-order growth with an Arrhenius rate: k(T) = k25 exp(-Ea/R (1/T - 1/298.15)),
     plus an alternating scatter so the regressions have a residual."""
@@ -129,6 +160,8 @@ def demo_monitoring_load(
     log = log or (lambda line: None)
     data = json.loads(Path(path or MONITORING_FILE).read_text(encoding="utf-8"))
     _qc_series(data["qc_series"], users, log, trace)
+    if "production_series" in data:
+        _production_series(data["production_series"], users, log, trace)
     _stability_study(data["stability_study"], users, log, trace)
     scan = trend_scan()
     log(f"  trend scan: {scan.results_scanned} results in {scan.series_scanned} series, {scan.alerts_raised} new alerts")

@@ -37,6 +37,7 @@ from analyses.models import (
 )
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.uniqueness import UniqueKey
+from analyses.services.alert_texts import stability_alert_message
 from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.stability_evaluation import study_evaluation
@@ -306,7 +307,7 @@ def _overdue_flag(today: dt.date) -> tuple[int, int]:
         PullPoint.objects.filter(study__state=StudyState.RUNNING, overdue_since__isnull=True, due_on__lt=cutoff)
         .annotate(open_tests=Count("sample__tests", filter=~Q(sample__tests__state__in=(TestState.ACCEPTED, TestState.CANCELLED, TestState.INVALIDATED))))
         .filter(unfinished)
-        .select_related("study", "condition", "lot")
+        .select_related("study__product", "condition", "lot")
     )
     if not overdue:
         return 0, 0
@@ -320,8 +321,10 @@ def _overdue_flag(today: dt.date) -> tuple[int, int]:
             AlertDraft(
                 source=AlertSource.STABILITY, rule="pull_overdue", severity=AlertSeverity.WARNING,
                 series_key=f"stability:{pull.study.code}", episode_key=f"stability:{pull.study.code}|pull_overdue|{pull.pk}",
-                message=f"Stability pull {pull.offset} {pull.offset_unit} of lot {pull.lot.code} at {pull.condition} "
-                f"was due on {pull.due_on} and is not finished",
+                message=stability_alert_message(
+                    "pull_overdue", pull.study, "", f"the {pull.offset} {pull.offset_unit} pull was due on {pull.due_on} and is not finished",
+                    lot=pull.lot.code, condition=pull.condition,
+                ),
                 points=[{"pull_point": pull.pk, "due_on": pull.due_on.isoformat()}],
                 product_id=pull.study.product_id, lot_id=pull.lot_id, study_id=pull.study_id,
             )

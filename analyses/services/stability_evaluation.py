@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 from analyses.errors import InvalidInput
 from analyses.models import AlertSource, StabilityStudy
 from analyses.selectors.stability import study_extrapolation, study_results
+from analyses.services.alert_texts import stability_alert_message
 from analyses.services.alerts import AlertDraft
 from plugins.contract import float_as_decimal
 
@@ -176,8 +177,10 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
             drafts.append(AlertDraft(
                 source=AlertSource.STABILITY, rule="shelf_life_short", series_key=f"stability:{study.code}",
                 episode_key=f"stability:{study.code}|shelf_life_short|{attribute.method_code}",
-                message=f"Study {study.code}: predicted shelf life for {attribute.method_code} is {predicted:.1f} months "
-                f"({basis}), short of the claimed {study.claimed_shelf_life_months:g} months",
+                message=stability_alert_message(
+                    "shelf_life_short", study, attribute.method_code,
+                    f"predicted shelf life {predicted:.1f} months ({basis}), short of the claimed {study.claimed_shelf_life_months:g} months",
+                ),
                 points=[{"predicted_months": predicted, "claimed_months": study.claimed_shelf_life_months}],
                 method_code=attribute.method_code, product_id=study.product_id, study_id=study.pk,
             ))
@@ -186,8 +189,11 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
                 drafts.append(AlertDraft(
                     source=AlertSource.STABILITY, rule="pull_out_of_limit", series_key=f"stability:{study.code}",
                     episode_key=f"stability:{study.code}|pull_out_of_limit|test{row.test_id}",
-                    message=f"Study {study.code}: {attribute.method_code} = {row.value:.4g} on lot {row.lot} at "
-                    f"{row.temperature_c:g} °C ({row.light}), {row.months:.2f} months, is beyond its limit {limit:g}",
+                    message=stability_alert_message(
+                        "pull_out_of_limit", study, attribute.method_code,
+                        f"{row.value:.4g} after {row.months:.2f} months is beyond the limit {limit:g}",
+                        lot=row.lot, condition=next(c for c in conditions if c.pk == row.condition_id),
+                    ),
                     points=[{"test_id": int(row.test_id), "value": float(row.value), "months": float(row.months)}],
                     method_code=attribute.method_code, product_id=study.product_id, study_id=study.pk,
                 ))

@@ -21,6 +21,8 @@ from analyses.errors import InvalidInput
 from analyses.models import Alert, AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind, OOS_VERDICTS
 from analyses.selectors.trend_series import qc_runs_key, trend_series_frame
 from analyses.services.access import Actor, require_permission
+from analyses.selectors.series_names import point_names, series_names
+from analyses.services.alert_texts import across_materials_message, trend_alert_message
 from analyses.services.alerts import AlertDraft, alerts_raise
 from analyses.services.system import scheduler_actor
 from analyses.services.uniqueness import insert_or_fetch
@@ -193,15 +195,19 @@ def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:
     if episodes.empty:
         return []
     by_series = {key: group.reset_index(drop=True) for key, group in part.groupby("series_id", sort=False)}
-    drafts = []
+    involved_of = []
     for episode in episodes.itertuples(index=False):
-        series = by_series[episode.series_id]
-        involved = series.iloc[list(episode.points)]
+        involved = by_series[episode.series_id].iloc[list(episode.points)]
         if episode.rule == "out_of_trend":
             # an out-of-specification result is already an OOS investigation, not also out-of-trend
             involved = involved[~involved["verdict"].isin(OOS_VERDICTS)]
-            if involved.empty:
-                continue
+        if not involved.empty:
+            involved_of.append((episode, involved))
+    # the names in the texts: two queries for every series and point of this scan
+    names = series_names({episode.series_id for episode, _ in involved_of})
+    points = point_names(int(t) for _, involved in involved_of for t in involved["test_id"])
+    drafts = []
+    for episode, involved in involved_of:
         rule = RULES[episode.rule]
         first_test = int(involved["test_id"].iloc[0])
         kind, method_code = _parse_key(episode.series_id)
@@ -213,7 +219,10 @@ def _drafts(part: pd.DataFrame, episodes: pd.DataFrame) -> list[AlertDraft]:
                 severity=AlertSeverity.WARNING if rule.warning_only else AlertSeverity.ALARM,
                 series_key=episode.series_id,
                 episode_key=f"{episode.series_id}|{episode.rule}|{episode.side}|test{first_test}",
-                message=f"{rule.title} on series {episode.series_id}: {len(involved)} point(s) from test {first_test}",
+                message=trend_alert_message(
+                    episode.rule, episode.side, names[episode.series_id],
+                    [points[int(t)] for t in involved["test_id"]], [r.isoformat() for r in involved["received_at"]],
+                ),
                 points=[_point(row) for row in involved.itertuples(index=False)],
                 method_code=method_code,
                 product_id=int(first_row["product_id"]),
@@ -232,13 +241,17 @@ def _across_material_drafts(part: pd.DataFrame, limits: pd.DataFrame, summary: S
     runs = ordered[["series_id", "sequence", "value", "run_id"]].assign(run_group=ordered["method_code"])
     episodes = across_materials_scan(runs, limits.reset_index())
     summary.episodes += len(episodes)
+    if episodes.empty:
+        return []
     by_method = {code: group.reset_index(drop=True) for code, group in ordered.groupby("method_code", sort=False)}
+    involved_of = [(episode, by_method[episode.series_id].iloc[list(episode.points)]) for episode in episodes.itertuples(index=False)]
+    names = series_names({key for _, involved in involved_of for key in involved["series_id"]})
+    points = point_names(int(t) for _, involved in involved_of for t in involved["test_id"])
     drafts = []
-    for episode in episodes.itertuples(index=False):
-        involved = by_method[episode.series_id].iloc[list(episode.points)]
+    for episode, involved in involved_of:
         rule, key = RULES[episode.rule], qc_runs_key(episode.series_id)
         first_test = int(involved["test_id"].iloc[0])
-        materials = ", ".join(sorted(involved["series_id"].unique()))
+        materials = [names[series] for series in sorted(involved["series_id"].unique())]
         drafts.append(
             AlertDraft(
                 source=AlertSource.TREND,
@@ -246,7 +259,10 @@ def _across_material_drafts(part: pd.DataFrame, limits: pd.DataFrame, summary: S
                 severity=AlertSeverity.WARNING if rule.warning_only else AlertSeverity.ALARM,
                 series_key=key,
                 episode_key=f"{key}|{episode.rule}|{episode.side}|test{first_test}",
-                message=f"{rule.title} on {key}: {len(involved)} control(s) of {materials} from test {first_test}",
+                message=across_materials_message(
+                    episode.rule, episode.side, str(episode.series_id), materials,
+                    [points[int(t)] for t in involved["test_id"]], [r.isoformat() for r in involved["received_at"]],
+                ),
                 points=[{**_point(row), "series_key": row.series_id} for row in involved.itertuples(index=False)],
                 method_code=str(episode.series_id),
             )

@@ -1,9 +1,11 @@
 """Alerts and control baselines."""
 from __future__ import annotations
 
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, enum_field_class, username_field
+from analyses.services.alert_texts import alert_chart_url, alert_rule_in_words
 from analyses.models import Alert, AlertSeverity, AlertSource, AlertState, BaselineSource, ControlBaseline, SeriesKind
 
 AlertStateField = enum_field_class("AlertStateEnum", AlertState.choices)
@@ -21,15 +23,25 @@ class AlertSerializer(serializers.ModelSerializer):
     product_code = serializers.CharField(source="product.code", read_only=True, allow_null=True, default=None)
     lot_code = serializers.CharField(source="lot.code", read_only=True, allow_null=True, default=None)
     study_code = serializers.CharField(source="study.code", read_only=True, allow_null=True, default=None)
+    rule_in_words = serializers.SerializerMethodField(help_text='The rule that fired, in words, e.g. "10-x: 10 consecutive results above the mean"')
+    chart_url = serializers.SerializerMethodField(help_text="Absolute link to the PNG chart the alert is about, or null")
 
     class Meta:
         model = Alert
         fields = [
-            "id", "source", "rule", "severity", "series_key", "message", "points", "method_code", "product",
+            "id", "source", "rule", "rule_in_words", "severity", "series_key", "message", "chart_url", "points", "method_code", "product",
             "product_code", "lot", "lot_code", "study", "study_code", "raised_at", "state", "acknowledged_by",
             "acknowledged_at", "acknowledgement", "emailed_at", "webhook_delivered_at", "webhook_attempts",
         ]
         read_only_fields = fields
+
+
+    def get_rule_in_words(self, alert: Alert) -> str:
+        return alert_rule_in_words(alert)
+
+    @extend_schema_field(serializers.URLField(allow_null=True))
+    def get_chart_url(self, alert: Alert) -> str | None:
+        return alert_chart_url(alert)
 
 
 class AcknowledgeSerializer(StrictSerializer):
