@@ -55,10 +55,11 @@ def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[st
 def _decision_warnings(test: Test, mean: Any) -> list[str]:
     """A conditional pass (ILAC G8 non-binary statements) is no OOS; it releases, and is said."""
     from analyses.services.uncertainty import mean_expanded_uncertainty
+    from analyses.services.pull_judging import study_attribute_of
     from analyses.services.verdicts import guard_band_for, line_verdict
 
     line = test.specification_line
-    if line.decision_rule != DecisionRule.NON_BINARY:
+    if line.decision_rule != DecisionRule.NON_BINARY or study_attribute_of(test) is not None:  # a pull: the study's limits
         return []
     expanded = mean_expanded_uncertainty(test)
     if line_verdict(mean, line, expanded) != Verdict.CONDITIONAL_PASS:
