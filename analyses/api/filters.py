@@ -9,6 +9,7 @@ from analyses.roles import ROLES
 from analyses.selectors.users import users_holding
 from analyses.models import (
     Investigation,
+    InvestigationKind,
     InvestigationState,
     Lot,
     LotOrigin,
@@ -108,6 +109,7 @@ class TestFilter(filters.FilterSet):
 
 class InvestigationFilter(filters.FilterSet):
     state = filters.ChoiceFilter(choices=InvestigationState.choices)
+    kind = filters.ChoiceFilter(choices=InvestigationKind.choices, help_text="release or post_release")
     lot = filters.ModelChoiceFilter(queryset=_lots)
     product = filters.ModelChoiceFilter(field_name="lot__product", queryset=_products)
     method = filters.CharFilter(field_name="test__method_code", help_text="Method code, e.g. av")
@@ -117,7 +119,7 @@ class InvestigationFilter(filters.FilterSet):
 
     class Meta:
         model = Investigation
-        fields = ["state", "lot", "product", "method"]
+        fields = ["state", "kind", "lot", "product", "method"]
 
 
 class UserFilter(filters.FilterSet):

@@ -11,7 +11,7 @@ from analyses.models.instruments import (
     InstrumentKind,
     ResultInstrument,
 )
-from analyses.models.investigations import Conclusion, Investigation, InvestigationState
+from analyses.models.investigations import Conclusion, Investigation, InvestigationKind, InvestigationState
 from analyses.models.logins import LockoutScope, LoginLockout
 from analyses.models.lots import Lot, LotOrigin, LotState
 from analyses.models.products import Product
@@ -101,6 +101,7 @@ __all__ = [
     "Conclusion",
     "ImmutableRowError",
     "Investigation",
+    "InvestigationKind",
     "InvestigationState",
     "Lot",
     "LotOrigin",

@@ -33,6 +33,16 @@ class Lot(models.Model):
     decided_at = models.DateTimeField(null=True, blank=True)
     created_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+")
     created_at = models.DateTimeField()
+    # A hold notice on a released lot (a post-release investigation's outcome): the lot stays
+    # released, "released, under investigation", until QA lifts the notice.
+    hold_notice_reason = models.TextField(blank=True)
+    hold_notice_at = models.DateTimeField(null=True, blank=True)
+    hold_notice_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.PROTECT, related_name="+"
+    )
+    hold_notice_investigation = models.ForeignKey(
+        "analyses.Investigation", null=True, blank=True, on_delete=models.PROTECT, related_name="+"
+    )
 
     class Meta:
         ordering = ["-created_at", "-id"]
@@ -43,3 +53,13 @@ class Lot(models.Model):
 
     def __str__(self) -> str:
         return self.code
+
+    @property
+    def under_investigation(self) -> bool:
+        """Released with a hold notice standing."""
+        return self.state == LotState.RELEASED and self.hold_notice_at is not None
+
+    @property
+    def standing(self) -> str:
+        """The lot's state in words, with a standing hold notice: "released, under investigation"."""
+        return "released, under investigation" if self.under_investigation else self.state

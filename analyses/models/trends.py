@@ -41,6 +41,7 @@ class AlertSource(models.TextChoices):
     TREND = "trend", "Trend rule"
     STABILITY = "stability", "Stability study"
     TRACEABILITY = "traceability", "Reagent or instrument falling due"
+    POST_RELEASE = "post_release", "Finding on a released lot"
 
 
 class AlertSeverity(models.TextChoices):

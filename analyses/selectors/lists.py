@@ -14,7 +14,7 @@ def product_list() -> QuerySet[Product]:
 
 def lot_list(*, state: str | None = None, product=None, origin: str | None = None, code_contains: str | None = None) -> QuerySet[Lot]:
     """Lots, newest first, with product, decision maker and counts of samples and open investigations."""
-    queryset = Lot.objects.select_related("product", "created_by", "decided_by").annotate(
+    queryset = Lot.objects.select_related("product", "created_by", "decided_by", "hold_notice_by").annotate(
         sample_count=Count("samples", distinct=True),
         open_investigations=Count("investigations", filter=Q(investigations__state="open"), distinct=True),
     )

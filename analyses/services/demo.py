@@ -26,6 +26,7 @@ from analyses.services.demo_monitoring import demo_monitoring_load
 from analyses.services.emergency import superuser_flags_clear
 from analyses.services.investigations import investigation_close
 from analyses.services.lots import lot_create, lot_reject, lot_release
+from analyses.services.post_release import retain_tests_add
 from analyses.services.products import product_create
 from analyses.services.results import result_correct, result_record
 from analyses.services.review import test_accept, test_send_back
@@ -103,6 +104,14 @@ class _Lab:
         self.receive(sample, days_ago)
         self.complete(sample, product, failing=self.failing_method(product))
         return Investigation.objects.get(test__sample=sample, state="open")
+
+    def after_release(self, lot: Lot, product: str, spec: Mapping[str, Any]) -> Investigation | None:
+        """A retained sample of the released ``lot`` tested after release (issue 13); with
+        ``failing``, its result is out of specification and a post-release investigation opens."""
+        sample = Sample.objects.get(label=spec["sample"], lot=lot)
+        tests = retain_tests_add(self.manager, sample, methods=spec["methods"], reason=spec["reason"])
+        self.complete(sample, product, failing=spec.get("failing"))
+        return Investigation.objects.filter(test__in=tests, state="open").first()
 
     def run(self, scenario: str, sample: Sample, product: str, spec: Mapping[str, Any]) -> None:
         days = int(spec.get("received_days_ago", 0))
@@ -231,6 +240,9 @@ def _lots(data: Mapping[str, Any], lab: _Lab, summary: DemoSummary, log: Log) ->
             if entry.get("decision") == "release":
                 # signed as QA signs: with the demo user's password re-entered
                 lot_release(lab.users["qa"], lot, password=data["demo_password"])
+            finding = None
+            if entry.get("after_release"):
+                finding = lab.after_release(lot, entry["product"], entry["after_release"])
             elif entry.get("decision") == "reject":
                 lot_reject(
                     lab.users["qa"], lot, reason=entry.get("decision_reason", "rejected"), password=data["demo_password"]
@@ -239,6 +251,9 @@ def _lots(data: Mapping[str, Any], lab: _Lab, summary: DemoSummary, log: Log) ->
         summary.created["lots"] += 1
         scenarios = ", ".join(s["scenario"] for s in entry["samples"])
         log(f"  lot {lot.code} ({product.code}, {lot.origin}): created with samples [{scenarios}]; lot {lot.state}")
+        if finding is not None:
+            log(f"  lot {lot.code}: retained sample tested after release, out of specification: "
+                f"post-release investigation {finding.pk} open, lot still {lot.standing}")
 
 
 def demo_load(*, path: Path | str | None = None, log: Log | None = None, new_tokens: bool = False) -> DemoSummary:

@@ -6,6 +6,10 @@ lab_error  the accepted test is invalidated with its results (kept, marked inval
            and a retest is created: a NEW pending test on the same sample and
            specification line, with ``retest_of`` pointing at the invalidated one, for the
            manager to assign. The sample returns to in_testing.
+
+On a released lot, ``confirmed`` is refused (it would change nothing); such an
+investigation closes with ``no_action`` or ``hold_notice`` (``services/post_release.py``).
+Every close records in ``effect`` what it changed.
 """
 from __future__ import annotations
 
@@ -31,6 +35,13 @@ from analyses.models import (
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.cross_checks import cross_checks_refresh_partners
 from analyses.services.lots import lot_reject_locked
+from analyses.services.post_release import (
+    POST_RELEASE_CONCLUSIONS,
+    clean_hold_reason,
+    confirmed_refusal,
+    investigation_record_close,
+    post_release_close,
+)
 from analyses.services.samples import TEST_FIELDS
 from analyses.services.transitions import FINAL_SAMPLE_STATES, lot_takes_work, record_test_move, sample_sync
 
@@ -66,14 +77,19 @@ def _retest(actor: Actor, test: Test, findings: str) -> Test:
 
 
 def investigation_close(
-    actor: Actor, investigation: Investigation | int, *, conclusion: str, findings: str
+    actor: Actor, investigation: Investigation | int, *, conclusion: str, findings: str, hold_reason: str = ""
 ) -> Investigation:
-    """QA closes an open investigation with ``conclusion`` ("confirmed" or "lab_error") and
-    mandatory ``findings``. Needs ``close_investigation`` (QA, admin)."""
+    """QA closes an open investigation with ``conclusion`` and mandatory ``findings``:
+    "confirmed" or "lab_error" (an open lot), "no_action" or "hold_notice" with
+    ``hold_reason`` (a released lot: ``post_release_close``). ``effect`` on the answer says
+    what it changed. Needs ``close_investigation`` (QA, admin)."""
     require_permission(actor, "close_investigation", "close OOS investigations")
     if conclusion not in Conclusion.values:
         raise InvalidInput.for_field("conclusion", f"must be one of {', '.join(Conclusion.values)}")
+    if conclusion in POST_RELEASE_CONCLUSIONS:
+        return post_release_close(actor, investigation, conclusion=conclusion, findings=findings, hold_reason=hold_reason)
     findings = required_text(findings, "findings")
+    clean_hold_reason(conclusion, hold_reason)
     pk = investigation.pk if isinstance(investigation, Investigation) else investigation
     lot_id = Investigation.objects.filter(pk=pk).values_list("lot_id", flat=True).first()
     if lot_id is None:
@@ -83,6 +99,8 @@ def investigation_close(
         investigation = fetch(Investigation, pk, lock=True)
         if investigation.state != InvestigationState.OPEN:
             raise Conflict(f"investigation {investigation.pk} is already closed ({investigation.conclusion})")
+        if conclusion == Conclusion.CONFIRMED and lot.state == LotState.RELEASED:
+            raise confirmed_refusal(lot)
         test = Test.objects.select_related("sample", "specification_line").get(pk=investigation.test_id)
         retest = None
         if conclusion == Conclusion.LAB_ERROR:
@@ -93,22 +111,14 @@ def investigation_close(
                 raise Conflict(f"sample {test.sample.label} is {test.sample.state}; a retest is no longer possible")
             Test.objects.select_for_update().get(pk=test.pk)
             retest = _retest(actor, test, findings)
-        investigation.state = InvestigationState.CLOSED
-        investigation.conclusion = conclusion
-        investigation.findings = findings
-        investigation.closed_by = actor
-        investigation.closed_at = timezone.now()
-        investigation.retest = retest
-        investigation.save(update_fields=["state", "conclusion", "findings", "closed_by", "closed_at", "retest"])
-        audit_append(
-            actor, AuditAction.TRANSITION, investigation,
-            {
-                "state": [InvestigationState.OPEN, InvestigationState.CLOSED],
-                "conclusion": ["", conclusion],
-                "retest": [None, retest.pk if retest else None],
-            },
-            reason=findings, lot_ref=lot.pk, sample_ref=test.sample_id,
-        )
+        if retest is not None:
+            effect = f"test {test.pk} invalidated; retest {retest.pk} created on sample {test.sample.label}"
+        elif lot.state == LotState.OPEN:
+            effect = f"lot {lot.code} is now rejected"
+        else:  # a lot rejected meanwhile: the conclusion is recorded, the lot is as it was
+            effect = f"no change to the lot: {lot.code} was already {lot.state}"
+        investigation.test = test
+        investigation_record_close(actor, investigation, conclusion=conclusion, findings=findings, effect=effect, retest=retest)
         if conclusion == Conclusion.CONFIRMED and lot.state == LotState.OPEN:
             lot_reject_locked(actor, lot, f"OOS confirmed by investigation {investigation.pk}: {findings}")
         elif retest is not None:

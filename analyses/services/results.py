@@ -60,7 +60,7 @@ from analyses.services.result_trace import (
 )
 from analyses.services.transitions import record_test_move, sample_require_workable
 from analyses.services.uncertainty import result_uncertainty_record
-from analyses.services.verdicts import line_verdict
+from analyses.services.pull_judging import test_verdict
 from labcore.metrics import RESULTS_ENTERED, count_on_commit
 from plugins.contract import (
     MethodInputError,
@@ -185,7 +185,7 @@ def _aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: st
         "value_exact": str(mean),
         "reported": reported,
         "unit": unit,
-        "verdict": line_verdict(mean, test.specification_line),
+        "verdict": test_verdict(mean, test),
         "duplicate_check": json_safe(dataclasses.asdict(check)),
     }
 
@@ -233,7 +233,7 @@ def _result_fields(
         "method_code": outcome.code,
         "method_version": outcome.version,
         "components": outcome.components_as_dict(),
-        "verdict": line_verdict(outcome.judged, test.specification_line),
+        "verdict": test_verdict(outcome.judged, test),
         "duplicate_check": aggregate["duplicate_check"] if aggregate else None,
         "entered_by": actor,
         "entered_at": timezone.now(),

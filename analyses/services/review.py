@@ -2,7 +2,9 @@
 
 Four-eyes: nobody who entered a current result of a test may accept it or send it back,
 admins included. An accepted test that is out of specification opens an OOS
-investigation on the lot, which blocks release until QA closes it.
+investigation on the lot, which blocks release until QA closes it; on a released lot it
+opens a post-release investigation instead (``post_release``). A stability pull beyond its
+study's limits raises the study's alert and opens no investigation (``pull_judging``).
 """
 from __future__ import annotations
 
@@ -11,9 +13,11 @@ from django.utils import timezone
 
 from analyses.audit import audit_append, created
 from analyses.errors import Conflict, NotAllowed
-from analyses.models import OOS_VERDICTS, AuditAction, Investigation, ResultStatus, Test, TestState
+from analyses.models import OOS_VERDICTS, AuditAction, Investigation, LotState, ResultStatus, Test, TestState
 from analyses.services.access import Actor, actor_name, require_permission, required_text
 from analyses.services.follow_up import test_accepted_follow_up
+from analyses.services.post_release import post_release_investigation_open
+from analyses.services.pull_judging import pull_failure_alert, study_attribute_of
 from analyses.services.results import AGGREGATE_FIELDS, lock_test_row, set_test_aggregate
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
 from labcore.metrics import OOS_OPENED, count_on_commit
@@ -39,7 +43,8 @@ def _reviewable(actor: Actor, test: Test) -> None:
 def test_accept(actor: Actor, test: Test | int, *, note: str = "") -> Test:
     """Accept a test whose replicates are all entered. Conflict when the duplicates do not
     agree within the method's repeatability (send it back instead). Out of specification:
-    an investigation is opened. Needs ``review_test`` (analyst, lab manager, QA, admin)."""
+    an investigation is opened (post-release on a released lot); a stability pull beyond its
+    study's limits raises the study's alert instead. Needs ``review_test`` (analyst, lab manager, QA, admin)."""
     require_permission(actor, "review_test", "review tests")
     with transaction.atomic():
         test = lock_test_row(test)
@@ -55,7 +60,11 @@ def test_accept(actor: Actor, test: Test | int, *, note: str = "") -> Test:
         test.reviewed_at = timezone.now()
         test.review_note = (note or "").strip()
         test.save(update_fields=["state", "reviewed_by", "reviewed_at", "review_note"])
-        if test.verdict in OOS_VERDICTS:  # a conditional fail is an OOS too (ILAC G8 non-binary)
+        if test.verdict in OOS_VERDICTS and study_attribute_of(test) is not None:
+            pull_failure_alert(actor, test)  # judged against its study, which it fails: no release OOS
+        elif test.verdict in OOS_VERDICTS and test.sample.lot.state == LotState.RELEASED:
+            post_release_investigation_open(actor, test)
+        elif test.verdict in OOS_VERDICTS:  # a conditional fail is an OOS too (ILAC G8 non-binary)
             investigation = Investigation.objects.create(
                 lot_id=test.sample.lot_id, test=test, opened_by=actor, opened_at=timezone.now()
             )

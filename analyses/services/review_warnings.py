@@ -74,10 +74,11 @@ def _profile_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
 def _decision_warnings(test: Test, mean: Any) -> list[str]:
     """A conditional pass (ILAC G8 non-binary statements) is no OOS; it releases, and is said."""
     from analyses.services.uncertainty import mean_expanded_uncertainty
+    from analyses.services.pull_judging import study_attribute_of
     from analyses.services.verdicts import guard_band_for, line_verdict
 
     line = test.specification_line
-    if line.decision_rule != DecisionRule.NON_BINARY:
+    if line.decision_rule != DecisionRule.NON_BINARY or study_attribute_of(test) is not None:  # a pull: the study's limits
         return []
     expanded = mean_expanded_uncertainty(test)
     if line_verdict(mean, line, expanded) != Verdict.CONDITIONAL_PASS:

@@ -32,7 +32,7 @@ from analyses.models import (
 )
 from analyses.services.result_trace import TITRANT_INPUT, stored_inputs
 from analyses.services.review_warnings import line_inputs
-from analyses.services.verdicts import line_verdict
+from analyses.services.pull_judging import test_verdict
 from analyses.traceability.standardisation import tolerance_as_u, weighing_by_difference_u
 from plugins.contract import MethodInputError, MethodPlugin, QuantityInput, split_parameter
 from plugins.default_budget import DefaultBudget
@@ -154,15 +154,14 @@ def result_uncertainty_record(result: Result, aggregate: dict[str, Any] | None) 
     with ``aggregate`` (the test is complete), store the mean's budget and judge the mean too
     (``aggregate["verdict"]`` is replaced in place). Runs in the caller's transaction; each
     stored U is audited, under the user who entered the result."""
-    test = result.test
-    line = test.specification_line
+    test = result.test  # a stability pull is judged against its study's limits (pull_judging)
     refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
     budget = budget_of(result)
     if budget is None:
         return
     row = ResultUncertainty.objects.create(result=result, **_stored(budget))
     audit_append(result.entered_by, AuditAction.CREATE, row, created(row, AUDITED_FIELDS + ("result",)), **refs)
-    verdict = line_verdict(Decimal(result.value_exact), line, budget.expanded)
+    verdict = test_verdict(Decimal(result.value_exact), test, budget.expanded)
     if verdict != result.verdict:
         result.verdict = verdict
         result.save(update_fields=["verdict"])
@@ -187,7 +186,7 @@ def result_uncertainty_record(result: Result, aggregate: dict[str, Any] | None) 
         result.entered_by, AuditAction.CREATE if before is None else AuditAction.CHANGE, row, changes,
         reason="the mean of the current replicates", **refs,
     )
-    aggregate["verdict"] = line_verdict(Decimal(aggregate["value_exact"]), line, mean.expanded)
+    aggregate["verdict"] = test_verdict(Decimal(aggregate["value_exact"]), test, mean.expanded)
 
 
 def _budget_dict(result: Result) -> dict[str, Any] | None:

@@ -20,15 +20,32 @@ class LotSerializer(serializers.ModelSerializer):
     open_investigations = serializers.IntegerField(
         read_only=True, allow_null=True, default=None, help_text="In lists; null in write responses"
     )
+    standing = serializers.CharField(
+        read_only=True,
+        help_text='The state in words, with a standing hold notice: "released, under investigation"',
+    )
+    under_investigation = serializers.BooleanField(
+        read_only=True, help_text="Released with a hold notice from a post-release investigation standing",
+    )
+    hold_notice_reason = serializers.CharField(
+        read_only=True, allow_null=True, help_text="Why the lot is held; null without a hold notice",
+    )
+    hold_notice_by = username_field("hold_notice_by", help_text="Who issued the hold notice")
 
     class Meta:
         model = Lot
         fields = [
             "id", "code", "product", "product_code", "origin", "supplier", "customer", "container_ref", "quantity_kg",
-            "produced_on", "state", "decision_reason", "decided_by", "decided_at", "created_by", "created_at",
-            "sample_count", "open_investigations",
+            "produced_on", "state", "standing", "decision_reason", "decided_by", "decided_at", "created_by", "created_at",
+            "sample_count", "open_investigations", "under_investigation", "hold_notice_reason", "hold_notice_at",
+            "hold_notice_by", "hold_notice_investigation",
         ]
         read_only_fields = fields
+
+    def to_representation(self, instance):
+        data = super().to_representation(instance)
+        data["hold_notice_reason"] = data["hold_notice_reason"] or None  # no notice: null
+        return data
 
 
 class LotCreateSerializer(StrictSerializer):

@@ -57,3 +57,13 @@ class SampleReceiveSerializer(StrictSerializer):
     due_on = serializers.DateField(
         required=False, allow_null=True, help_text="Default: receipt date + each line's turnaround days"
     )
+
+
+class RetainTestsSerializer(StrictSerializer):
+    """Tests to order on a retained sample of a released lot, and why."""
+
+    methods = serializers.ListField(
+        child=TextField(max_length=40), allow_empty=False,
+        help_text="Method codes, e.g. [\"av\", \"pv\"]; each needs a line in the specification the lot was released against",
+    )
+    reason = TextField(help_text="Why the retained sample is tested (a complaint, a periodic check); kept in the audit trail")

@@ -16,6 +16,7 @@ from analyses.api.filters import LotFilter
 from analyses.api.permissions import requires
 from analyses.api.schema import errors
 from analyses.api.serializers.audit import AuditEntrySerializer
+from analyses.api.serializers.common import ReasonSerializer
 from analyses.api.serializers.lots import (
     CertificateSerializer,
     LotCreateSerializer,
@@ -33,6 +34,7 @@ from analyses.selectors.audit import audit_trail_for
 from analyses.selectors.lists import lot_list, lot_readiness
 from analyses.services.certificates import certificate_reissue
 from analyses.services.lots import lot_create, lot_reject, lot_release
+from analyses.services.post_release import lot_hold_lift
 
 RELEASE = requires("release_lot", "release or reject lots")
 
@@ -107,6 +109,25 @@ class LotRejectView(APIView):
         data = validated(RejectSerializer, request)
         lot = lot_reject(request.user, pk, reason=data["reason"], password=data["password"], request=request)
         return Response(LotSerializer(lot).data)
+
+
+class LotHoldLiftView(APIView):
+    permission_classes = [IsAuthenticated, requires("release_lot", "lift a hold notice")]
+
+    @extend_schema(
+        request=ReasonSerializer,
+        responses={200: LotSerializer, **errors(400, 403, 404, 409)},
+        summary="Lift a released lot's hold notice (QA)",
+        description=(
+            "Ends the hold notice a post-release investigation put on a released lot: the lot is plainly released "
+            "again, and the audit trail keeps the notice and its lifting with the reason. QA group only. 409 when the "
+            "lot has no hold notice; 400 naming `reason` when it is missing."
+        ),
+    )
+    def post(self, request: Request, pk: int) -> Response:
+        data = validated(ReasonSerializer, request)
+        lot = lot_hold_lift(request.user, pk, reason=data["reason"])
+        return Response(LotSerializer(lot_list().get(pk=lot.pk)).data)
 
 
 VERSION_PARAMETER = OpenApiParameter(

@@ -15,11 +15,17 @@ from analyses.api.permissions import requires
 from analyses.api.schema import errors
 from analyses.api.serializers.audit import AuditEntrySerializer
 from analyses.api.serializers.common import ReasonSerializer
-from analyses.api.serializers.samples import SampleReceiveSerializer, SampleRegisterSerializer, SampleSerializer
+from analyses.api.serializers.samples import (
+    RetainTestsSerializer,
+    SampleReceiveSerializer,
+    SampleRegisterSerializer,
+    SampleSerializer,
+)
 from analyses.api.views.common import PagedListView, validated
 from analyses.models import AuditEntry, Sample
 from analyses.selectors.audit import audit_trail_for
 from analyses.selectors.lists import sample_list
+from analyses.services.post_release import retain_tests_add
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register, sample_resume
 
 HOLD = requires("hold_sample", "put samples on hold or resume them")
@@ -77,6 +83,29 @@ class SampleHoldView(APIView):
     def post(self, request: Request, pk: int) -> Response:
         data = validated(ReasonSerializer, request)
         return Response(SampleSerializer(sample_hold(request.user, pk, reason=data["reason"])).data)
+
+
+class RetainTestsView(APIView):
+    permission_classes = [IsAuthenticated, requires("receive_sample", "order tests on retained samples")]
+
+    @extend_schema(
+        request=RetainTestsSerializer,
+        responses={201: SampleSerializer, **STATE_ERRORS},
+        summary="Test a retained sample of a released lot (lab manager)",
+        description=(
+            "Orders one test per method on a retained sample after its lot's release (a customer complaint, a "
+            "periodic check), on the lines of the specification the lot was released against; the answer is the "
+            "sample with its tests. The tests follow the usual walk (assign, enter, review). An out-of-specification "
+            "result accepted on them opens a post-release investigation and alerts QA; the lot stays released until "
+            "QA decides. Lab manager or admin. 409 when the sample is not a received retained sample of a released lot, "
+            "a method has no line in that specification, or a test of it is still open; 400 naming `methods` or "
+            "`reason`."
+        ),
+    )
+    def post(self, request: Request, pk: int) -> Response:
+        data = validated(RetainTestsSerializer, request)
+        retain_tests_add(request.user, pk, methods=data["methods"], reason=data["reason"])
+        return Response(SampleSerializer(sample_list().get(pk=pk)).data, status=status.HTTP_201_CREATED)
 
 
 class SampleResumeView(APIView):

@@ -30,6 +30,7 @@ from analyses.models import (
 
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.lots import lot_create, lot_release
+from analyses.services.post_release import retain_tests_add
 from analyses.services.review import test_accept
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
@@ -116,6 +117,23 @@ class Lab:
         lot_release(self.users["qa"], self.lot, password=SIGNING_PASSWORD)
         self.lot.refresh_from_db()
         return self.lot
+
+    def retained(self) -> Sample:
+        """A received retained sample of the lot, released (its routine tests accepted)."""
+        retain = sample_receive(
+            self.manager, sample_register(self.manager, self.lot, kind="retain", label="L-200-R"),
+            condition="sealed", storage_place="retain store",
+        )
+        self.released()
+        return retain
+
+    def post_release_finding(self) -> Investigation:
+        """An open post-release investigation: AV 0.69 mg KOH/g (> 0.6, Codex CXS 210, found) on the
+        retained sample of the released lot, entered by analyst2 and accepted by analyst."""
+        [test] = retain_tests_add(self.manager, self.retained(), methods=["av"], reason="customer complaint")
+        test_assign_bulk(self.manager, [test], assignee=self.users["analyst2"])
+        test_accept(self.users["analyst"], enter_duplicates(self.users["analyst2"], test, AV_HIGH, AV_HIGH_TWIN))
+        return Investigation.objects.get(test=test)
 
     def investigation(self) -> Investigation:
         """An open OOS investigation: AV 0.69 mg KOH/g > 0.6 (Codex CXS 210 appendix, refined, found)."""

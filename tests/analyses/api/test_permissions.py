@@ -18,6 +18,7 @@ from analyses.api.urls_monitoring import urlpatterns as monitoring_urlpatterns
 from analyses.api.urls_traceability import urlpatterns as traceability_urlpatterns
 from analyses.models import Alert, Instrument, ReagentKind, ReagentLot, Result, SampleState
 from analyses.services.assignments import test_assign_bulk
+from analyses.services.investigations import investigation_close
 from analyses.services.results import result_record
 from analyses.services.samples import sample_hold
 from analyses.services.stability import stability_study_create
@@ -65,6 +66,14 @@ def _study(lab: Lab) -> int:
     body = _study_protocol(lab, "STAB-PERM-0")
     body["started_on"] = dt.date.fromisoformat(body["started_on"])
     return stability_study_create(lab.users["qa"], **body).pk
+
+
+def _held_lot(lab: Lab) -> Call:
+    investigation_close(
+        lab.users["qa"], lab.post_release_finding(), conclusion="hold_notice", findings="agrees",
+        hold_reason="customers asked to hold stock",
+    )
+    return Call("post", f"/api/lots/{lab.lot.pk}/hold-notice/lift/", {"reason": "stock retested in specification"})
 
 
 def _alert(lab: Lab) -> int:
@@ -183,6 +192,14 @@ CASES = [
         }),
         QA_ADMIN_200,
     ),
+    # findings after release (issue 13): the lab manager orders tests on a retained sample; only QA
+    # issues (through the investigation's close) and lifts a hold notice on a released lot
+    Case(
+        "retained sample tests",
+        lambda lab: Call("post", f"/api/samples/{lab.retained().pk}/retain-tests/", {"methods": ["av"], "reason": "complaint"}),
+        MANAGER_ADMIN,
+    ),
+    Case("lot hold notice lift", _held_lot, {"qa": 200}),
     # monitoring (analyses/api/urls_monitoring.py)
     Case("stability study create", lambda lab: Call("post", "/api/stability-studies/", _study_protocol(lab)), DRAFTERS),
     Case(
@@ -307,6 +324,7 @@ def test_every_state_changing_route_is_in_the_matrix():
         "test-assign": "tests assign", "test-accept": "test accept", "test-send-back": "test send back",
         "result-record": "result record", "result-record-bulk": "result record bulk", "result-correct": "result correct",
         "investigation-close": "investigation close",
+        "sample-retain-tests": "retained sample tests", "lot-hold-lift": "lot hold notice lift",
         "study-list": "stability study create", "study-evaluate": "stability study evaluate",
         "study-close": "stability study close", "alert-acknowledge": "alert acknowledge",
         "baseline-list": "control baseline create",

@@ -62,7 +62,14 @@ def test_demo_load_builds_every_state_and_is_idempotent():
     assert not get_user_model().objects.filter(Q(is_superuser=True) | Q(is_staff=True)).exists()
 
     assert set(Sample.objects.values_list("state", flat=True)) == set(SampleState.values)
-    assert Investigation.objects.filter(state="open").exclude(test__sample__kind="stability_pull").count() == 1
+    assert Investigation.objects.filter(state="open", kind="release").count() == 1
+    # stability pulls are judged against their study and open no investigation (issue 13); the
+    # released lot MV-RSO-2401's retained sample, retested after a complaint, opens a post-release one
+    assert not Investigation.objects.filter(test__sample__kind="stability_pull").exists()
+    finding = Investigation.objects.get(kind="post_release")
+    assert (finding.state, finding.lot.code, finding.lot.state) == ("open", "MV-RSO-2401", "released")
+    assert Test.objects.get(pk=finding.test_id).sample.label == "MV-RSO-2401-R"
+    assert f"post-release investigation {finding.pk} open, lot still released" in first
     assert set(Investigation.objects.exclude(state="open").values_list("conclusion", flat=True)) == {"confirmed", "lab_error"}
     assert set(Lot.objects.values_list("state", flat=True)) == {"open", "released", "rejected"}
     assert Certificate.objects.count() == Lot.objects.filter(state="released").count() == 2
@@ -106,7 +113,13 @@ def test_demo_has_a_drifting_qc_series_and_an_accelerated_stability_study_with_l
     # generated with Ea = 85 kJ/mol (fixtures/demo_monitoring.json); the fit recovers it within the scatter
     assert pv["arrhenius"]["activation_energy_kj_per_mol"] == pytest.approx(85, rel=0.05)
     rules = set(Alert.objects.values_list("rule", flat=True))
-    assert {"westgard_1_3s", "westgard_10_x", "shelf_life_short", "pull_out_of_limit"} <= rules
+    assert {"westgard_1_3s", "westgard_10_x", "shelf_life_short", "pull_out_of_limit", "released_lot_oos"} <= rules
+    # the 40 and 50 °C pulls beyond the study's limits raise its alert, never a release investigation
+    failed_pulls = Test.objects.filter(sample__pull_point__study=study, verdict="oos")
+    assert failed_pulls.exists()
+    assert set(failed_pulls.values_list("sample__pull_point__condition__temperature_c", flat=True)) <= {40, 50}
+    assert Alert.objects.filter(rule="pull_out_of_limit", study=study).count() == failed_pulls.count()
+    assert not Investigation.objects.filter(test__in=failed_pulls).exists()
     assert not Alert.objects.filter(rule="pull_overdue").exists()  # every pull was tested on its day
 
 
