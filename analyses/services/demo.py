@@ -21,6 +21,7 @@ from django.utils import timezone
 from analyses.models import ApiToken, Investigation, Lot, Product, Sample, Test
 from analyses.roles import roles_ensure
 from analyses.services.assignments import test_assign_bulk
+from analyses.services.demo_composition import demo_composition_load
 from analyses.services.demo_bench import demo_bench_load, demo_bench_show, demo_trace
 from analyses.services.demo_monitoring import demo_monitoring_load
 from analyses.services.emergency import superuser_flags_clear
@@ -275,4 +276,6 @@ def demo_load(*, path: Path | str | None = None, log: Log | None = None, new_tok
     demo_monitoring_load(users, log=log, trace=lambda code, inputs: demo_trace(data["bench"], code, inputs))
     log("Reagents and instruments at work:")
     demo_bench_show(data["bench"], users, log=log)
+    log("Fatty-acid composition and instrument files:")
+    demo_composition_load(products, users, log=log)
     return summary

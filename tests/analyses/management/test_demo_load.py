@@ -134,3 +134,23 @@ def test_a_demo_admin_left_a_superuser_by_an_older_demo_loses_the_flag():
     entry = AuditEntry.objects.filter(object_type="auth.user", object_id=str(admin.pk)).latest("sequence")
     assert entry.changes == {"is_superuser": [True, False], "is_staff": [True, False]}
     assert audit_chain_verify().ok
+
+
+def test_demo_has_gc_runs_with_an_identity_failure_and_imported_instrument_files():
+    # issue 11: GC runs for the soybean and palm olein products, an invented blend failing the
+    # Codex soybean ranges, and a titrator export imported through a named mapping
+    from analyses.models import ResultImport
+
+    out = _load()
+    imports = {i.file_name: i for i in ResultImport.objects.all()}
+    assert set(imports) == {"demo_gc_run.csv", "demo_titrator_export.csv"}
+    assert imports["demo_titrator_export.csv"].rows == 8 and len(imports["demo_titrator_export.csv"].result_ids) == 8
+    blend = Test.objects.get(sample__label="MV-RSO-2412-01", method_code="fac:C18:2")
+    assert blend.reported == "62.1" and blend.verdict == "oos"  # above the 59.0 % line from the Codex soybean range
+    assert any("C18:2 62.1 % is above the 59.0 % maximum for soybean oil" in w for w in blend.review_warnings)
+    genuine = Test.objects.get(sample__label="MV-RSO-2410-01", method_code="fac:C18:2")
+    assert genuine.verdict == "pass" and not [w for w in genuine.review_warnings if "maximum for soybean" in w]
+    assert "the identity screen warns on review" in out
+    # a second load replays the files: nothing is entered twice
+    again = _load()
+    assert ResultImport.objects.count() == 2 and "imported before, nothing entered" in again
