@@ -124,6 +124,9 @@ def plugin_problem(plugin_class: object) -> str | None:
                 unit_registry().Unit(spec.unit)
             except (pint.errors.PintError, ValueError, AttributeError, TypeError):
                 return f"input {spec.name!r} has unit {spec.unit!r}, which pint does not know"
+            problem = spec.plausible_range_problem()
+            if problem:
+                return f"input {spec.name!r} {problem}"
     if plugin_class.compute is MethodPlugin.compute:
         return "does not implement compute()"
     if isinstance(plugin_class.titrants, str) or not all(isinstance(t, str) and t for t in plugin_class.titrants):

@@ -6,6 +6,7 @@ from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.models import Result, Test
+from analyses.services.review_warnings import result_input_warnings
 
 INPUTS_HELP = (
     'Input name to value, as the method plugin defines them (see /api/methods/{code}/): a number in the '
@@ -45,6 +46,10 @@ class ResultSerializer(serializers.ModelSerializer):
     entered_by = username_field("entered_by")
     titrant_lot = serializers.CharField(source="reagent_lot.code", read_only=True, allow_null=True)
     instruments = ResultInstrumentSerializer(source="instrument_uses", many=True, read_only=True)
+    input_warnings = serializers.SerializerMethodField(
+        help_text="Inputs outside the plausible range the method declares (see /api/methods/{code}/), each "
+        "naming the input: accepted and computed, and shown to the reviewer on the test; empty when all are plausible",
+    )
 
     class Meta:
         model = Result
@@ -52,9 +57,13 @@ class ResultSerializer(serializers.ModelSerializer):
             "id", "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
             "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
             "status_reason", "entered_by", "entered_at", "titrant_lot", "standardisation", "titrant_concentration",
-            "titrant_uncertainty", "instruments",
+            "titrant_uncertainty", "instruments", "input_warnings",
         ]
         read_only_fields = fields
+
+    @extend_schema_field(serializers.ListField(child=serializers.CharField()))
+    def get_input_warnings(self, result: Result) -> list[str]:
+        return result_input_warnings(result)
 
 
 class ResultRecordSerializer(StrictSerializer):
