@@ -64,8 +64,8 @@ def sample_mass(help: str = "Mass of the test portion", portions: PortionRange |
         bounds = {
             "minimum": hard_low, "maximum": hard_high,
             "bounds_source": (
-                f"a tenth of the smallest to ten times the largest test portion of {portions.source}"
-                f"{'' if portions.evidence == 'found' else f' ({portions.evidence})'}; beyond them, no portion the standard allows"
+                f"beyond them a portion is more than ten times outside those of {portions.source}"
+                f"{'' if portions.evidence == 'found' else f' ({portions.evidence})'}"
             ),
         }
     else:
