@@ -64,7 +64,7 @@ def sample_mass(help: str = "Mass of the test portion", portions: PortionRange |
         bounds = {
             "minimum": hard_low, "maximum": hard_high,
             "bounds_source": (
-                f"beyond them a portion is more than ten times outside those of {portions.source}"
+                f"the bounds are a tenth of the smallest and ten times the largest test portion; {portions.source}"
                 f"{'' if portions.evidence == 'found' else f' ({portions.evidence})'}"
             ),
         }

@@ -111,3 +111,13 @@ def test_an_implausible_portion_is_accepted_and_warned_on_result_test_queue_and_
     history = clients["analyst"].get(f"/api/tests/{av_test.pk}/results/").json()
     rows = history["results"] if isinstance(history, dict) else history
     assert [r["input_warnings"] for r in sorted(rows, key=lambda r: r["replicate"])] == [[warning], []]
+
+
+def test_the_calculation_warns_of_an_implausible_portion_and_refuses_an_impossible_one(clients):
+    # AOCS Cd 8b-90 (found): 5.00 ± 0.05 g; 2.5 g is plausible for no PV determination, 0.01 g for none at all
+    inputs = {"sample_mass": "2.5", "sample_volume": "5.0", "blank_volume": "0", "titrant_concentration": "0.01"}
+    body = clients["anonymous"].post("/api/calculations/", {"method": "pv", "inputs": inputs}, format="json").json()
+    assert body["reported"] == "20.0"  # 5.0 x 0.01 x 1000 / 2.5
+    assert [w.split(" ")[0] for w in body["review_warnings"]] == ["sample_mass"]
+    refused = clients["anonymous"].post("/api/calculations/", {"method": "pv", "inputs": {**inputs, "sample_mass": "0.01"}}, format="json")
+    assert refused.status_code == 400 and "sample_mass" in refused.json()["fields"]
