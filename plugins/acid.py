@@ -14,6 +14,7 @@ from plugins import codex
 from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import (
     KOH_MOLAR_MASS,
+    PortionRange,
     blank_volume,
     direct_titration_volume,
     sample_mass,
@@ -42,7 +43,14 @@ class AcidValue(MethodPlugin):
     instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 3d-63", "ISO 660")
     inputs = (
-        sample_mass("Test portion"),
+        sample_mass(
+            "Test portion, by the expected acid value: 20 g below AV 1 down to 0.1 g above AV 75 (ISO 660 Table 1)",
+            PortionRange(
+                "0.1", "20",
+                "ISO 660 Table 1 and AOCS Cd 3d-63: test portions from 0.1 g (expected AV above 75) to 20 g (below 1)",
+                evidence="from memory",
+            ),
+        ),
         sample_volume("KOH titre for the sample"),
         blank_volume("KOH titre for the solvent blank", required=False),
         titrant_concentration("KOH concentration, 0.1 mol/L or weaker for refined oils"),

@@ -22,7 +22,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins.contract import MethodInputError, MethodPlugin, QuantityInput, Repeatability, WorkedExample
-from plugins.titration import sample_mass
+from plugins.titration import PortionRange, sample_mass
 from plugins.units import MAX_TEXT_LENGTH
 
 SOLUTION_VOLUME_ML = Decimal("25")  # Cd 18-90: test portion made up to 25 mL with iso-octane (from memory)
@@ -85,7 +85,12 @@ class AnisidineValue(MethodPlugin):
     instruments = (("balance",), ("spectrophotometer",))
     standards = ("AOCS Cd 18-90",)
     inputs = (
-        sample_mass("Test portion, dissolved and made up to 25 mL with iso-octane"),
+        # only a plausible range: the portion masses are from memory, too weak to refuse on
+        sample_mass(
+            "Test portion, dissolved and made up to 25 mL with iso-octane",
+            PortionRange("0.5", "4.0", "AOCS Cd 18-90: 0.5 to 4.0 g made up to 25 mL", evidence="from memory"),
+            refuse_beyond=False,
+        ),
         absorbance("absorbance_unreacted", "Ab: absorbance at 350 nm of the unreacted solution, 1 cm cell"),
         absorbance("absorbance_reacted", "As: absorbance at 350 nm after reaction with p-anisidine, 1 cm cell"),
     )

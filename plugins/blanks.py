@@ -12,6 +12,7 @@ from decimal import Decimal
 from typing import Any
 
 from plugins.contract import BlankRule, FlagInput, MethodInputError, QuantityInput, flag_input
+from plugins.titration import titre
 
 BLANK_NOT_RUN = "blank_not_run"
 
@@ -19,7 +20,7 @@ BLANK_NOT_RUN = "blank_not_run"
 def prescribed_blank_inputs(help: str) -> tuple[QuantityInput, FlagInput]:
     """``blank_volume`` without a default, and the ``blank_not_run`` flag."""
     return (
-        QuantityInput("blank_volume", "mL", help, minimum=0.0, required=False),
+        titre("blank_volume", help, required=False),
         flag_input(BLANK_NOT_RUN, "true when no blank was run (recorded, and shown to the reviewer); leave out blank_volume then"),
     )
 

@@ -8,7 +8,10 @@ Static facts
     title           the method's name
     version         the plugin's own version; stored with every result
     standards       the published methods it follows, e.g. ("AOCS Cd 3-25", "ISO 3657")
-    inputs          a tuple of :class:`QuantityInput` / :class:`ChoiceInput`
+    inputs          a tuple of :class:`QuantityInput` / :class:`ChoiceInput`; a quantity has
+                    hard bounds (beyond them: refused) and, optionally, a plausible range
+                    with its source (outside it: accepted with a review warning naming the
+                    input); see :class:`QuantityInput`
     result_unit     the trade's form of the unit ("mg KOH/g", "g I2/100 g", ...)
     decimals        reporting precision, in decimal places
     replicates      determinations per test (2 = duplicates)
@@ -121,7 +124,20 @@ class MethodInputError(ValueError):
 
 @dataclass(frozen=True)
 class QuantityInput:
-    """A measured quantity. Bounds are in ``unit``; a bare number is taken in ``unit``."""
+    """A measured quantity. Bounds are in ``unit``; a bare number is taken in ``unit``.
+
+    Two ranges, both optional:
+
+    - the hard bounds ``minimum`` / ``maximum``: a value beyond them is refused
+      (:class:`MethodInputError` naming the input), as no determination the method allows
+      at all can have it; ``bounds_source`` says why they are where they are, in the refusal;
+    - the plausible range ``plausible_minimum`` / ``plausible_maximum``, with
+      ``plausible_source`` (where it comes from, e.g. the standard's table of test-portion
+      masses, with its evidence tags in words) and ``plausible_evidence`` (the weakest of
+      them: "found", "from memory", "common practice, no source"): a value outside it is accepted and computed, and carries a review warning
+      naming the input (:meth:`implausible`, ``plugins.review_warnings``). It must lie
+      within the hard bounds; a plugin that declares none gets no such warning.
+    """
 
     name: str
     unit: str
@@ -131,6 +147,11 @@ class QuantityInput:
     maximum: float | None = None
     required: bool = True
     default: float | None = None
+    plausible_minimum: float | None = None
+    plausible_maximum: float | None = None
+    plausible_source: str = ""
+    plausible_evidence: str = "found"
+    bounds_source: str = ""  # why the hard bounds are where they are; said when a value is refused
 
     def parse(self, raw: Any) -> float:
         try:
@@ -139,13 +160,14 @@ class QuantityInput:
             raise MethodInputError(self.name, str(problem)) from None
         if not math.isfinite(value):
             raise MethodInputError(self.name, "must be a finite number")
+        why = f" ({self.bounds_source})" if self.bounds_source else ""
         if self.minimum is not None:
             if self.minimum_inclusive and value < self.minimum:
-                raise MethodInputError(self.name, f"must be at least {self.minimum:g} {self.unit}, got {value:g}")
+                raise MethodInputError(self.name, f"must be at least {self.minimum:g} {self.unit}, got {value:g}{why}")
             if not self.minimum_inclusive and value <= self.minimum:
-                raise MethodInputError(self.name, f"must be greater than {self.minimum:g} {self.unit}, got {value:g}")
+                raise MethodInputError(self.name, f"must be greater than {self.minimum:g} {self.unit}, got {value:g}{why}")
         if self.maximum is not None and value > self.maximum:
-            raise MethodInputError(self.name, f"must be at most {self.maximum:g} {self.unit}, got {value:g}")
+            raise MethodInputError(self.name, f"must be at most {self.maximum:g} {self.unit}, got {value:g}{why}")
         return value
 
     def parse_exact(self, raw: Any) -> Decimal:
@@ -156,6 +178,42 @@ class QuantityInput:
         except UnitProblem as problem:
             raise MethodInputError(self.name, str(problem)) from None
 
+    def has_plausible_range(self) -> bool:
+        return self.plausible_minimum is not None or self.plausible_maximum is not None
+
+    def plausible_range_problem(self) -> str | None:
+        """Why the declared plausible range cannot be right (no source, empty, or reaching
+        beyond the hard bounds), or None."""
+        if not self.has_plausible_range():
+            return None
+        low, high = self.plausible_minimum, self.plausible_maximum
+        if not str(self.plausible_source).strip():
+            return "declares a plausible range without its source (plausible_source)"
+        if low is not None and high is not None and low > high:
+            return f"has a plausible minimum {low:g} above its plausible maximum {high:g}"
+        if self.minimum is not None and low is not None and low < self.minimum:
+            return f"has a plausible range reaching below its hard minimum {self.minimum:g} {self.unit}"
+        if self.maximum is not None and high is not None and high > self.maximum:
+            return f"has a plausible range reaching above its hard maximum {self.maximum:g} {self.unit}"
+        return None
+
+    def implausible(self, value: Decimal | float) -> str | None:
+        """The review warning for a value (already within the hard bounds, in ``unit``)
+        outside the plausible range, naming the input; None inside it or with no range.
+        Decided in decimal arithmetic, so a value at a bound is inside."""
+        if not self.has_plausible_range():
+            return None
+        exact = value if isinstance(value, Decimal) else float_as_decimal(float(value))
+        low = None if self.plausible_minimum is None else float_as_decimal(self.plausible_minimum)
+        high = None if self.plausible_maximum is None else float_as_decimal(self.plausible_maximum)
+        if (low is None or exact >= low) and (high is None or exact <= high):
+            return None
+        if low is not None and exact < low:
+            where = f"below its plausible minimum {low.normalize():f} {self.unit}"
+        else:
+            where = f"above its plausible maximum {high.normalize():f} {self.unit}"
+        return f"{self.name} {exact.normalize():f} {self.unit} is {where} ({self.plausible_source}); check the entry"
+
     def describe(self) -> dict[str, Any]:
         return {
             "name": self.name,
@@ -164,6 +222,11 @@ class QuantityInput:
             "minimum": self.minimum,
             "minimum_inclusive": self.minimum_inclusive,
             "maximum": self.maximum,
+            "plausible_minimum": self.plausible_minimum,
+            "plausible_maximum": self.plausible_maximum,
+            "plausible_source": self.plausible_source or None,
+            "plausible_evidence": self.plausible_evidence if self.has_plausible_range() else None,
+            "bounds_source": self.bounds_source or None,
             "required": self.required,
             "default": self.default,
             "help": self.help,

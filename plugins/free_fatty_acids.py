@@ -12,7 +12,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, ChoiceInput, MethodPlugin, MethodScope, Repeatability, ResultBasis, WorkedExample
-from plugins.titration import blank_volume, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
+from plugins.titration import PortionRange, blank_volume, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
 BASIS_FACTORS = {"oleic": Decimal("28.2"), "palmitic": Decimal("25.6"), "lauric": Decimal("20.0")}  # AOCS Ca 5a-40
 
@@ -25,7 +25,13 @@ class FreeFattyAcids(MethodPlugin):
     instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Ca 5a-40",)
     inputs = (
-        sample_mass("Test portion; Ca 5a-40 sets it by the expected FFA (e.g. 28.2 g for 0.2-1 %)"),
+        sample_mass(
+            "Test portion; Ca 5a-40 sets it by the expected FFA (e.g. 28.2 g for 0.2-1 %)",
+            PortionRange(
+                "3.525", "56.4",
+                "AOCS Ca 5a-40 sample-mass table: 3.525 g (expected FFA 50-100 %) to 56.4 g (below 0.2 %)",
+            ),
+        ),
         sample_volume("NaOH titre for the sample"),
         blank_volume("NaOH titre for the neutralised alcohol blank", required=False),
         titrant_concentration("NaOH concentration (0.1 or 0.25 mol/L by the expected FFA)"),

@@ -13,7 +13,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, MethodScope, Repeatability, WorkedExample
-from plugins.titration import back_titration_volume, blank_volume, sample_mass, sample_volume, titrant_concentration
+from plugins.titration import PortionRange, back_titration_volume, blank_volume, sample_mass, sample_volume, titrant_concentration
 
 IODINE_FACTOR = Decimal("12.69")  # AOCS Cd 1d-92 / ISO 3961
 
@@ -26,7 +26,14 @@ class IodineValueWijs(MethodPlugin):
     instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 1d-92", "ISO 3961")
     inputs = (
-        sample_mass("Test portion; ISO 3961 scales it to the expected IV (0.13 g near IV 100-150)"),
+        sample_mass(
+            "Test portion; ISO 3961 scales it to the expected IV (0.13 g near IV 100-150)",
+            PortionRange(
+                "0.10", "15",
+                "ISO 3961 table of test portions: 0.10 g (expected IV 150-200) to 15 g (below 1.5)",
+                evidence="from memory",
+            ),
+        ),
         sample_volume("Sodium thiosulfate titre for the sample"),
         blank_volume("Sodium thiosulfate titre for the blank"),
         titrant_concentration("Sodium thiosulfate concentration, about 0.1 mol/L"),

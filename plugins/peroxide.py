@@ -22,7 +22,7 @@ from typing import Any
 from plugins import codex
 from plugins.blanks import check_blank_declared, prescribed_blank_inputs
 from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, MethodScope, QuantityInput, Repeatability, WorkedExample
-from plugins.titration import direct_titration_volume, sample_mass, sample_volume, titrant_concentration
+from plugins.titration import PortionRange, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
 DICHROMATE_FACTOR = 20.394  # AOCS Cd 8b-90 (found): c = 20.394 x g K2Cr2O7 / mL of thiosulfate
 EU_2568_91_ANNEX_III = "Commission Regulation (EEC) No 2568/91, Annex III (peroxide value)"
@@ -53,7 +53,10 @@ class PeroxideValue(MethodPlugin):
     instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 8b-90", "ISO 3960")
     inputs = (
-        sample_mass("Test portion, 5.00 ± 0.05 g (AOCS Cd 8b-90)"),
+        sample_mass(
+            "Test portion, 5.00 ± 0.05 g (AOCS Cd 8b-90)",
+            PortionRange("5.00", "5.00", "AOCS Cd 8b-90 test portion: 5.00 g", tolerance="0.05"),
+        ),
         sample_volume("Sodium thiosulfate titre for the sample"),
         *prescribed_blank_inputs(
             f"Sodium thiosulfate titre for the blank; required unless blank_not_run ({EU_2568_91_ANNEX_III}: "

@@ -145,6 +145,9 @@ def plugin_problem(plugin_class: object) -> str | None:
                 unit_registry().Unit(spec.unit)
             except (pint.errors.PintError, ValueError, AttributeError, TypeError):
                 return f"input {spec.name!r} has unit {spec.unit!r}, which pint does not know"
+            problem = spec.plausible_range_problem()
+            if problem:
+                return f"input {spec.name!r} {problem}"
     if plugin_class.components:
         problem = _profile_problem(plugin_class)
         if problem:

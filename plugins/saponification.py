@@ -14,6 +14,7 @@ from plugins import codex
 from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, Repeatability, WorkedExample
 from plugins.titration import (
     KOH_MOLAR_MASS,
+    PortionRange,
     back_titration_volume,
     blank_volume,
     sample_mass,
@@ -30,7 +31,14 @@ class SaponificationValue(MethodPlugin):
     instruments = TITRATION_INSTRUMENTS
     standards = ("AOCS Cd 3-25", "ISO 3657")
     inputs = (
-        sample_mass("Test portion, about 2 g"),
+        sample_mass(
+            "Test portion, about 2 g",
+            PortionRange(
+                "2", "5",
+                "ISO 3657: about 2 g (found); AOCS Cd 3-25: 4 to 5 g",
+                evidence="from memory",
+            ),
+        ),
         sample_volume("HCl titre for the sample"),
         blank_volume("HCl titre for the blank (25 mL ethanolic KOH, no sample)"),
         titrant_concentration("HCl concentration, about 0.5 mol/L"),

@@ -22,7 +22,13 @@ class MethodSerializer(serializers.Serializer):
     title = serializers.CharField()
     version = serializers.CharField()
     standards = serializers.ListField(child=serializers.CharField())
-    inputs = serializers.ListField(child=serializers.DictField())
+    inputs = serializers.ListField(
+        child=serializers.DictField(),
+        help_text="Each input: name, kind (quantity or choice), unit, help. A quantity has hard bounds (minimum, "
+        "maximum, with bounds_source saying why): a value beyond them is refused with a 400 naming the input. It may "
+        "also have a plausible range (plausible_minimum, plausible_maximum, plausible_source, plausible_evidence): a "
+        "value outside it is accepted and computed, and the result carries a review warning naming the input",
+    )
     result_unit = serializers.CharField()
     decimals = serializers.IntegerField()
     replicates = serializers.IntegerField()

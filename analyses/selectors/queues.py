@@ -1,5 +1,6 @@
 """Work queues: one per method, and each analyst's own; tests ordered by priority, then
-due date, each annotated ``is_overdue`` (open and due before today)."""
+due date, each annotated ``is_overdue`` (open, due before today, and its sample not on hold:
+a held test waits on purpose, and shows its hold instead)."""
 from __future__ import annotations
 
 import datetime as dt
@@ -7,7 +8,7 @@ import datetime as dt
 from django.db.models import BooleanField, Exists, ExpressionWrapper, OuterRef, Q, QuerySet
 from django.utils import timezone
 
-from analyses.models import OPEN_TEST_STATES, WORKABLE_TEST_STATES, Result, ResultStatus, Test, TestState
+from analyses.models import OPEN_TEST_STATES, WORKABLE_TEST_STATES, Result, ResultStatus, SampleState, Test, TestState
 
 # everything a queue row shows, in one query
 TEST_RELATIONS = ("sample__lot__product", "assignee", "specification_line", "retest_of")
@@ -15,18 +16,21 @@ TEST_RELATIONS = ("sample__lot__product", "assignee", "specification_line", "ret
 
 def tests_with_overdue(today: dt.date | None = None) -> QuerySet[Test]:
     today = today or timezone.localdate()
-    overdue = Q(due_on__lt=today) & Q(state__in=OPEN_TEST_STATES)
+    overdue = Q(due_on__lt=today) & Q(state__in=OPEN_TEST_STATES) & ~Q(sample__state=SampleState.ON_HOLD)
     return Test.objects.select_related(*TEST_RELATIONS).annotate(
         is_overdue=ExpressionWrapper(overdue, output_field=BooleanField())
     )
 
 
-def work_queue(method_code: str, *, today: dt.date | None = None) -> QuerySet[Test]:
+def work_queue(method_code: str, *, on_hold: bool | None = None, today: dt.date | None = None) -> QuerySet[Test]:
     """Open tests of one method (pending, assigned, sent back, entered and awaiting review),
-    by priority (1 = urgent first), then due date, then age."""
-    return tests_with_overdue(today).filter(method_code=method_code, state__in=OPEN_TEST_STATES).order_by(
-        "priority", "due_on", "id"
-    )
+    by priority (1 = urgent first), then due date, then age. ``on_hold`` True keeps only the
+    tests whose sample is on hold, False leaves them out, None keeps both."""
+    queryset = tests_with_overdue(today).filter(method_code=method_code, state__in=OPEN_TEST_STATES)
+    if on_hold is not None:
+        held = Q(sample__state=SampleState.ON_HOLD)
+        queryset = queryset.filter(held) if on_hold else queryset.exclude(held)
+    return queryset.order_by("priority", "due_on", "id")
 
 
 def my_queue(user, *, today: dt.date | None = None) -> QuerySet[Test]:

@@ -66,6 +66,10 @@ def lot_create(
             raise InvalidInput.for_field("quantity_kg", "must be a number") from None
         if not quantity.is_finite() or quantity <= 0:
             raise InvalidInput.for_field("quantity_kg", "must be a positive number")
+    today = timezone.localdate()
+    if produced_on is not None and produced_on > today:
+        # the lab's own date (TIME_ZONE): a lot is made or delivered before it is registered
+        raise InvalidInput.for_field("produced_on", f"is {produced_on.isoformat()}, after today ({today.isoformat()}); a lot cannot be produced or delivered in the future")
     key = UniqueKey(Lot, "code", code, f"lot {code!r} already exists")
     key.refuse_if_taken()
     product = fetch(Product, product)

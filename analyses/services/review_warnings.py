@@ -5,11 +5,12 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
-from analyses.models import DecisionRule, ResultStatus, SpecificationLine, Test, Verdict
+from analyses.models import DecisionRule, Result, ResultStatus, SpecificationLine, Test, Verdict
 from analyses.services.result_trace import stored_inputs
 from plugins.blanks import blank_warnings
 from plugins.contract import MethodInputError, MethodPlugin
-from plugins.review_warnings import scope_warnings
+from plugins.registry import UnknownMethod, get_registry
+from plugins.review_warnings import input_warnings, raw_input_warnings, scope_warnings
 
 
 def line_inputs(plugin: MethodPlugin, line: SpecificationLine, inputs: Mapping[str, Any]) -> Mapping[str, Any]:
@@ -24,8 +25,19 @@ def line_inputs(plugin: MethodPlugin, line: SpecificationLine, inputs: Mapping[s
     return {**inputs, plugin.basis.input_name: line.basis}
 
 
+def result_input_warnings(result: Result) -> list[str]:
+    """The inputs of one stored result outside their plausible ranges, each warning naming its
+    input; shown on the result as soon as it is entered (no query: the result's own row)."""
+    try:
+        plugin = get_registry().get(result.method_code)
+    except UnknownMethod:
+        return []
+    return raw_input_warnings(plugin, stored_inputs(result))
+
+
 def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
-    """Blank warnings of each current replicate, one line per distinct warning naming the replicates."""
+    """Implausible inputs and blank warnings of each current replicate, one line per distinct
+    warning naming the replicates."""
     by_warning: dict[str, list[int]] = {}
     for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
         try:
@@ -33,7 +45,7 @@ def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
         except MethodInputError as exc:  # entered under an older version of the method's checks
             found = [f"its inputs no longer pass method {plugin.code}'s checks ({exc.field}: {exc.reason})"]
         else:
-            found = blank_warnings(plugin.blank, values)
+            found = input_warnings(plugin, values) + blank_warnings(plugin.blank, values)
         for warning in found:
             by_warning.setdefault(warning, []).append(result.replicate)
     lines = []
@@ -45,7 +57,8 @@ def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
 
 def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[str]:
     """What the reviewer should weigh before accepting ``test``, whose replicates are all in:
-    their blanks, the mean against the method's scope, and a conditional pass. Never a reason to refuse."""
+    inputs outside their plausible ranges, their blanks, the mean against the method's scope,
+    and a conditional pass. Never a reason to refuse."""
     return (
         _replicate_warnings(plugin, test) + scope_warnings(plugin, mean, test.specification_line.unit)
         + _profile_warnings(plugin, test) + _decision_warnings(test, mean)

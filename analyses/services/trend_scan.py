@@ -18,7 +18,18 @@ from django.utils import timezone
 
 from analyses.audit import audit_append, created
 from analyses.errors import InvalidInput
-from analyses.models import Alert, AlertSeverity, AlertSource, AuditAction, BaselineSource, ControlBaseline, SeriesKind, OOS_VERDICTS
+from analyses.models import (
+    OOS_VERDICTS,
+    Alert,
+    AlertSeverity,
+    AlertSource,
+    AuditAction,
+    BaselineSource,
+    ControlBaseline,
+    Lot,
+    Product,
+    SeriesKind,
+)
 from analyses.selectors.trend_series import qc_runs_key, trend_series_frame
 from analyses.services.access import Actor, require_permission
 from analyses.selectors.series_names import point_names, series_names
@@ -56,6 +67,7 @@ def control_baseline_set(actor: Actor, *, series_key: str, mean: float, sd: floa
     kind, method_code = _parse_key(series_key)
     if not (isinstance(sd, (int, float)) and sd > 0):
         raise InvalidInput.for_field("sd", "must be a number above 0")
+    _check_series_exists(series_key, kind, method_code)
     values = {
         "mean": float(mean), "sd": float(sd), "n_points": 0,
         "source": BaselineSource.ENTERED, "set_by": actor, "set_at": timezone.now(),
@@ -139,6 +151,26 @@ def _not_yet_alerted(drafts: list[AlertDraft]) -> list[AlertDraft]:
 def _qc_methods(series_keys: list[str]) -> list[str]:
     parts = [key.split(":", 2) for key in series_keys]
     return sorted({p[2] for p in parts if len(p) == 3 and p[0] == SeriesKind.QC_CHECK and p[2]})
+
+
+def _check_series_exists(series_key: str, kind: str, method_code: str) -> None:
+    """InvalidInput on ``series_key`` unless its method is registered and its owner exists: the
+    control material's lot of a QC series, the product of a production series. A baseline may
+    come before the series' first result (from a reference material's certificate)."""
+    from plugins.registry import get_registry
+
+    owner_id = int(str(series_key).split(":")[1])
+    if method_code not in get_registry():
+        raise InvalidInput.for_field(
+            "series_key", f"names method {method_code!r}, which is not registered (known: {', '.join(get_registry().codes())})"
+        )
+    if kind == SeriesKind.QC_CHECK:
+        if not (owner_id < 2**63 and Lot.objects.filter(pk=owner_id).exists()):
+            raise InvalidInput.for_field("series_key", f"names lot {owner_id}, which does not exist; a QC series is qc:<lot id>:<method>")
+    elif not (owner_id < 2**63 and Product.objects.filter(pk=owner_id).exists()):
+        raise InvalidInput.for_field(
+            "series_key", f"names product {owner_id}, which does not exist; a production series is production:<product id>:<method>"
+        )
 
 
 def _parse_key(series_key: str) -> tuple[str, str]:

@@ -21,6 +21,12 @@ EXAMPLES = [
     for plugin in PLUGINS
     for number, example in enumerate(plugin.examples, start=1)
 ]
+QUANTITIES = [
+    pytest.param(plugin, spec, id=f"{plugin.code}-{spec.name}")
+    for plugin in PLUGINS
+    for spec in plugin.inputs
+    if isinstance(spec, QuantityInput)
+]
 REQUIRED_INPUTS = [
     pytest.param(plugin, spec.name, id=f"{plugin.code}-{spec.name}")
     for plugin in PLUGINS
@@ -173,3 +179,21 @@ def test_inputs_that_are_not_a_mapping_are_refused(plugin):
     with pytest.raises(MethodInputError) as refused:
         plugin.calculate([("sample_mass", 2.0)])
     assert refused.value.field == "inputs"
+
+
+@pytest.mark.parametrize("plugin, spec", QUANTITIES)
+def test_a_declared_plausible_range_has_a_source_and_lies_within_the_hard_bounds(plugin, spec):
+    assert spec.plausible_range_problem() is None
+    if not spec.has_plausible_range():
+        return  # optional: a plugin without them still loads (test_plausible_inputs.py)
+    assert spec.plausible_source.strip()
+    low, high = spec.plausible_minimum, spec.plausible_maximum
+    if low is not None and high is not None:
+        assert low <= high
+    if spec.minimum is not None and low is not None:
+        assert low >= spec.minimum
+    if spec.maximum is not None:
+        assert high is not None and high <= spec.maximum
+    described = spec.describe()
+    assert (described["plausible_minimum"], described["plausible_maximum"]) == (low, high)
+    assert described["plausible_source"] == spec.plausible_source

@@ -27,16 +27,25 @@ TITRATION_CODES = [plugin.code for plugin in TITRATIONS]
 BACK_TITRATIONS = ["sv", "iv"]  # B - S: the sample consumes reagent
 NO_DEADLINE = settings(deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 
-masses = st.floats(min_value=0.01, max_value=100.0)
+# within each plugin's hard bounds, and at most half its maximum so that doubling stays inside
+MASSES = (0.01, 100.0)
 concentrations = st.floats(min_value=0.001, max_value=2.0)
 volumes = st.floats(min_value=0.0, max_value=100.0)
 
 
+def masses(plugin) -> st.SearchStrategy[float]:
+    """Test portions the plugin accepts (its hard bounds on ``sample_mass``), up to half the largest."""
+    spec = next(spec for spec in plugin.inputs if spec.name == "sample_mass")
+    low = max(MASSES[0], spec.minimum or 0.0)
+    high = min(MASSES[1], spec.maximum / 2 if spec.maximum is not None else MASSES[1])
+    return st.floats(min_value=low, max_value=high)
+
+
 @st.composite
 def valid_inputs(draw, plugin):
-    """Inputs the plugin must accept: titres on the right side of the blank."""
+    """Inputs the plugin must accept: titres on the right side of the blank, a portion within its bounds."""
     first, second = sorted((draw(volumes), draw(volumes)))
-    inputs = {"sample_mass": draw(masses), "titrant_concentration": draw(concentrations)}
+    inputs = {"sample_mass": draw(masses(plugin)), "titrant_concentration": draw(concentrations)}
     if plugin.code in BACK_TITRATIONS:
         inputs.update(sample_volume=first, blank_volume=second)
     else:

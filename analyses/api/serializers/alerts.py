@@ -60,7 +60,11 @@ class BaselineSerializer(serializers.ModelSerializer):
 
 
 class BaselineInSerializer(StrictSerializer):
-    series_key = TextField(max_length=120, help_text="qc:<lot id>:<method> or production:<product id>:<method>")
+    series_key = TextField(
+        max_length=120,
+        help_text="qc:<lot id>:<method> or production:<product id>:<method>; the lot or product must exist and the "
+        "method be registered (a 400 naming series_key otherwise), though the series may have no results yet",
+    )
     mean = serializers.FloatField()
     sd = serializers.FloatField(help_text="Above 0")
     reason = TextField(required=False, allow_blank=True, default="")

@@ -71,6 +71,17 @@ class _BlankAsNull:
         return None if value == "" else super().to_representation(value)
 
 
+class _NamesTheChoices:
+    """A value outside the choice set is refused with the valid choices listed."""
+
+    def to_internal_value(self, data):
+        try:
+            return super().to_internal_value(data)
+        except serializers.ValidationError:
+            valid = ", ".join(str(choice) for choice in self.choices if choice != "")
+            raise serializers.ValidationError(f"{str(data)[:80]!r} is not one of the valid choices: {valid}") from None
+
+
 def enum_field_class(
     component_name: str, choices, *, blank: bool = False, blank_as_null: bool = False
 ) -> type[serializers.ChoiceField]:
@@ -84,6 +95,6 @@ def enum_field_class(
         "enum": values,
         "description": "\n".join(f"* `{value}` - {label}" for value, label in choices),
     }
-    bases = (_BlankAsNull, serializers.ChoiceField) if blank_as_null else (serializers.ChoiceField,)
+    bases = (_NamesTheChoices,) + ((_BlankAsNull, serializers.ChoiceField) if blank_as_null else (serializers.ChoiceField,))
     field_class = type(f"{component_name}Field", bases, {"__module__": __name__})
     return extend_schema_field(schema, component_name=component_name)(field_class)

@@ -60,7 +60,9 @@ class LotCreateSerializer(StrictSerializer):
         max_length=100, required=False, allow_blank=True, default="", help_text="Tank or container; required for deliveries"
     )
     quantity_kg = serializers.DecimalField(max_digits=14, decimal_places=3, required=False, allow_null=True)
-    produced_on = serializers.DateField(required=False, allow_null=True, help_text="Production or delivery date")
+    produced_on = serializers.DateField(
+        required=False, allow_null=True, help_text="Production or delivery date; today or earlier (the lab's date)"
+    )
 
 
 def password_field() -> TextField:

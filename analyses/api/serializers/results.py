@@ -6,6 +6,7 @@ from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.models import Result, Test
+from analyses.services.review_warnings import result_input_warnings
 
 INPUTS_HELP = (
     'Input name to value, as the method plugin defines them (see /api/methods/{code}/): a number in the '
@@ -74,6 +75,10 @@ class ResultSerializer(serializers.ModelSerializer):
         "saponification values, sums), and whether its peak was given; empty for a single-value method. The "
         "result's own value is the component its test limits (the test's method_code, e.g. fac:C18:2).",
     )
+    input_warnings = serializers.SerializerMethodField(
+        help_text="Inputs outside the plausible range the method declares (see /api/methods/{code}/), each "
+        "naming the input: accepted and computed, and shown to the reviewer on the test; empty when all are plausible",
+    )
 
     class Meta:
         model = Result
@@ -81,9 +86,13 @@ class ResultSerializer(serializers.ModelSerializer):
             "id", "test", "replicate", "version", "status", "inputs", "value", "value_exact", "reported", "unit",
             "method_code", "method_version", "verdict", "duplicate_check", "supersedes", "correction_reason",
             "status_reason", "entered_by", "entered_at", "titrant_lot", "standardisation", "titrant_concentration",
-            "titrant_uncertainty", "instruments", "components",
+            "titrant_uncertainty", "instruments", "components", "input_warnings",
         ]
         read_only_fields = fields
+
+    @extend_schema_field(serializers.ListField(child=serializers.CharField()))
+    def get_input_warnings(self, result: Result) -> list[str]:
+        return result_input_warnings(result)
 
 
 class ResultRecordSerializer(StrictSerializer):

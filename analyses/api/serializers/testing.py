@@ -2,11 +2,12 @@
 from __future__ import annotations
 
 from django.utils import timezone
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, username_field
-from analyses.api.serializers.states import TestStateField, VerdictField
-from analyses.models import OPEN_TEST_STATES, Priority, Test, TestState, Verdict
+from analyses.api.serializers.states import SampleStateField, TestStateField, VerdictField
+from analyses.models import OPEN_TEST_STATES, Priority, SampleState, Test, TestState, Verdict
 
 
 class TestSerializer(serializers.ModelSerializer):
@@ -24,7 +25,14 @@ class TestSerializer(serializers.ModelSerializer):
     verdict = VerdictField(choices=Verdict.choices, read_only=True, allow_null=True, help_text="null until a result is in")
     assignee = username_field("assignee")
     reviewed_by = username_field("reviewed_by")
-    is_overdue = serializers.SerializerMethodField(help_text="Open and due before today")
+    is_overdue = serializers.SerializerMethodField(
+        help_text="Open and due before today; never while its sample is on hold (see sample_state and hold_reason)"
+    )
+    sample_state = SampleStateField(
+        choices=SampleState.choices, source="sample.state", read_only=True,
+        help_text="The sample's state: on_hold means no work on the test until the sample is resumed",
+    )
+    hold_reason = serializers.SerializerMethodField(help_text="Why the sample is on hold; null unless it is")
     review_warnings = serializers.ListField(
         child=serializers.CharField(), read_only=True,
         help_text="For the reviewer: a result outside the method's validated range, a prescribed blank not run; never a block",
@@ -33,8 +41,8 @@ class TestSerializer(serializers.ModelSerializer):
     class Meta:
         model = Test
         fields = [
-            "id", "sample", "sample_label", "lot", "lot_code", "product_code", "method_code", "replicates",
-            "priority", "due_on", "is_overdue", "state", "assignee", "assigned_at", "retest_of",
+            "id", "sample", "sample_label", "sample_state", "hold_reason", "lot", "lot_code", "product_code", "method_code",
+            "replicates", "priority", "due_on", "is_overdue", "state", "assignee", "assigned_at", "retest_of",
             "value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "review_warnings", "minimum", "maximum",
             "comparison",
             "release_critical", "reviewed_by", "reviewed_at", "review_note", "created_at",
@@ -45,7 +53,12 @@ class TestSerializer(serializers.ModelSerializer):
         annotated = getattr(test, "is_overdue", None)
         if annotated is not None:
             return bool(annotated)
-        return test.state in OPEN_TEST_STATES and test.due_on < timezone.localdate()
+        held = test.sample.state == SampleState.ON_HOLD
+        return test.state in OPEN_TEST_STATES and test.due_on < timezone.localdate() and not held
+
+    @extend_schema_field(serializers.CharField(allow_null=True))
+    def get_hold_reason(self, test: Test) -> str | None:
+        return test.sample.state_reason if test.sample.state == SampleState.ON_HOLD else None
 
 
 class TestAssignmentSerializer(serializers.ModelSerializer):

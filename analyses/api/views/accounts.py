@@ -4,7 +4,6 @@ from __future__ import annotations
 from django.contrib.auth.signals import user_logged_in
 from django.contrib.auth import authenticate
 from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
-from rest_framework import serializers
 from rest_framework.permissions import AllowAny, IsAuthenticated
 from rest_framework.request import Request
 from rest_framework.response import Response
@@ -23,12 +22,14 @@ from analyses.api.serializers.accounts import (
     UserSerializer,
 )
 from analyses.api.views.common import PagedListView, validated
+from analyses.errors import InvalidInput
 from analyses.login_guard import login_succeeded
 from analyses.selectors.api_accounts import user_summary
 from analyses.selectors.tokens import token_list
 from analyses.selectors.users import user_list
 from analyses.services.tokens import token_issue, token_revoke
 
+WRONG_CREDENTIALS = "the user name or password is wrong"
 LOCKED_OUT = OpenApiResponse(
     ErrorSerializer,
     description="Too many failed logins for this account or from this address; the Retry-After header "
@@ -54,7 +55,8 @@ class TokenObtainView(APIView):
         # and answered with 429 by analyses.login_guard.LoginLockoutMiddleware
         user = authenticate(request, username=data["username"], password=data["password"])
         if user is None:
-            raise serializers.ValidationError("Unable to log in with the username and password given.")
+            # in words, naming the password (the field to type again), never saying which of the two was wrong
+            raise InvalidInput.for_field("password", WRONG_CREDENTIALS)
         login_succeeded(user.get_username())
         # a sign-in like the session login's: last_login is set, a superuser's is audited
         user_logged_in.send(sender=type(user), request=request, user=user)

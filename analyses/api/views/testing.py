@@ -2,7 +2,8 @@
 from __future__ import annotations
 
 from django.shortcuts import get_object_or_404
-from drf_spectacular.utils import extend_schema, extend_schema_view
+from drf_spectacular.utils import OpenApiParameter, extend_schema, extend_schema_view
+from rest_framework import serializers
 from rest_framework.generics import RetrieveAPIView
 from rest_framework.permissions import IsAuthenticated
 from rest_framework.request import Request
@@ -58,10 +59,27 @@ class TestDetailView(RetrieveAPIView):
         return _rows(test_list())
 
 
+ON_HOLD_PARAMETER = OpenApiParameter(
+    "on_hold", str, enum=["true", "false"], required=False,
+    description="true: only the tests whose sample is on hold; false: leave them out; not given: both "
+    "(each row shows sample_state and hold_reason, and a held test is never overdue)",
+)
+
+
+class WorkQueueQuerySerializer(serializers.Serializer):
+    on_hold = serializers.ChoiceField(choices=["true", "false"], required=False)
+
+
 @extend_schema_view(
     get=extend_schema(
         summary="Work queue of one method: open tests by priority, then due date",
-        responses={200: TestSerializer(many=True), **errors(404)},
+        description="The open tests of one method (pending, assigned, sent back, awaiting review), most urgent "
+        "first, then by due date. A test whose sample is on hold stays listed, with the hold's state and "
+        "reason, and is not counted overdue; it cannot be assigned until the sample is resumed (409). "
+        "Filter held tests in or out with on_hold. Any signed-in user may read it; an unknown method is a 404, "
+        "an on_hold other than true or false a 400.",
+        parameters=[ON_HOLD_PARAMETER],
+        responses={200: TestSerializer(many=True), **errors(400, 404)},
     )
 )
 class WorkQueueView(PagedListView):
@@ -74,7 +92,10 @@ class WorkQueueView(PagedListView):
         code = self.kwargs["method"]
         if code not in get_registry():
             raise NotFound(f"unknown method {code!r}")
-        return _rows(work_queue(code))
+        query = WorkQueueQuerySerializer(data=self.request.query_params)
+        query.is_valid(raise_exception=True)
+        on_hold = query.validated_data.get("on_hold")
+        return _rows(work_queue(code, on_hold=None if on_hold is None else on_hold == "true"))
 
 
 @extend_schema_view(

@@ -21,8 +21,33 @@ def _range(scope: dict) -> str:
     return upper if not scope["maximum_inclusive"] else f"up to {high}"
 
 
+def _bounds(spec: dict) -> str:
+    """The hard bounds (refused beyond) and the plausible range (warned outside) of a quantity."""
+    low, high = spec["minimum"], spec["maximum"]
+    if low is not None and high is not None:
+        hard = f"{low:g} to {high:g}"
+    elif high is not None:
+        hard = f"up to {high:g}"
+    elif low is not None:
+        hard = f"{'from' if spec['minimum_inclusive'] else 'above'} {low:g}"
+    else:
+        hard = "any"
+    words = f"allowed {hard} {spec['unit']}"
+    p_low, p_high = spec.get("plausible_minimum"), spec.get("plausible_maximum")
+    if p_low is not None or p_high is not None:
+        plausible = (
+            f"{p_low:g} to {p_high:g}" if p_low is not None and p_high is not None
+            else f"up to {p_high:g}" if p_high is not None else f"from {p_low:g}"
+        )
+        words += f"; plausible {plausible} {spec['unit']} ({spec['plausible_source']})"
+    return words
+
+
 class Command(BaseCommand):
-    help = "List the registered method plugins with code, title, unit, standards and inputs."
+    help = (
+        "List the registered method plugins with code, title, unit, standards and inputs (each quantity "
+        "with the bounds beyond which it is refused and the plausible range outside which it is flagged)."
+    )
     # Only the check that concerns the methods: rejected plugins (analyses.W001). The others load
     # the whole API (URLconf, DRF) only to look at it; `manage.py check` runs them all.
     requires_system_checks = [PLUGINS_TAG]
@@ -42,6 +67,7 @@ class Command(BaseCommand):
                 if spec["kind"] == "quantity":
                     optional = "" if spec["required"] else ", optional"
                     self.stdout.write(f"      {spec['name']} ({spec['unit']}{optional}): {spec['help']}")
+                    self.stdout.write(f"        {_bounds(spec)}")
                 else:
                     self.stdout.write(f"      {spec['name']} (one of {', '.join(spec['choices'])}): {spec['help']}")
             for scope in method["scope"]:

@@ -87,3 +87,20 @@ def test_the_session_login_form_leads_to_a_page_that_exists(users):
     assert response.status_code == 302
     assert response["Location"] == "/api/"
     assert client.get(response["Location"]).status_code == 200
+
+
+def test_a_failed_login_says_so_in_words_and_not_which_was_wrong(users):
+    users["qa"].set_password("correct horse")
+    users["qa"].save()
+    wrong_password = APIClient().post("/api/auth/token/", {"username": "qa", "password": "wrong"}, format="json")
+    unknown_user = APIClient().post("/api/auth/token/", {"username": "nosuchuser", "password": "wrong"}, format="json")
+    assert wrong_password.status_code == unknown_user.status_code == 400
+    assert wrong_password.json() == unknown_user.json()  # the same answer: nothing tells which of the two was wrong
+    body = wrong_password.json()
+    assert "non_field_errors" not in body["fields"]
+    assert body["fields"] == {"password": ["the user name or password is wrong"]}
+    assert "user name or password is wrong" in body["detail"]
+    # the session login form says it in words too (Django's own message), on the form
+    page = APIClient().post("/api/auth/login/", {"username": "qa", "password": "wrong"})
+    assert page.status_code == 200 and b"correct username and password" in page.content
+    assert b"non_field_errors" not in page.content

@@ -68,6 +68,14 @@ def test_only_qa_enters_baselines_and_bad_ones_are_refused(clients, lot):
     assert not ControlBaseline.objects.exists()
 
 
+def test_a_baseline_for_a_series_that_does_not_exist_is_a_400_naming_the_key(clients):
+    # issue 13: this was a 201
+    response = clients["qa"].post("/api/trends/baselines/", {"series_key": "production:999:pv", "mean": 4, "sd": 0.5}, format="json")
+    assert response.status_code == 400
+    assert list(response.json()["fields"]) == ["series_key"] and "product 999" in response.json()["detail"]
+    assert not ControlBaseline.objects.exists()
+
+
 def test_series_and_their_control_charts(clients, qc_key):
     series = clients["qa"].get("/api/trends/series/").json()
     # paged like every other list (issue 13)

@@ -179,7 +179,9 @@ CASES = [
         lambda lab: _record(lab, inputs={k: v for k, v in AV_LOW.items() if k != "sample_volume"}),
         "inputs.sample_volume",
     ),
-    Bad("result: inputs giving a result too large to report", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_mass": "1e-300"}), "inputs"),
+    Bad("result: inputs giving a result too large to report", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_volume": "1e300"}), "inputs"),
+    # issue 13: a portion no standard allows (ISO 660's smallest is 0.1 g, from memory)
+    Bad("result: test portion beyond the method's hard bound", "analyst", lambda lab: _record(lab, inputs={**AV_LOW, "sample_mass": "0.000001"}), "inputs.sample_mass"),
     Bad("result: replicate zero", "analyst", lambda lab: _record(lab, replicate=0), "replicate"),
     Bad("result: replicate beyond the test's", "analyst", lambda lab: _record(lab, replicate=3), "replicate"),
     Bad("result: Idempotency-Key too long", "analyst", lambda lab: _record(lab, headers={"Idempotency-Key": "k" * 81}), "Idempotency-Key"),

@@ -99,3 +99,13 @@ def test_investigations_filter_by_lot_product_method_and_date(oos, lab, clients)
     assert ok(qa.get("/api/investigations/", {"method": "pv"}))["count"] == 0
     assert ok(qa.get("/api/investigations/", {"opened_before": "2000-01-01"}))["count"] == 0
     assert ok(qa.get(f"/api/investigations/{oos['id']}/"))["id"] == oos["id"]
+
+
+def test_an_invalid_conclusion_is_a_400_that_lists_the_valid_choices(oos, clients):
+    from analyses.models import Conclusion
+
+    response = clients["qa"].post(f"/api/investigations/{oos['id']}/close/", {"conclusion": "maybe", "findings": "unclear"}, format="json")
+    assert response.status_code == 400
+    message = response.json()["fields"]["conclusion"][0]
+    assert "'maybe'" in message and all(choice in message for choice in Conclusion.values)
+    assert ok(clients["qa"].get(f"/api/investigations/{oos['id']}/"))["state"] == "open"

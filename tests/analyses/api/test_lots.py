@@ -1,7 +1,10 @@
 """Lots over REST: creation, lists with filters, readiness, rejection, certificates."""
 from __future__ import annotations
 
+import datetime as dt
+
 import pytest
+from django.utils import timezone
 
 from tests.factories import SIGNING_PASSWORD
 
@@ -20,6 +23,16 @@ def test_an_incoming_delivery_is_created_with_its_supplier_and_tank(lab, clients
     assert lot["origin"] == "delivery" and lot["supplier"] == "Invented Oils Ltd"
     assert lot["quantity_kg"] == "21500.500" and lot["produced_on"] == "2024-05-02"
     assert lot["state"] == "open" and lot["created_by"] == "manager" and lot["product_code"] == "RSO"
+
+
+def test_a_lot_produced_in_the_future_is_a_400_naming_produced_on(lab, clients):
+    future = (timezone.localdate() + dt.timedelta(days=30)).isoformat()
+    response = clients["manager"].post(
+        "/api/lots/", {"code": "L-FUTURE", "product": lab.product.pk, "origin": "production", "produced_on": future}, format="json"
+    )
+    assert response.status_code == 400
+    assert list(response.json()["fields"]) == ["produced_on"] and "future" in response.json()["fields"]["produced_on"][0]
+    assert clients["manager"].get("/api/lots/", {"code": "L-FUTURE"}).json()["count"] == 0
 
 
 def test_lots_filter_by_state_product_origin_code_and_dates(lab, clients):

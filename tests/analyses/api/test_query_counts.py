@@ -58,6 +58,14 @@ def _test(**fields):
     return TestFactory(assignee=fields.pop("assignee", None) or UserFactory(), reviewed_by=UserFactory(), **fields)
 
 
+def _held_test():
+    """A pending test whose sample is on hold (its state and reason shown in the queue row)."""
+    from analyses.models import SampleState
+
+    sample = SampleFactory(state=SampleState.ON_HOLD, resume_state=SampleState.RECEIVED, state_reason="awaiting customer's approval")
+    return _test(sample=sample)
+
+
 def _investigation():
     test = _test(state=TestState.ACCEPTED)
     Investigation.objects.create(
@@ -114,6 +122,8 @@ LISTINGS = [
     Listing("tests filtered", lambda lab: f"/api/tests/?state=assigned&assignee={lab.users['analyst'].pk}",
             lambda lab: _test(state=TestState.ASSIGNED, assignee=lab.users["analyst"])),
     Listing("work queue", lambda lab: "/api/tests/queue/av/", lambda lab: _test()),
+    Listing("work queue, held samples only", lambda lab: "/api/tests/queue/av/?on_hold=true", lambda lab: _held_test()),
+    Listing("work queue, held samples left out", lambda lab: "/api/tests/queue/av/?on_hold=false", lambda lab: (_held_test(), _test())),
     Listing("my queue", lambda lab: "/api/tests/mine/", lambda lab: _test(state=TestState.ASSIGNED, assignee=lab.users["analyst"]), "analyst"),
     Listing("review queue", lambda lab: "/api/tests/review/", lambda lab: _test(state=TestState.RESULT_ENTERED)),
     Listing("investigations", lambda lab: "/api/investigations/", lambda lab: _investigation()),

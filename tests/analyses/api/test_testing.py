@@ -31,6 +31,34 @@ def test_the_work_queue_orders_by_priority_then_due_date_and_flags_overdue(lab, 
     assert pv.pk in ids(clients["analyst"].get("/api/tests/queue/pv/"))
 
 
+def test_a_held_test_shows_its_hold_is_never_overdue_and_can_be_filtered_in_or_out(lab, users, clients):
+    held_sample, free_sample = lab.received(), lab.received("L-200-B")
+    held = held_sample.tests.get(method_code="av")
+    free = free_sample.tests.get(method_code="av")
+    Test.objects.filter(pk__in=[held.pk, free.pk]).update(due_on=timezone.localdate() - dt.timedelta(days=3))
+    response = clients["qa"].post(f"/api/samples/{held_sample.pk}/hold/", {"reason": "awaiting the customer's reference sample"}, format="json")
+    assert response.status_code == 200, response.content
+    rows = {row["id"]: row for row in clients["analyst"].get("/api/tests/queue/av/").json()["results"]}
+    assert (rows[held.pk]["state"], rows[held.pk]["sample_state"]) == ("pending", "on_hold")
+    assert rows[held.pk]["hold_reason"] == "awaiting the customer's reference sample"
+    assert rows[held.pk]["is_overdue"] is False  # it waits on purpose
+    assert (rows[free.pk]["sample_state"], rows[free.pk]["hold_reason"], rows[free.pk]["is_overdue"]) == ("received", None, True)
+    assert ids(clients["analyst"].get("/api/tests/queue/av/", {"on_hold": "true"})) == [held.pk]
+    assert ids(clients["analyst"].get("/api/tests/queue/av/", {"on_hold": "false"})) == [free.pk]
+    bad = clients["analyst"].get("/api/tests/queue/av/", {"on_hold": "perhaps"})
+    assert bad.status_code == 400 and list(bad.json()["fields"]) == ["on_hold"]
+    # the test list and its overdue filter agree: a held test is not overdue anywhere
+    assert ids(clients["analyst"].get("/api/tests/", {"overdue": "true", "method": "av"})) == [free.pk]
+    assert clients["analyst"].get(f"/api/tests/{held.pk}/").json()["is_overdue"] is False
+    # assigning it is still refused while the sample is held, saying why
+    assign = clients["manager"].post("/api/tests/assign/", {"tests": [held.pk], "assignee": users["analyst"].pk}, format="json")
+    assert assign.status_code == 409 and "on hold" in assign.json()["detail"]
+    resumed = clients["qa"].post(f"/api/samples/{held_sample.pk}/resume/", {"reason": "reference sample arrived"}, format="json")
+    assert resumed.status_code == 200, resumed.content
+    row = next(r for r in clients["analyst"].get("/api/tests/queue/av/").json()["results"] if r["id"] == held.pk)
+    assert (row["sample_state"], row["hold_reason"], row["is_overdue"]) == ("received", None, True)
+
+
 def test_assignment_and_reassignment_fill_each_analysts_queue(lab, users, clients):
     tests = list(lab.received().tests.order_by("method_code").values_list("pk", flat=True))
     first = clients["manager"].post(

@@ -29,3 +29,11 @@ def test_methods_text_shows_each_scope_with_its_source(capsys):
     assert "scope: 0 to 30 meq O2/kg, ISO 3960" in out
     assert "scope: up to below 70" not in out and "scope: below 70 meq O2/kg, AOCS Cd 8b-90" in out
     assert "scope: 18 to 165 g I2/100 g, AOCS Cd 1d-92" in out
+
+
+def test_methods_text_shows_each_quantitys_bounds_and_plausible_range(capsys):
+    call_command("methods")
+    out = capsys.readouterr().out
+    # AOCS Cd 8b-90 (found): 5.00 ± 0.05 g; refused below a tenth and above ten times the portion
+    assert "allowed 0.5 to 50 g; plausible 4.95 to 5.05 g (AOCS Cd 8b-90 test portion: 5.00 g ± 0.05 g)" in out
+    assert "plausible up to 50 mL (one filling of a 50 mL burette (common practice, no source))" in out

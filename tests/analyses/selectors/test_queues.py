@@ -5,7 +5,7 @@ import datetime as dt
 
 import pytest
 
-from analyses.models import Priority, TestState
+from analyses.models import Priority, SampleState, TestState
 from analyses.selectors.queues import my_queue, review_queue, work_queue
 from analyses.selectors import queues
 from analyses.services.assignments import test_assign_bulk
@@ -34,6 +34,17 @@ def test_a_method_queue_is_ordered_by_priority_then_due_date_and_flags_overdue(u
         normal_late.pk: True,
         low.pk: True,
     }
+
+
+def test_a_held_test_is_listed_not_overdue_and_filtered_in_or_out(users):
+    line = SpecificationLineFactory(method_code="pv", unit="meq O2/kg", maximum="10.0")
+    late = TODAY - dt.timedelta(days=4)
+    held_sample = SampleFactory(state=SampleState.ON_HOLD, resume_state=SampleState.RECEIVED, state_reason="drum leaking")
+    held = TestFactory(specification_line=line, sample=held_sample, due_on=late)
+    free = TestFactory(specification_line=line, due_on=late)
+    assert {t.pk: t.is_overdue for t in work_queue("pv", today=TODAY)} == {held.pk: False, free.pk: True}
+    assert [t.pk for t in work_queue("pv", on_hold=True, today=TODAY)] == [held.pk]
+    assert [t.pk for t in work_queue("pv", on_hold=False, today=TODAY)] == [free.pk]
 
 
 def test_my_queue_holds_only_my_workable_tests(users, assigned_tests):

@@ -1,10 +1,13 @@
 """Lots: deliveries, release only when complete (409 listing what is missing), rejection."""
 from __future__ import annotations
 
+import datetime as dt
+
 import pytest
+from django.utils import timezone
 
 from analyses.errors import Conflict, InvalidInput
-from analyses.models import AuditEntry, Certificate, ImmutableRowError, LotState, SampleState, TestState
+from analyses.models import AuditEntry, Certificate, ImmutableRowError, Lot, LotState, SampleState, TestState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.lots import lot_create, lot_reject, lot_release
 from analyses.services.results import result_record
@@ -35,6 +38,16 @@ def test_a_delivery_needs_its_supplier_and_container(users, product):
     with pytest.raises(InvalidInput) as caught:
         lot_create(users["manager"], code="D-1", product=product, origin="production")
     assert list(caught.value.fields) == ["code"]
+
+
+def test_a_lot_produced_in_the_future_is_refused_and_today_is_not(users, product):
+    tomorrow = timezone.localdate() + dt.timedelta(days=1)
+    with pytest.raises(InvalidInput) as caught:
+        lot_create(users["manager"], code="F-1", product=product, origin="production", produced_on=tomorrow)
+    assert list(caught.value.fields) == ["produced_on"] and tomorrow.isoformat() in caught.value.fields["produced_on"][0]
+    assert not Lot.objects.filter(code="F-1").exists()
+    lot = lot_create(users["manager"], code="F-1", product=product, origin="production", produced_on=timezone.localdate())
+    assert lot.produced_on == timezone.localdate()
 
 
 def test_release_lists_everything_missing_and_changes_nothing(users, assigned_tests):

@@ -76,3 +76,17 @@ def test_a_replicate_entered_under_older_checks_is_named_not_refused(users, assi
     pv.refresh_from_db()
     assert len(pv.review_warnings) == 1
     assert pv.review_warnings[0].startswith("replicate 1: its inputs no longer pass method pv's checks (blank_volume:")
+
+
+def test_an_implausible_input_warns_by_replicate_and_a_correction_clears_it(users, assigned_tests):
+    pv = by_method(assigned_tests)["pv"]
+    # 2.5 g: outside AOCS Cd 8b-90's 5.00 ± 0.05 g (found); 12.45 mL x 0.002 mol/L x 1000 / 2.5 g = 9.96 meq O2/kg
+    half = {**PV_LOW, "sample_mass": "2.5"}
+    enter_duplicates(users["analyst"], pv, half, PV_LOW_TWIN)
+    pv.refresh_from_db()
+    (warning,) = pv.review_warnings
+    assert warning.startswith("replicate 1: sample_mass 2.5 g is below its plausible minimum 4.95 g")
+    first = Result.objects.get(test=pv, replicate=1, status="current")
+    result_correct(users["analyst"], first, **entry_for(pv, PV_LOW), reason="portion misread: 5.0 g")
+    pv.refresh_from_db()
+    assert pv.review_warnings == []

@@ -99,6 +99,25 @@ def test_bad_baselines_name_the_field(users, key, sd, field):
     assert not ControlBaseline.objects.exists()
 
 
+@pytest.mark.parametrize(
+    "key, words",
+    [("production:999999:pv", "product 999999"), ("qc:999999:av", "lot 999999"), ("qc:{lot}:xyz", "method 'xyz'")],
+    ids=["no-product", "no-lot", "no-method"],
+)
+def test_a_baseline_for_a_series_that_does_not_exist_is_refused(qc_lot, users, key, words):
+    with pytest.raises(InvalidInput) as caught:
+        control_baseline_set(users["qa"], series_key=key.format(lot=qc_lot.pk), mean=1, sd=0.1)
+    assert list(caught.value.fields) == ["series_key"]
+    assert words in caught.value.fields["series_key"][0]
+    assert not ControlBaseline.objects.exists()
+
+
+def test_a_baseline_may_come_before_the_series_first_result(qc_lot, users):
+    """From a reference material's certificate: the lot exists, no result yet."""
+    baseline = control_baseline_set(users["qa"], series_key=f"qc:{qc_lot.pk}:pv", mean=4.0, sd=0.2)
+    assert baseline.method_code == "pv"
+
+
 def test_replacing_a_baseline_records_old_and_new_values(qc_lot, users):
     key = f"qc:{qc_lot.pk}:av"
     control_baseline_set(users["qa"], series_key=key, mean=1.0, sd=0.1)
