@@ -18,7 +18,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.contract import MethodInputError, MethodPlugin, MethodScope, QuantityInput, WorkedExample
-from plugins.titration import sample_mass
+from plugins.titration import PortionRange, sample_mass
 
 
 class InsolubleImpurities(MethodPlugin):
@@ -28,7 +28,11 @@ class InsolubleImpurities(MethodPlugin):
     instruments = (("balance",), ("oven",))
     standards = ("ISO 663",)
     inputs = (
-        sample_mass("Test portion, about 20 g (from memory, not confirmed)"),
+        sample_mass(
+            "Test portion, about 20 g (from memory, not confirmed)",
+            PortionRange("20", "20", "ISO 663: a test portion of about 20 g", evidence="from memory"),
+            refuse_beyond=False,  # the portion is from memory: outside it only warns
+        ),
         QuantityInput(
             "residue_mass", "g",
             "Residue on the filter after washing with n-hexane or light petroleum and drying at 103 °C "

@@ -20,7 +20,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.contract import MethodInputError, MethodPlugin, MethodScope, QuantityInput, WorkedExample
-from plugins.titration import sample_mass
+from plugins.titration import PortionRange, sample_mass
 
 # (low, high, standard): the oven temperatures each standard prescribes, in degC (found)
 OVEN_WINDOWS = (
@@ -40,7 +40,10 @@ class MoistureVolatileMatter(MethodPlugin):
     instruments = (("balance",), ("oven",))
     standards = ("ISO 662", "AOCS Ca 2c-25")
     inputs = (
-        sample_mass("Test portion, about 5 g or 10 g by the expected content (ISO 662:2016, oven method)"),
+        sample_mass(
+            "Test portion, about 5 g or 10 g by the expected content (ISO 662:2016, oven method)",
+            PortionRange("5", "10", "ISO 662:2016 oven method: about 5 g or 10 g by the expected content"),
+        ),
         mass_loss("Mass lost in the oven: the test portion's mass before heating minus its constant mass after"),
         QuantityInput(
             "oven_temperature", "degC",

@@ -22,7 +22,7 @@ from typing import Any
 from plugins import codex
 from plugins.blanks import check_blank_declared, prescribed_blank_inputs
 from plugins.contract import TITRATION_INSTRUMENTS, BlankRule, MethodPlugin, WorkedExample
-from plugins.titration import direct_titration_volume, sample_mass, sample_volume, titrant_concentration
+from plugins.titration import PortionRange, direct_titration_volume, sample_mass, sample_volume, titrant_concentration
 
 SODIUM_OLEATE_MOLAR_MASS = Decimal("304.4")  # g/mol, C18H33NaO2 (computed; molmass: 304.44)
 AOCS_CC_17_95 = "AOCS Cc 17-95"
@@ -36,7 +36,7 @@ class SoapContent(MethodPlugin):
     instruments = TITRATION_INSTRUMENTS
     standards = (AOCS_CC_17_95,)
     inputs = (
-        sample_mass("Test portion, 40 g (AOCS Cc 17-95)"),
+        sample_mass("Test portion, 40 g (AOCS Cc 17-95)", PortionRange("40", "40", "AOCS Cc 17-95: a 40 g test portion")),
         sample_volume("HCl titre for the sample, from a 5 mL microburette"),
         *prescribed_blank_inputs(
             f"HCl titre for the blank (the neutralised aqueous acetone with 1 mL of water, no oil); "

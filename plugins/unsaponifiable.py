@@ -22,7 +22,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.contract import TITRATION_INSTRUMENTS, MethodInputError, MethodPlugin, MethodScope, QuantityInput, WorkedExample
-from plugins.titration import sample_mass, sample_volume, titrant_concentration
+from plugins.titration import PortionRange, sample_mass, sample_volume, titrant_concentration
 
 OLEIC_ACID_PER_MMOL = Decimal("0.282")  # g of oleic acid per mmol of NaOH (M = 282 g/mol; from memory)
 
@@ -54,7 +54,11 @@ class UnsaponifiableMatter(MethodPlugin):
     instruments = TITRATION_INSTRUMENTS
     standards = ("ISO 3596", "AOCS Ca 6a-40")
     inputs = (
-        sample_mass("Test portion, about 5 g (from memory, not confirmed)"),
+        sample_mass(
+            "Test portion, about 5 g (from memory, not confirmed)",
+            PortionRange("5", "5", "ISO 3596: a test portion of about 5 g", evidence="from memory"),
+            refuse_beyond=False,  # the portion is from memory: outside it only warns
+        ),
         QuantityInput("residue_mass", "g", "Dried residue of the extract, weighed by difference", minimum=0.0),
         QuantityInput(
             "blank_residue_mass", "g", "Dried residue of the reagent blank (no oil); 0 when none was left",
