@@ -2,10 +2,10 @@
 the inputs a specification line completes (the basis its unit follows)."""
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
-from analyses.models import DecisionRule, ResultStatus, SpecificationLine, Test, Verdict
+from analyses.models import DecisionRule, Result, ResultStatus, SpecificationLine, Test, Verdict
 from analyses.services.result_trace import stored_inputs
 from plugins.blanks import blank_warnings
 from plugins.contract import MethodInputError, MethodPlugin
@@ -24,10 +24,12 @@ def line_inputs(plugin: MethodPlugin, line: SpecificationLine, inputs: Mapping[s
     return {**inputs, plugin.basis.input_name: line.basis}
 
 
-def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
+def _replicate_warnings(plugin: MethodPlugin, test: Test, current: Sequence[Result] | None = None) -> list[str]:
     """Blank warnings of each current replicate, one line per distinct warning naming the replicates."""
     by_warning: dict[str, list[int]] = {}
-    for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
+    if current is None:
+        current = test.results.filter(status=ResultStatus.CURRENT).order_by("replicate")
+    for result in current:
         try:
             values = plugin.validate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
         except MethodInputError as exc:  # entered under an older version of the method's checks
@@ -43,16 +45,24 @@ def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
     return lines
 
 
-def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[str]:
+# "not given": read it from the database
+_READ = object()
+
+
+def test_review_warnings(
+    plugin: MethodPlugin, test: Test, mean: Any, *, current: Sequence[Result] | None = None, expanded: Any = _READ
+) -> list[str]:
     """What the reviewer should weigh before accepting ``test``, whose replicates are all in:
-    their blanks, the mean against the method's scope, and a conditional pass. Never a reason to refuse."""
+    their blanks, the mean against the method's scope, and a conditional pass. Never a reason to refuse.
+    A caller that holds them passes the current replicates (by replicate number) and the
+    mean's expanded U (None: none), which are otherwise read."""
     return (
-        _replicate_warnings(plugin, test) + scope_warnings(plugin, mean, test.specification_line.unit)
-        + _decision_warnings(test, mean)
+        _replicate_warnings(plugin, test, current) + scope_warnings(plugin, mean, test.specification_line.unit)
+        + _decision_warnings(test, mean, expanded)
     )
 
 
-def _decision_warnings(test: Test, mean: Any) -> list[str]:
+def _decision_warnings(test: Test, mean: Any, expanded: Any = _READ) -> list[str]:
     """A conditional pass (ILAC G8 non-binary statements) is no OOS; it releases, and is said."""
     from analyses.services.uncertainty import mean_expanded_uncertainty
     from analyses.services.verdicts import guard_band_for, line_verdict
@@ -60,7 +70,8 @@ def _decision_warnings(test: Test, mean: Any) -> list[str]:
     line = test.specification_line
     if line.decision_rule != DecisionRule.NON_BINARY:
         return []
-    expanded = mean_expanded_uncertainty(test)
+    if expanded is _READ:
+        expanded = mean_expanded_uncertainty(test)
     if line_verdict(mean, line, expanded) != Verdict.CONDITIONAL_PASS:
         return []
     return [
