@@ -110,33 +110,68 @@ def audit_append(
 ) -> AuditEntry:
     """Append one entry for ``obj``; must run inside the caller's transaction, so the entry
     and the change it records are committed (or rolled back) together."""
-    if action not in AuditAction.values:
-        raise ValueError(f"unknown audit action {action!r}")
+    entry = PendingEntry(actor, action, obj, changes, reason=reason, lot_ref=lot_ref, sample_ref=sample_ref)
+    [appended] = audit_append_many([entry], bulk=False)
+    return appended
+
+
+@dataclass(frozen=True)
+class PendingEntry:
+    """An audit entry to append: what ``audit_append`` takes, for ``audit_append_many``."""
+
+    actor: Any
+    action: str
+    obj: models.Model
+    changes: Mapping[str, Any]
+    reason: str = ""
+    lot_ref: int | None = None
+    sample_ref: int | None = None
+
+
+def audit_append_many(entries: Sequence[PendingEntry], *, bulk: bool = True) -> list[AuditEntry]:
+    """Append ``entries`` in order under one lock of the chain head: each gets its own
+    sequence and its own hash, chained on the one before, and the head is updated once.
+    The same chain as ``audit_append`` called for each in turn, in three queries instead of
+    three per entry. Must run inside the caller's transaction."""
+    for pending in entries:
+        if pending.action not in AuditAction.values:
+            raise ValueError(f"unknown audit action {pending.action!r}")
     if not transaction.get_connection().in_atomic_block:
         raise RuntimeError("audit_append must run inside transaction.atomic()")
+    if not entries:
+        return []
     head, _ = AuditChainHead.objects.select_for_update().get_or_create(id=1)
     # chain from the head, not from the last row found: after rows were deleted from the
     # end, the next entry still points at the deleted one and the gap shows
-    sequence = head.last_sequence + 1
-    previous_hash = head.last_hash
-    fields = {
-        "sequence": sequence,
-        "at": timezone.now(),
-        "actor_id": getattr(actor, "pk", None),
-        "actor_username": getattr(actor, "username", "") or "",
-        "action": action,
-        "object_type": obj._meta.label_lower,
-        "object_id": str(obj.pk),
-        "changes": json_safe(dict(changes)),
-        "reason": reason or "",
-        "lot_ref": lot_ref,
-        "sample_ref": sample_ref,
-    }
-    entry_hash = chain_hash(previous_hash, canonical_content(**fields))
-    entry = AuditEntry.objects.create(previous_hash=previous_hash, entry_hash=entry_hash, **fields)
-    head.last_sequence, head.last_hash = sequence, entry_hash
+    sequence, previous_hash = head.last_sequence, head.last_hash
+    at = timezone.now()
+    rows = []
+    for pending in entries:
+        sequence += 1
+        fields = {
+            "sequence": sequence,
+            "at": at,
+            "actor_id": getattr(pending.actor, "pk", None),
+            "actor_username": getattr(pending.actor, "username", "") or "",
+            "action": pending.action,
+            "object_type": pending.obj._meta.label_lower,
+            "object_id": str(pending.obj.pk),
+            "changes": json_safe(dict(pending.changes)),
+            "reason": pending.reason or "",
+            "lot_ref": pending.lot_ref,
+            "sample_ref": pending.sample_ref,
+        }
+        entry_hash = chain_hash(previous_hash, canonical_content(**fields))
+        rows.append(AuditEntry(previous_hash=previous_hash, entry_hash=entry_hash, **fields))
+        previous_hash = entry_hash
+    if bulk:
+        AuditEntry.objects.bulk_create(rows)
+    else:
+        for row in rows:
+            row.save()
+    head.last_sequence, head.last_hash = sequence, previous_hash
     head.save(update_fields=["last_sequence", "last_hash"])
-    return entry
+    return rows
 
 
 @dataclass(frozen=True)

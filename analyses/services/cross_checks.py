@@ -183,30 +183,49 @@ def own_warnings(warnings: Iterable[str]) -> list[str]:
     return [w for w in warnings or () if not w.startswith(CROSS_CHECK_PREFIX)]
 
 
-def _partners(test: Test) -> list[Test]:
-    codes = {code for check in CROSS_CHECKS if test.method_code in check.methods for code in check.methods if code != test.method_code}
+def _partner_codes(method_code: str) -> set[str]:
+    return {code for check in CROSS_CHECKS if method_code in check.methods for code in check.methods if code != method_code}
+
+
+def cross_check_partners(tests: Iterable[Test]) -> dict[int, list[Test]]:
+    """Each test's partners on its sample (tests of the methods a check ties to its own), read
+    and locked in one query for all of them; a partner that is itself among ``tests`` is that
+    object, so a batch that completes both sees both as they now stand."""
+    tests = list(tests)
+    codes = {code for test in tests for code in _partner_codes(test.method_code)}
     if not codes:
-        return []
-    return list(
-        Test.objects.select_for_update()
+        return {test.pk: [] for test in tests}
+    given = {test.pk: test for test in tests}
+    rows = [
+        given.get(row.pk, row)
+        for row in Test.objects.select_for_update()
         .select_related("specification_line")
-        .filter(sample_id=test.sample_id, method_code__in=codes)
-        .exclude(pk=test.pk)
+        .filter(sample_id__in={test.sample_id for test in tests}, method_code__in=codes)
         .order_by("pk")
-    )
+    ]
+    return {
+        test.pk: [row for row in rows if row.sample_id == test.sample_id and row.pk != test.pk
+                  and row.method_code in _partner_codes(test.method_code)]
+        for test in tests
+    }
 
 
-def cross_check_warnings(test: Test) -> list[str]:
+def _partners(test: Test) -> list[Test]:
+    return cross_check_partners([test])[test.pk]
+
+
+def cross_check_warnings(test: Test, partners: list[Test] | None = None) -> list[str]:
     """``test``'s cross-check warnings against its partners on the sample, as they stand now;
-    ``test`` is taken as given (its new aggregate need not be saved yet)."""
-    return _warnings_between(test, _partners(test))
+    ``test`` is taken as given (its new aggregate need not be saved yet). ``partners`` when the
+    caller has read them (``cross_check_partners``)."""
+    return _warnings_between(test, _partners(test) if partners is None else partners)
 
 
-def cross_checks_refresh_partners(actor: Actor, test: Test, *, reason: str) -> None:
+def cross_checks_refresh_partners(actor: Actor, test: Test, *, reason: str, partners: list[Test] | None = None) -> None:
     """Work out again the cross-check warnings of ``test``'s partners on the sample, against
     ``test`` as given, and store those that changed, each audited. Run inside the caller's
     transaction, with the sample locked (``results.lock_test_row``)."""
-    partners = _partners(test)
+    partners = _partners(test) if partners is None else partners
     for partner in partners:
         others = [test, *(p for p in partners if p.pk != partner.pk)]
         before = list(partner.review_warnings or [])

@@ -10,12 +10,14 @@ or a need no instrument meets. A typed ``titrant_concentration`` is refused here
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
+from django.db.models import Q
+
 from analyses.errors import Conflict, InvalidInput
-from analyses.models import Instrument, ReagentLot, Result, ResultInstrument, Standardisation
+from analyses.models import Calibration, Instrument, ReagentLot, Result, ResultInstrument, Standardisation
 from analyses.selectors.traceability import instrument_facts, instruments_by_reference, lot_facts, lots_with_current
 from analyses.services.access import ID_MAX
 from analyses.traceability.usability import instrument_refusal, lot_refusal
@@ -66,6 +68,52 @@ class Trace:
         }
 
 
+@dataclass(frozen=True)
+class TraceCatalog:
+    """The titrant lots (with their current standardisation) and the instruments (with their
+    latest calibration and check) that a batch of entries names, read in a fixed number of
+    queries (``trace_catalog``), so that checking each entry's trace reads nothing more."""
+
+    lots_by_pk: dict[int, ReagentLot] = field(default_factory=dict)
+    lots_by_code: dict[str, ReagentLot] = field(default_factory=dict)
+    standardisations: dict[int, Standardisation] = field(default_factory=dict)
+    instruments: dict[int | str, Instrument] = field(default_factory=dict)
+    calibrations: dict[int, Calibration] = field(default_factory=dict)
+
+    def lot(self, ref: int | str) -> ReagentLot | None:
+        return self.lots_by_pk.get(ref) if isinstance(ref, int) else self.lots_by_code.get(ref)
+
+
+def _usable_reference(raw: Any) -> int | str | None:
+    """``raw`` as ``_reference`` reads it, or None where it would refuse it."""
+    try:
+        return _reference(raw, "")
+    except InvalidInput:
+        return None
+
+
+def trace_catalog(titrant_lots: Iterable[Any], instruments: Iterable[Any]) -> TraceCatalog:
+    """The lots and instruments named (ids or codes; anything unusable is left for the check
+    of its entry to refuse), in at most four queries."""
+    refs = {ref for ref in map(_usable_reference, titrant_lots) if ref is not None}
+    ids = [ref for ref in refs if isinstance(ref, int)]
+    codes = [ref for ref in refs if isinstance(ref, str)]
+    catalog = TraceCatalog()
+    if refs:
+        lots = lots_with_current(ReagentLot.objects.select_related("kind")).filter(Q(pk__in=ids) | Q(code__in=codes))
+        for lot in lots:
+            catalog.lots_by_pk[lot.pk] = lot
+            catalog.lots_by_code[lot.code] = lot
+        current = [lot.current_standardisation_id for lot in catalog.lots_by_pk.values() if lot.current_standardisation_id]
+        catalog.standardisations.update(Standardisation.objects.in_bulk(current))
+    named = {ref for ref in map(_usable_reference, instruments) if ref is not None}
+    if named:
+        catalog.instruments.update(instruments_by_reference(named))
+        calibrations = {i.latest_calibration_id for i in catalog.instruments.values() if i.latest_calibration_id}
+        catalog.calibrations.update(Calibration.objects.in_bulk(calibrations))
+    return catalog
+
+
 def _reference(raw: Any, field_name: str) -> int | str:
     if isinstance(raw, bool) or not isinstance(raw, (int, str)) or (isinstance(raw, str) and not raw.strip()):
         raise InvalidInput.for_field(field_name, "must be an id or a code")
@@ -74,10 +122,15 @@ def _reference(raw: Any, field_name: str) -> int | str:
     return raw.strip() if isinstance(raw, str) else raw
 
 
-def _lot(plugin: MethodPlugin, raw: Any, now: dt.datetime) -> tuple[ReagentLot, Standardisation]:
+def _lot(
+    plugin: MethodPlugin, raw: Any, now: dt.datetime, catalog: TraceCatalog | None = None
+) -> tuple[ReagentLot, Standardisation]:
     ref = _reference(raw, "titrant_lot")
-    lookup = {"pk": ref} if isinstance(ref, int) else {"code": ref}
-    lot = lots_with_current(ReagentLot.objects.select_related("kind")).filter(**lookup).first()
+    if catalog is not None:
+        lot = catalog.lot(ref)
+    else:
+        lookup = {"pk": ref} if isinstance(ref, int) else {"code": ref}
+        lot = lots_with_current(ReagentLot.objects.select_related("kind")).filter(**lookup).first()
     if lot is None:
         raise InvalidInput.for_field("titrant_lot", f"no titrant lot {ref!r}")
     if lot.kind.substance not in plugin.titrants:
@@ -89,10 +142,14 @@ def _lot(plugin: MethodPlugin, raw: Any, now: dt.datetime) -> tuple[ReagentLot, 
     refusal = lot_refusal(lot_facts(lot), now)
     if refusal:
         raise Conflict(refusal, missing=["titrant_lot"])
+    if catalog is not None and lot.current_standardisation_id in catalog.standardisations:
+        return lot, catalog.standardisations[lot.current_standardisation_id]
     return lot, Standardisation.objects.get(pk=lot.current_standardisation_id)
 
 
-def _instruments(plugin: MethodPlugin, raw: Any, now: dt.datetime) -> tuple[InstrumentUse, ...]:
+def _instruments(
+    plugin: MethodPlugin, raw: Any, now: dt.datetime, catalog: TraceCatalog | None = None
+) -> tuple[InstrumentUse, ...]:
     if not plugin.instruments and raw in (None, []):
         return ()
     if isinstance(raw, (str, bytes, Mapping)) or not isinstance(raw, Sequence) or not raw:
@@ -101,7 +158,7 @@ def _instruments(plugin: MethodPlugin, raw: Any, now: dt.datetime) -> tuple[Inst
     if len(raw) > MAX_INSTRUMENTS:
         raise InvalidInput.for_field("instruments", f"at most {MAX_INSTRUMENTS}")
     refs = [_reference(item, f"instruments.{i}") for i, item in enumerate(raw)]
-    found = instruments_by_reference(refs)
+    found = catalog.instruments if catalog is not None else instruments_by_reference(refs)
     chosen: list[Instrument] = []
     for index, ref in enumerate(refs):
         instrument = found.get(ref)
@@ -149,18 +206,21 @@ def trace_is_complete(plugin: MethodPlugin, trace: Trace) -> bool:
 
 
 def trace_for_entry(
-    plugin: MethodPlugin, inputs: Any, *, titrant_lot: Any, instruments: Any, now: dt.datetime
+    plugin: MethodPlugin, inputs: Any, *, titrant_lot: Any, instruments: Any, now: dt.datetime,
+    catalog: TraceCatalog | None = None,
 ) -> Trace:
-    """The checked trace of a new entry, or the refusal. Runs before anything is written."""
+    """The checked trace of a new entry, or the refusal. Runs before anything is written.
+    With ``catalog`` (``trace_catalog`` of the batch) the lots and instruments are looked up
+    there, not read one by one."""
     refuse_typed_titrant(plugin, inputs)
     lot = standardisation = None
     if plugin.titrants:
         if titrant_lot in (None, ""):
             raise InvalidInput.for_field("titrant_lot", f"is required: method {plugin.code} titrates with {' or '.join(plugin.titrants)}")
-        lot, standardisation = _lot(plugin, titrant_lot, now)
+        lot, standardisation = _lot(plugin, titrant_lot, now, catalog)
     elif titrant_lot not in (None, ""):
         raise InvalidInput.for_field("titrant_lot", f"method {plugin.code} uses no titrant")
-    return Trace(lot, standardisation, _instruments(plugin, instruments, now))
+    return Trace(lot, standardisation, _instruments(plugin, instruments, now, catalog))
 
 
 def stored_inputs(result: Result) -> dict[str, Any]:
@@ -186,4 +246,15 @@ def trace_save(result: Result, trace: Trace) -> None:
     fields of the result itself)."""
     ResultInstrument.objects.bulk_create(
         [ResultInstrument(result=result, instrument=u.instrument, calibration_id=u.calibration_id, routine_check_id=u.check_id) for u in trace.uses]
+    )
+
+
+def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
+    """``trace_save`` for many inserted results at once: one insert."""
+    ResultInstrument.objects.bulk_create(
+        [
+            ResultInstrument(result=result, instrument=u.instrument, calibration_id=u.calibration_id, routine_check_id=u.check_id)
+            for result, trace in entered
+            for u in trace.uses
+        ]
     )

@@ -193,27 +193,32 @@ def _aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: st
 def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | None, *, reason: str) -> None:
     """Store (or clear, with None) the test's aggregate fields, recording the change. The
     review warnings are worked out here, from the current replicates as stored."""
+    warnings = None if aggregate is None else test_review_warnings(_plugin(test), test, Decimal(aggregate["value_exact"]))
+    before = {name: getattr(test, name) for name in AGGREGATE_FIELDS}
+    apply_test_aggregate(test, aggregate, warnings or [])
+    # results of other methods on the sample that chemistry ties to this one (services/cross_checks.py)
+    if aggregate is not None:
+        test.review_warnings = [*test.review_warnings, *cross_check_warnings(test)]
+    cross_checks_refresh_partners(actor, test, reason=reason)
+    changes = {name: [before[name], getattr(test, name)] for name in AGGREGATE_FIELDS if before[name] != getattr(test, name)}
+    if changes:
+        audit_append(
+            actor, AuditAction.CHANGE, test, changes, reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id
+        )
+
+
+def apply_test_aggregate(test: Test, aggregate: dict[str, Any] | None, warnings: list[str]) -> dict[str, list[Any]]:
+    """Set the test's aggregate fields (cleared with None) and its review ``warnings`` on the
+    object, unsaved; the changes, for its audit entry."""
     before = {name: getattr(test, name) for name in AGGREGATE_FIELDS}
     cleared = {
         "value": None, "value_exact": "", "reported": "", "unit": "", "verdict": "", "duplicate_check": None,
         "review_warnings": [],
     }
-    if aggregate is None:
-        after = cleared
-    else:
-        mean = Decimal(aggregate["value_exact"])
-        after = {**aggregate, "review_warnings": test_review_warnings(_plugin(test), test, mean)}
+    after = cleared if aggregate is None else {**aggregate, "review_warnings": warnings}
     for name, value in after.items():
         setattr(test, name, value)
-    # results of other methods on the sample that chemistry ties to this one (services/cross_checks.py)
-    if aggregate is not None:
-        after["review_warnings"] = test.review_warnings = after["review_warnings"] + cross_check_warnings(test)
-    cross_checks_refresh_partners(actor, test, reason=reason)
-    changes = {name: [before[name], after[name]] for name in AGGREGATE_FIELDS if before[name] != after[name]}
-    if changes:
-        audit_append(
-            actor, AuditAction.CHANGE, test, changes, reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id
-        )
+    return {name: [before[name], after[name]] for name in AGGREGATE_FIELDS if before[name] != after[name]}
 
 
 def _result_fields(
@@ -265,22 +270,8 @@ def _replay(
     return first
 
 
-def _check_same_trace(first: Result, key: str, titrant_lot: Any, instruments: Any) -> None:
-    """Conflict when a repeated key names another titrant lot or other instruments than the
-    result it first recorded (each as an id or a code)."""
-    if titrant_lot not in (None, ""):
-        lot = first.reagent_lot
-        if lot is None or titrant_lot not in (lot.pk, lot.code):
-            raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with another titrant lot")
-    if instruments is not None:
-        used = [(u.instrument_id, u.instrument.asset_id) for u in first.instrument_uses.select_related("instrument")]
-        named = list(instruments) if isinstance(instruments, (list, tuple)) else [instruments]
-        if len(named) != len(used) or any(not any(ref in pair for pair in used) for ref in named):
-            raise Conflict(f"idempotency key {key!r} was already used for result {first.pk} with other instruments")
-
-
 def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Result:
-    """Insert ``result``; a concurrent twin with the same idempotency key wins and is returned."""
+    """Insert ``result`` (a correction); a concurrent twin with the same idempotency key wins and is returned."""
     try:
         with transaction.atomic():
             result.save(force_insert=True)
@@ -314,54 +305,14 @@ def result_record_once(
     errors become InvalidInput on ``inputs.<field>``; nothing is written on any error.
     With ``idempotency_key``, a repeat by the same user (same test and inputs) returns the
     first result, ``replayed``; the key reused for anything else is a Conflict."""
-    refuse_raw_data_edit_by_qa(actor)  # first, so that QA hears why
-    require_permission(actor, "record_result", "enter results")
-    key = _clean_key(idempotency_key)
-    if replicate is not None and (isinstance(replicate, bool) or not isinstance(replicate, int)):
-        raise InvalidInput.for_field("replicate", "must be a whole number")
-    with transaction.atomic():
-        test = lock_test_row(test)
-        if key:
-            first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
-            if first is not None:
-                _check_same_trace(first, key, titrant_lot, instruments)
-                return Recorded(_replay(first, test, inputs, key), replayed=True)
-        _check_may_enter(actor, test)
-        _check_workable(test)
-        current = {r.replicate: r for r in test.results.filter(status=ResultStatus.CURRENT)}
-        if replicate is None:
-            free = [n for n in range(1, test.replicates + 1) if n not in current]
-            if not free:
-                raise Conflict(f"test {test.pk} has all {test.replicates} replicate(s); correct one instead")
-            replicate = free[0]
-        elif not 1 <= replicate <= test.replicates:
-            raise InvalidInput.for_field("replicate", f"must be between 1 and {test.replicates}")
-        elif replicate in current:
-            raise Conflict(f"test {test.pk} already has replicate {replicate} (result {current[replicate].pk}); correct it instead")
-        plugin = _plugin(test)
-        trace = trace_for_entry(plugin, inputs, titrant_lot=titrant_lot, instruments=instruments, now=timezone.now())
-        outcome = _calculate(plugin, test, inputs, trace)
-        values = [exact_value(r) for r in current.values()] + [outcome.judged]
-        complete = len(values) == test.replicates
-        aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
-        result = Result(
-            replicate=replicate, idempotency_key=key,
-            **_result_fields(actor, test, inputs, outcome, aggregate, trace),
-        )
-        inserted = _insert(result, actor=actor, key=key, test=test)
-        if inserted is not result:  # a concurrent twin of this request won
-            return Recorded(inserted, replayed=True)
-        trace_save(result, trace)
-        result_uncertainty_record(result, aggregate)  # its budget, and verdicts by the line's decision rule
-        audit_append(
-            actor, AuditAction.CREATE, result, _created_with_trace(result, trace),
-            lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
-        )
-        if complete:
-            set_test_aggregate(actor, test, aggregate, reason="all replicates entered")
-            record_test_move(actor, test, TestState.RESULT_ENTERED)
-            test.save(update_fields=["state", *AGGREGATE_FIELDS])
-    return Recorded(result, replayed=False)
+    from analyses.services.result_batch import EntryRefused, EntryRequest, results_enter
+
+    request = EntryRequest(test, inputs, replicate, idempotency_key, titrant_lot, instruments)
+    try:
+        [recorded] = results_enter(actor, [request])
+    except EntryRefused as refused:
+        raise refused.error from None
+    return recorded
 
 
 def result_record(
@@ -410,28 +361,34 @@ def result_record_bulk_once(
     room = KEY_MAX_CHARS - len(f"#{len(results) - 1}")  # for the item keys "<key>#i"
     if batch_key and len(batch_key) > room:
         raise InvalidInput.for_field("idempotency_key", f"must be at most {room} characters for {len(results)} items")
-    recorded: list[Recorded] = []
-    with transaction.atomic():
-        for index, item in enumerate(results):
-            try:
-                if not isinstance(item, Mapping):
-                    raise InvalidInput("must be an object", {})
-                unknown = sorted(set(item) - BULK_ITEM_KEYS)
-                if unknown:
-                    raise InvalidInput.for_field(unknown[0], f"is not a result field (expected: {', '.join(sorted(BULK_ITEM_KEYS))})")
-                if item.get("test") is None:
-                    raise InvalidInput.for_field("test", "is required")
-                key = item.get("idempotency_key")
-                if key is None and batch_key:
-                    key = f"{batch_key}#{index}"
-                recorded.append(
-                    result_record_once(
-                        actor, item["test"], inputs=item.get("inputs"), replicate=item.get("replicate"), idempotency_key=key,
-                        titrant_lot=item.get("titrant_lot"), instruments=item.get("instruments"),
-                    )
-                )
-            except DomainError as exc:
-                raise _prefixed(exc, index) from None
+    from analyses.services.result_batch import EntryRefused, EntryRequest, results_enter
+
+    requests: list[EntryRequest | DomainError] = []
+    for index, item in enumerate(results):
+        if not isinstance(item, Mapping):
+            requests.append(InvalidInput("must be an object", {}))
+            continue
+        unknown = sorted(set(item) - BULK_ITEM_KEYS)
+        if unknown:
+            requests.append(
+                InvalidInput.for_field(unknown[0], f"is not a result field (expected: {', '.join(sorted(BULK_ITEM_KEYS))})")
+            )
+            continue
+        if item.get("test") is None:
+            requests.append(InvalidInput.for_field("test", "is required"))
+            continue
+        key = item.get("idempotency_key")
+        if key is None and batch_key:
+            key = f"{batch_key}#{index}"
+        requests.append(
+            EntryRequest(
+                item["test"], item.get("inputs"), item.get("replicate"), key, item.get("titrant_lot"), item.get("instruments")
+            )
+        )
+    try:
+        recorded = results_enter(actor, requests)
+    except EntryRefused as refused:
+        raise _prefixed(refused.error, refused.index) from None
     return RecordedBatch([entry.result for entry in recorded], replayed=all(entry.replayed for entry in recorded))
 
 

@@ -2,7 +2,7 @@
 the inputs a specification line completes (the basis its unit follows)."""
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 from analyses.models import DecisionRule, Result, ResultStatus, SpecificationLine, Test, Verdict
@@ -35,11 +35,13 @@ def result_input_warnings(result: Result) -> list[str]:
     return raw_input_warnings(plugin, stored_inputs(result))
 
 
-def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
+def _replicate_warnings(plugin: MethodPlugin, test: Test, current: Sequence[Result] | None = None) -> list[str]:
     """Implausible inputs and blank warnings of each current replicate, one line per distinct
     warning naming the replicates."""
     by_warning: dict[str, list[int]] = {}
-    for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
+    if current is None:
+        current = test.results.filter(status=ResultStatus.CURRENT).order_by("replicate")
+    for result in current:
         try:
             values = plugin.validate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
         except MethodInputError as exc:  # entered under an older version of the method's checks
@@ -55,25 +57,35 @@ def _replicate_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
     return lines
 
 
-def test_review_warnings(plugin: MethodPlugin, test: Test, mean: Any) -> list[str]:
+# "not given": read it from the database
+_READ = object()
+
+
+def test_review_warnings(
+    plugin: MethodPlugin, test: Test, mean: Any, *, current: Sequence[Result] | None = None, expanded: Any = _READ
+) -> list[str]:
     """What the reviewer should weigh before accepting ``test``, whose replicates are all in:
     inputs outside their plausible ranges, their blanks, the mean against the method's scope,
-    and a conditional pass. Never a reason to refuse."""
+    a profile's own warnings, and a conditional pass. Never a reason to refuse.
+    A caller that holds them passes the current replicates (by replicate number) and the
+    mean's expanded U (None: none), which are otherwise read."""
     return (
-        _replicate_warnings(plugin, test) + scope_warnings(plugin, mean, test.specification_line.unit)
-        + _profile_warnings(plugin, test) + _decision_warnings(test, mean)
+        _replicate_warnings(plugin, test, current) + scope_warnings(plugin, mean, test.specification_line.unit)
+        + _profile_warnings(plugin, test, current) + _decision_warnings(test, mean, expanded)
     )
 
 
-def _profile_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
+def _profile_warnings(plugin: MethodPlugin, test: Test, current: Sequence[Result] | None = None) -> list[str]:
     """A profile's own warnings (the fatty-acid identity screen against the product's declared oil
     type, unidentified area), from each current replicate's inputs as stored; every test on a
     component of the profile carries them, so whoever reviews any of them sees them."""
     if not plugin.components:
         return []
     oil_type = test.sample.lot.product.oil_type
+    if current is None:
+        current = test.results.filter(status=ResultStatus.CURRENT).order_by("replicate")
     found: list[str] = []
-    for result in test.results.filter(status=ResultStatus.CURRENT).order_by("replicate"):
+    for result in current:
         try:
             outcome = plugin.calculate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
         except MethodInputError:
@@ -84,7 +96,7 @@ def _profile_warnings(plugin: MethodPlugin, test: Test) -> list[str]:
     return found
 
 
-def _decision_warnings(test: Test, mean: Any) -> list[str]:
+def _decision_warnings(test: Test, mean: Any, expanded: Any = _READ) -> list[str]:
     """A conditional pass (ILAC G8 non-binary statements) is no OOS; it releases, and is said."""
     from analyses.services.uncertainty import mean_expanded_uncertainty
     from analyses.services.pull_judging import study_attribute_of
@@ -93,7 +105,8 @@ def _decision_warnings(test: Test, mean: Any) -> list[str]:
     line = test.specification_line
     if line.decision_rule != DecisionRule.NON_BINARY or study_attribute_of(test) is not None:  # a pull: the study's limits
         return []
-    expanded = mean_expanded_uncertainty(test)
+    if expanded is _READ:
+        expanded = mean_expanded_uncertainty(test)
     if line_verdict(mean, line, expanded) != Verdict.CONDITIONAL_PASS:
         return []
     return [

@@ -13,6 +13,7 @@ at least LAB_PAIRS_NEEDED accepted duplicate pairs for the method (the most rece
 """
 from __future__ import annotations
 
+from collections.abc import Sequence
 from decimal import Decimal
 from typing import Any
 
@@ -22,6 +23,8 @@ from django.utils import timezone
 from analyses.audit import audit_append, created, json_safe
 from analyses.models import (
     AuditAction,
+    Calibration,
+    Instrument,
     InstrumentKind,
     Result,
     ResultStatus,
@@ -96,7 +99,9 @@ class TracedBudget:
     (issue 9): the titrant concentration's u is its standardisation's, a mass's the balance's
     calibration, a titre's the burette's or titrator's; every other term is ``base``'s."""
 
-    def __init__(self, base: BudgetSource, result: Result):
+    def __init__(self, base: BudgetSource, result: Result, uses: Sequence[tuple[Instrument, Calibration]] | None = None):
+        """``uses``: the (instrument, calibration) pairs the result was measured with, when
+        the caller has them at hand (a result being entered); else they are read."""
         self.base = base
         self.titrant = None
         if result.titrant_uncertainty and result.reagent_lot_id:
@@ -105,12 +110,14 @@ class TracedBudget:
                 f"standardisation of titrant lot {result.reagent_lot.code} (Eurachem/CITAC QUAM A2)",
             )
         self.by_unit: dict[str, StandardUncertainty] = {}
-        for use in result.instrument_uses.select_related("instrument", "calibration"):
+        if uses is None:
+            uses = [(use.instrument, use.calibration) for use in result.instrument_uses.select_related("instrument", "calibration")]
+        for instrument, calibration in uses:
             for unit, kinds in MEASURED_BY.items():
-                if use.instrument.kind in kinds and use.calibration.unit in ("", unit):
-                    u = calibration_u(use.instrument.kind, use.calibration)
+                if instrument.kind in kinds and calibration.unit in ("", unit):
+                    u = calibration_u(instrument.kind, calibration)
                     if u is not None:
-                        basis = f"calibration {use.calibration.certificate_ref} of {use.instrument.asset_id} (QUAM A2)"
+                        basis = f"calibration {calibration.certificate_ref} of {instrument.asset_id} (QUAM A2)"
                         self.by_unit[unit] = StandardUncertainty(float(u), basis)
         self.name = f"{base.name}; titrant and instruments from their standardisation and calibrations"
 
@@ -140,6 +147,31 @@ def budget_of(result: Result, plugin: MethodPlugin | None = None) -> Budget | No
         return result_budget(plugin, values, source, given=set(inputs), component=component)
     except (UnknownMethod, MethodInputError):
         return None
+
+
+def entry_budget(
+    result: Result, plugin: MethodPlugin, source: BudgetSource, uses: Sequence[tuple[Instrument, Calibration]]
+) -> Budget | None:
+    """``budget_of`` for a result being entered (not yet stored), with the budget source of
+    its plugin and the (instrument, calibration) pairs it is measured with; no queries."""
+    try:
+        inputs = stored_inputs(result)
+        values = plugin.validate(line_inputs(plugin, result.test.specification_line, inputs))
+        if result.reagent_lot_id or uses:
+            source = TracedBudget(source, result, uses)
+        return result_budget(plugin, values, source, given=set(inputs))
+    except MethodInputError:
+        return None
+
+
+def stored_budget_fields(budget: Budget) -> dict[str, Any]:
+    """The fields of a ``ResultUncertainty`` or ``TestUncertainty`` row that keep ``budget``."""
+    return _stored(budget)
+
+
+def stored_budget_dict(result: Result) -> dict[str, Any] | None:
+    """The budget of a stored result as kept (worked out for one entered before budgets were kept)."""
+    return _budget_dict(result)
 
 
 def _stored(budget: Budget) -> dict[str, Any]:

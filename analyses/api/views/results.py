@@ -1,6 +1,7 @@
 """Result entry (one, or many all-or-nothing), corrections, and one result."""
 from __future__ import annotations
 
+from django.db.models import prefetch_related_objects
 from drf_spectacular.utils import OpenApiResponse, extend_schema, extend_schema_view
 from rest_framework import status
 from rest_framework.generics import RetrieveAPIView
@@ -52,7 +53,13 @@ class ResultRecordView(APIView):
             request.user, data["test"], inputs=data["inputs"], replicate=data.get("replicate"),
             idempotency_key=idempotency_key(request), titrant_lot=data.get("titrant_lot"), instruments=data.get("instruments"),
         )
-        return _created(ResultSerializer(recorded.result).data, recorded.replayed)
+        return _created(_shown([recorded.result])[0], recorded.replayed)
+
+
+def _shown(results) -> list:
+    """The results as the API shows them, their instruments read in one go."""
+    prefetch_related_objects(results, "instrument_uses__instrument")
+    return ResultSerializer(results, many=True).data
 
 
 class ResultRecordBulkView(APIView):
@@ -76,7 +83,7 @@ class ResultRecordBulkView(APIView):
         batch = result_record_bulk_once(
             request.user, [dict(item) for item in data["results"]], idempotency_key=idempotency_key(request)
         )
-        return _created(ResultSerializer(batch.results, many=True).data, batch.replayed)
+        return _created(_shown(batch.results), batch.replayed)
 
 
 @extend_schema_view(get=extend_schema(summary="One result", responses={200: ResultSerializer, **errors(404)}))

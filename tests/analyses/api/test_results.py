@@ -125,3 +125,26 @@ def test_results_exactly_at_the_limit_pass_over_rest(lab, clients):
         assert as_text.status_code == as_numbers.status_code == 201, as_text.json()
         assert as_text.json()["verdict"] == as_numbers.json()["verdict"] == "pass"
         assert clients["analyst"].get(f"/api/tests/{test.pk}/").json()["verdict"] == "pass"
+
+
+def test_bulk_entry_over_http_runs_the_same_number_of_queries_for_4_and_for_40_results(postgres, lab, clients):
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    def items(label: str) -> list[dict]:
+        av_test, pv_test = lab.assigned("analyst", label=label)
+        return [
+            {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, {"test": av_test.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},
+            {"test": pv_test.pk, "inputs": PV_LOW, **PV_TRACE}, {"test": pv_test.pk, "inputs": PV_LOW_TWIN, **PV_TRACE},
+        ]
+
+    small, large = items("Q-0"), [item for n in range(1, 11) for item in items(f"Q-{n}")]
+    counts = []
+    for batch in (small, large):
+        with CaptureQueriesContext(connection) as captured:
+            response = clients["analyst"].post("/api/results/bulk/", {"results": batch}, format="json")
+        assert response.status_code == 201, response.content
+        assert len(response.json()) == len(batch) and all(r["instruments"] for r in response.json())
+        # the token's last use is written at most once a while: not part of entering results
+        counts.append([q["sql"][:150] for q in captured.captured_queries if "analyses_apitoken" not in q["sql"]])
+    assert len(counts[0]) == len(counts[1]), "\n".join(counts[0]) + "\n----\n" + "\n".join(counts[1])

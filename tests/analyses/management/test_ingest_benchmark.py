@@ -1,0 +1,27 @@
+"""``manage.py ingest_benchmark`` at a tiny size: it runs every path, prints the table, and
+keeps nothing (its transaction is rolled back). Timings are not checked."""
+from __future__ import annotations
+
+from io import StringIO
+
+import pytest
+from django.core.management import call_command
+
+from analyses.models import AuditEntry, Product, Result, Test
+
+pytestmark = pytest.mark.django_db
+
+
+def test_the_benchmark_prints_its_table_and_keeps_nothing():
+    kept = (Result.objects.count(), Test.objects.count(), AuditEntry.objects.count(), Product.objects.count())
+    out, err = StringIO(), StringIO()
+    call_command("ingest_benchmark", "--results", "6", "--batch", "4", stdout=out, stderr=err)
+    text = out.getvalue()
+    assert "| Path" in text
+    for column in ("Results/s", "x raw insert", "SQL queries per request"):
+        assert column in text
+    for path in ("raw Result.objects.bulk_create", "POST /api/results/bulk/, batches of 4", "single POST /api/results/"):
+        assert any(line.startswith(f"| {path}") for line in text.splitlines()), text
+    assert "queries per batch constant: yes" in text
+    assert "bulk API: 6/6 results" in err.getvalue()  # progress lines
+    assert (Result.objects.count(), Test.objects.count(), AuditEntry.objects.count(), Product.objects.count()) == kept

@@ -1,0 +1,175 @@
+"""Set-based result entry (issue 12): a fixed number of queries per batch whatever its size,
+the same audit chain and the same outcome as entering one result at a time, replay, all or
+nothing, and refusals naming the entry."""
+from __future__ import annotations
+
+import pytest
+from django.db import connection
+from django.test.utils import CaptureQueriesContext
+
+from analyses.audit import audit_chain_verify
+from analyses.errors import Conflict, InvalidInput
+from analyses.models import (
+    AuditChainHead,
+    AuditEntry,
+    Result,
+    ResultInstrument,
+    ResultUncertainty,
+    Test,
+    TestState,
+    TestUncertainty,
+)
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.results import result_record, result_record_bulk, result_record_bulk_once
+from analyses.services.samples import sample_receive, sample_register
+from labcore.metrics import RESULTS_ENTERED
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, INPUTS, PV_LOW, TRACE
+
+pytestmark = pytest.mark.django_db
+
+
+def _assigned(users, lot, count: int, prefix: str) -> list[Test]:
+    """The AV and PV tests of ``count`` new received samples, assigned to "analyst"."""
+    tests: list[Test] = []
+    for n in range(count):
+        sample = sample_register(users["manager"], lot, label=f"{prefix}-{n}")
+        sample_receive(users["manager"], sample, condition="sealed", storage_place="fridge 1")
+        tests += list(Test.objects.filter(sample=sample).order_by("method_code"))
+    return test_assign_bulk(users["manager"], tests, assignee=users["analyst"])
+
+
+def _items(tests: list[Test]) -> list[dict]:
+    """Both replicates of every test, passing inputs, with the bench's titrant lots and instruments."""
+    return [
+        {"test": test.pk, "inputs": inputs, **TRACE[test.method_code]}
+        for test in tests
+        for inputs in INPUTS[test.method_code]
+    ]
+
+
+def _written() -> tuple[int, ...]:
+    return (
+        Result.objects.count(), AuditEntry.objects.count(), ResultInstrument.objects.count(),
+        ResultUncertainty.objects.count(), TestUncertainty.objects.count(),
+    )
+
+
+def _queries(callable_, *args, **kwargs) -> list[str]:
+    with CaptureQueriesContext(connection) as captured:
+        callable_(*args, **kwargs)
+    return [query["sql"] for query in captured.captured_queries]
+
+
+def test_a_batch_runs_the_same_number_of_queries_whatever_its_size(postgres, users, lot):
+    small = _items(_assigned(users, lot, 2, "S"))  # 4 tests, 8 results
+    large = _items(_assigned(users, lot, 13, "L"))  # 26 tests, 52 results
+
+    def fresh():  # as a new request's user: nothing cached on it
+        return type(users["analyst"]).objects.get(pk=users["analyst"].pk)
+
+    small_sql = _queries(result_record_bulk, fresh(), small)
+    large_sql = _queries(result_record_bulk, fresh(), large)
+    assert len(large_sql) == len(small_sql), "\n".join(sql[:120] for sql in large_sql)
+    assert len(large_sql) <= 40  # today's fixed cost; 18.5 queries per result before issue 12
+    # the user's groups are read once per batch, not once per result (and Django reads the
+    # permissions of those groups once, for has_perm)
+    assert sum('"auth_group"."name"' in sql for sql in large_sql) == 1
+    assert Result.objects.count() == len(small) + len(large)
+    assert set(Test.objects.values_list("state", flat=True)) == {TestState.RESULT_ENTERED}
+
+
+def test_a_replayed_batch_runs_a_fixed_number_of_queries_and_writes_nothing(postgres, users, lot):
+    items = _items(_assigned(users, lot, 3, "R"))
+    first = result_record_bulk_once(users["analyst"], items, idempotency_key="tablet-2:batch-1")
+    before = _written()
+    with CaptureQueriesContext(connection) as captured:
+        again = result_record_bulk_once(users["analyst"], items, idempotency_key="tablet-2:batch-1")
+    assert again.replayed and [r.pk for r in again.results] == [r.pk for r in first.results]
+    assert _written() == before
+    assert len(captured.captured_queries) <= 20
+
+
+def test_a_batch_writes_what_one_entry_at_a_time_writes_and_the_chain_verifies(users, lot):
+    one_by_one, batched = _assigned(users, lot, 2, "A"), _assigned(users, lot, 2, "B")
+    start = AuditChainHead.objects.get().last_sequence
+    for item in _items(one_by_one):
+        result_record(users["analyst"], item.pop("test"), **item)
+    middle = AuditChainHead.objects.get().last_sequence
+    recorded = result_record_bulk(users["analyst"], _items(batched))
+
+    def trail(first: int, last: int) -> list[tuple[str, str, list[str], str]]:
+        entries = AuditEntry.objects.filter(sequence__gt=first, sequence__lte=last).order_by("sequence")
+        return [(e.action, e.object_type, sorted(e.changes), e.reason) for e in entries]
+
+    head = AuditChainHead.objects.get().last_sequence
+    assert trail(middle, head) == trail(start, middle)
+    report = audit_chain_verify()
+    assert report.ok, report.problem
+    assert report.head_sequence == head
+    created = AuditEntry.objects.filter(object_type="analyses.result", action="create", sequence__gt=middle).order_by("sequence")
+    assert [int(e.object_id) for e in created] == [r.pk for r in recorded]  # in the batch's order
+    assert len({e.entry_hash for e in AuditEntry.objects.all()}) == AuditEntry.objects.count()
+    # the same values, verdicts, budgets and test states as one at a time
+    for alone, together in zip(one_by_one, batched):
+        alone.refresh_from_db()
+        together.refresh_from_db()
+        fields = ("state", "value_exact", "reported", "verdict", "duplicate_check", "review_warnings")
+        assert [getattr(together, f) for f in fields] == [getattr(alone, f) for f in fields]
+        assert together.uncertainty.expanded == alone.uncertainty.expanded
+        assert sorted(together.uncertainty.results) == sorted(together.results.values_list("pk", flat=True))
+    for alone, together in zip(Result.objects.filter(test__in=one_by_one), Result.objects.filter(test__in=batched)):
+        assert (together.replicate, together.value_exact, together.verdict, together.uncertainty.expanded) == (
+            alone.replicate, alone.value_exact, alone.verdict, alone.uncertainty.expanded,
+        )
+        assert list(together.instrument_uses.values_list("instrument_id", "calibration_id")) == list(
+            alone.instrument_uses.values_list("instrument_id", "calibration_id")
+        )
+
+
+def test_an_error_at_a_later_entry_writes_nothing(users, lot):
+    tests = _assigned(users, lot, 3, "E")
+    items = _items(tests)
+    items[5] = {**items[5], "inputs": {**items[5]["inputs"], "sample_mass": "-5"}}
+    before, head = _written(), AuditChainHead.objects.get().last_hash
+    with pytest.raises(InvalidInput) as caught:
+        result_record_bulk(users["analyst"], items)
+    assert list(caught.value.fields) == ["results.5.inputs.sample_mass"]
+    assert _written() == before
+    assert AuditChainHead.objects.get().last_hash == head
+    assert set(Test.objects.filter(pk__in=[t.pk for t in tests]).values_list("state", flat=True)) == {TestState.ASSIGNED}
+
+
+def test_traceability_refusals_name_the_entry(users, lot):
+    av, pv = _assigned(users, lot, 1, "T")
+    before = _written()
+    items = [
+        {"test": av.pk, "inputs": AV_LOW, **AV_TRACE},
+        {"test": pv.pk, "inputs": PV_LOW, "titrant_lot": "THIO-BENCH", "instruments": ["BAL-BENCH", "NO-SUCH"]},
+    ]
+    with pytest.raises(InvalidInput) as caught:
+        result_record_bulk(users["analyst"], items)
+    assert list(caught.value.fields) == ["results.1.instruments.1"]
+    # a lot of a titrant the method does not take (AV titrates with KOH or NaOH, not thiosulfate)
+    items[1] = {"test": av.pk, "inputs": AV_LOW_TWIN, "titrant_lot": "THIO-BENCH", "instruments": AV_TRACE["instruments"]}
+    with pytest.raises(Conflict) as conflict:
+        result_record_bulk(users["analyst"], items)
+    assert conflict.value.detail.startswith("results.1: titrant lot THIO-BENCH")
+    assert _written() == before
+
+
+def test_a_key_repeated_within_a_batch_returns_the_first_entry(users, lot):
+    av, _ = _assigned(users, lot, 1, "K")
+    item = {"test": av.pk, "inputs": AV_LOW, "idempotency_key": "row-1", **AV_TRACE}
+    batch = result_record_bulk_once(users["analyst"], [item, dict(item)])
+    assert not batch.replayed and batch.results[0] is batch.results[1]
+    assert Result.objects.filter(test=av).count() == 1
+    with pytest.raises(Conflict, match="other inputs"):
+        result_record_bulk(users["analyst"], [{**item, "idempotency_key": "row-2"}, {**item, "idempotency_key": "row-2", "inputs": AV_LOW_TWIN}])
+
+
+def test_results_entered_are_counted_once_committed(users, lot, django_capture_on_commit_callbacks):
+    items = _items(_assigned(users, lot, 2, "M"))
+    before = RESULTS_ENTERED._value.get()
+    with django_capture_on_commit_callbacks(execute=True):
+        result_record_bulk(users["analyst"], items)
+    assert RESULTS_ENTERED._value.get() == before + len(items)
