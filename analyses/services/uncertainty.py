@@ -159,7 +159,8 @@ def entry_budget(
         values = plugin.validate(line_inputs(plugin, result.test.specification_line, inputs))
         if result.reagent_lot_id or uses:
             source = TracedBudget(source, result, uses)
-        return result_budget(plugin, values, source, given=set(inputs))
+        component = split_parameter(result.test.method_code)[1]  # as budget_of: a profile's component
+        return result_budget(plugin, values, source, given=set(inputs), component=component)
     except MethodInputError:
         return None
 
