@@ -13,6 +13,7 @@ from analyses.models.instruments import (
 from analyses.models.investigations import Conclusion, Investigation, InvestigationState
 from analyses.models.logins import LockoutScope, LoginLockout
 from analyses.models.lots import Lot, LotOrigin, LotState
+from analyses.models.post_release import CorrectionState, PostReleaseCorrection
 from analyses.models.products import Product
 from analyses.models.reagents import (
     ReagentKind,
@@ -57,6 +58,8 @@ from analyses.models.testing import (
 )
 
 __all__ = [
+    "CorrectionState",
+    "PostReleaseCorrection",
     "ApiToken",
     "LockoutScope",
     "LoginLockout",

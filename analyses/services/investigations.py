@@ -1,7 +1,8 @@
 """Closing out-of-specification investigations (QA).
 
 confirmed  the result stands: the lot is rejected (its open samples rejected, open tests
-           cancelled).
+           cancelled). Rejecting an open lot is an electronic signature, as ``lot_reject``
+           is: the QA user's password is re-entered, and the meaning is audited.
 lab_error  the accepted test is invalidated with its results (kept, marked invalidated),
            and a retest is created: a NEW pending test on the same sample and
            specification line, with ``retest_of`` pointing at the invalidated one, for the
@@ -29,7 +30,9 @@ from analyses.models import (
     TestState,
 )
 from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.certificates import lot_specification_versions
 from analyses.services.lots import lot_reject_locked
+from analyses.services.signatures import rejection_meaning, signature_confirm
 from analyses.services.samples import TEST_FIELDS
 from analyses.services.transitions import FINAL_SAMPLE_STATES, lot_takes_work, record_test_move, sample_sync
 
@@ -63,10 +66,20 @@ def _retest(actor: Actor, test: Test, findings: str) -> Test:
 
 
 def investigation_close(
-    actor: Actor, investigation: Investigation | int, *, conclusion: str, findings: str
+    actor: Actor,
+    investigation: Investigation | int,
+    *,
+    conclusion: str,
+    findings: str,
+    password: object = None,
+    request=None,
 ) -> Investigation:
     """QA closes an open investigation with ``conclusion`` ("confirmed" or "lab_error") and
-    mandatory ``findings``. Needs ``close_investigation`` (QA, admin)."""
+    mandatory ``findings``. Needs ``close_investigation`` (QA, admin).
+
+    "confirmed" on an open lot rejects it, and is signed as ``lot_reject`` is: ``password`` is
+    the user's own, re-entered (InvalidInput naming ``password`` otherwise, nothing written),
+    and the audit entries record the signature's meaning."""
     require_permission(actor, "close_investigation", "close OOS investigations")
     if conclusion not in Conclusion.values:
         raise InvalidInput.for_field("conclusion", f"must be one of {', '.join(Conclusion.values)}")
@@ -75,6 +88,10 @@ def investigation_close(
     lot_id = Investigation.objects.filter(pk=pk).values_list("lot_id", flat=True).first()
     if lot_id is None:
         fetch(Investigation, pk)  # raises NotFound
+    signed = conclusion == Conclusion.CONFIRMED and _rejects(pk, lot_id)
+    if signed:
+        # outside the transaction, as for lot_reject: a lock-out a wrong password trips is kept
+        signature_confirm(actor, password, request=request)
     with transaction.atomic():
         lot = fetch(Lot, lot_id, lock=True)
         investigation = fetch(Investigation, pk, lock=True)
@@ -97,17 +114,30 @@ def investigation_close(
         investigation.closed_at = timezone.now()
         investigation.retest = retest
         investigation.save(update_fields=["state", "conclusion", "findings", "closed_by", "closed_at", "retest"])
+        changes = {
+            "state": [InvestigationState.OPEN, InvestigationState.CLOSED],
+            "conclusion": ["", conclusion],
+            "retest": [None, retest.pk if retest else None],
+        }
+        rejects = conclusion == Conclusion.CONFIRMED and lot.state == LotState.OPEN
+        if rejects:
+            if not signed:  # a decided lot never reopens; kept so that no rejection goes unsigned
+                raise InvalidInput.for_field("password", "is required: confirming this OOS rejects the lot; re-enter your password to sign")
+            changes["signature_meaning"] = [None, rejection_meaning(lot_specification_versions(lot))]
         audit_append(
-            actor, AuditAction.TRANSITION, investigation,
-            {
-                "state": [InvestigationState.OPEN, InvestigationState.CLOSED],
-                "conclusion": ["", conclusion],
-                "retest": [None, retest.pk if retest else None],
-            },
-            reason=findings, lot_ref=lot.pk, sample_ref=test.sample_id,
+            actor, AuditAction.TRANSITION, investigation, changes, reason=findings, lot_ref=lot.pk, sample_ref=test.sample_id,
         )
-        if conclusion == Conclusion.CONFIRMED and lot.state == LotState.OPEN:
+        if rejects:
             lot_reject_locked(actor, lot, f"OOS confirmed by investigation {investigation.pk}: {findings}")
         elif retest is not None:
             sample_sync(actor, test.sample, reason=f"retest {retest.pk} created")
     return investigation
+
+
+def _rejects(investigation_id: int, lot_id: int) -> bool:
+    """Whether closing the investigation as confirmed would reject its lot now (an open lot,
+    an open investigation): then the closing is signed."""
+    return (
+        Investigation.objects.filter(pk=investigation_id, state=InvestigationState.OPEN).exists()
+        and Lot.objects.filter(pk=lot_id, state=LotState.OPEN).exists()
+    )

@@ -4,6 +4,7 @@ from __future__ import annotations
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
+from analyses.api.serializers.lots import password_field
 from analyses.api.serializers.states import ConclusionField, InvestigationStateField
 from analyses.models import Conclusion, Investigation, InvestigationState
 
@@ -39,3 +40,8 @@ class InvestigationCloseSerializer(StrictSerializer):
         help_text="confirmed: the lot is rejected; lab_error: the result is invalidated and a retest created",
     )
     findings = TextField(help_text="What the investigation found; kept in the audit trail")
+    password = password_field()
+    password.help_text = (
+        "Needed when the conclusion is confirmed and the lot is open (the closing rejects the lot and is signed "
+        "as a rejection is): the QA user's own password, re-entered"
+    )

@@ -43,8 +43,18 @@ class InvestigationCloseView(APIView):
         request=InvestigationCloseSerializer,
         responses={200: InvestigationSerializer, **errors(400, 403, 404, 409)},
         summary="Close an investigation (QA): confirmed rejects the lot; lab_error creates a retest",
+        description=(
+            "For QA reviewers only. `confirmed` on an open lot rejects the lot, so it is an electronic signature as "
+            "a rejection is: `password` is the QA user's own, re-entered; a missing or wrong one is a 400 naming "
+            "`password` and nothing is written (wrong ones count towards the login lock-out, then 429). The audit "
+            "trail records the signature's meaning. `lab_error` invalidates the result and creates a retest; it "
+            "needs no password. 409 when the investigation is already closed or a retest is no longer possible."
+        ),
     )
     def post(self, request: Request, pk: int) -> Response:
         data = validated(InvestigationCloseSerializer, request)
-        investigation = investigation_close(request.user, pk, conclusion=data["conclusion"], findings=data["findings"])
+        investigation = investigation_close(
+            request.user, pk, conclusion=data["conclusion"], findings=data["findings"], password=data["password"],
+            request=request,
+        )
         return Response(InvestigationSerializer(investigation).data)

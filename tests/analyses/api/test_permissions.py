@@ -179,7 +179,7 @@ CASES = [
     Case(
         "investigation close",
         lambda lab: Call("post", f"/api/investigations/{lab.investigation().pk}/close/", {
-            "conclusion": "confirmed", "findings": "re-titration agrees",
+            "conclusion": "confirmed", "findings": "re-titration agrees", "password": SIGNING_PASSWORD,
         }),
         QA_ADMIN_200,
     ),
