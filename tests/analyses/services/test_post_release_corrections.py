@@ -77,7 +77,7 @@ def _first_replicate(lot: Lot) -> Result:
     return _av(lot).results.get(status=ResultStatus.CURRENT, replicate=1)
 
 
-def _released_near_the_limit(users, *, code: str, av_line: dict) -> Lot:
+def _released_near_the_limit(users, *, code: str, av_line: dict, av_pair=None) -> Lot:
     """Another product and lot whose AV pair (AV_NEAR, AV_NEAR_TWIN) passes close to 0.6, released."""
     manager = users["manager"]
     product = ProductFactory(code=f"P-{code}", name=f"Invented oil {code}", oil_type="soybean", created_by=manager)
@@ -92,7 +92,7 @@ def _released_near_the_limit(users, *, code: str, av_line: dict) -> Lot:
     av, pv = tests
     from tests.analyses.lab_setup import PV_LOW, PV_LOW_TWIN
 
-    test_accept(users["analyst2"], enter_duplicates(users["analyst"], av, AV_NEAR, AV_NEAR_TWIN))
+    test_accept(users["analyst2"], enter_duplicates(users["analyst"], av, *(av_pair or (AV_NEAR, AV_NEAR_TWIN))))
     test_accept(users["analyst2"], enter_duplicates(users["analyst"], pv, PV_LOW, PV_LOW_TWIN))
     lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
     lot.refresh_from_db()
@@ -258,3 +258,22 @@ def test_a_non_critical_result_out_of_specification_is_applied_stated_and_invest
     assert statement.startswith("Conforms") and "Outside the limits but not release-critical" in statement
     investigation = Investigation.objects.get(lot=lot)
     assert investigation.state == InvestigationState.OPEN and investigation.test == _av(lot)
+
+
+def test_the_verdict_is_decided_again_by_the_lines_guard_band(users):
+    """Guard band w = U (ILAC G8:09/2019): a mean inside the 0.6 limit by less than U is out of
+    specification. (2.05 - 0.05) x 0.28050 = 0.561000 and (2.12 - 0.05) x 0.28050 = 0.580635 (mean
+    0.5708175) pass; replicate 1 corrected to 2.18 mL gives 0.597465 and the mean 0.589050, which
+    simple acceptance would pass (<= 0.6) but which lies within U of the limit."""
+    lot = _released_near_the_limit(
+        users, code="L-202", av_line={"decision_rule": "guard_band"},
+        av_pair=({"sample_mass": "20.0", "sample_volume": "2.05", "blank_volume": "0.05"},
+                 {"sample_mass": "20.0", "sample_volume": "2.12", "blank_volume": "0.05"}),
+    )
+    assert _av(lot).verdict == Verdict.PASS
+    corrected = {"sample_mass": "20.0", "sample_volume": "2.18", "blank_volume": "0.05"}
+    proposal = post_release_correction_propose(users["analyst"], _first_replicate(lot), inputs=corrected, reason="titre misread")
+    assert proposal.mean_reported == "0.59" and proposal.verdict == Verdict.OUT_OF_SPECIFICATION
+    with pytest.raises(Conflict, match="out of specification"):
+        post_release_correction_approve(users["qa"], proposal, password=SIGNING_PASSWORD)
+    assert _av(lot).verdict == Verdict.PASS and lot.certificates.count() == 1
