@@ -37,7 +37,7 @@ from analyses.services.post_release_corrections import (
 from analyses.services.review import test_accept
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.specifications import specification_approve, specification_create
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, enter_duplicates, enter_passing
+from tests.analyses.lab_setup import PV_LOW, PV_LOW_TWIN, enter_duplicates, enter_passing
 from tests.factories import SIGNING_PASSWORD, ProductFactory, UserFactory
 
 pytestmark = pytest.mark.django_db
@@ -90,8 +90,6 @@ def _released_near_the_limit(users, *, code: str, av_line: dict, av_pair=None) -
     sample = sample_receive(manager, sample_register(manager, lot, label=f"{code}-A"), condition="sealed", storage_place="A1")
     tests = test_assign_bulk(manager, list(Test.objects.filter(sample=sample).order_by("method_code")), assignee=users["analyst"])
     av, pv = tests
-    from tests.analyses.lab_setup import PV_LOW, PV_LOW_TWIN
-
     test_accept(users["analyst2"], enter_duplicates(users["analyst"], av, *(av_pair or (AV_NEAR, AV_NEAR_TWIN))))
     test_accept(users["analyst2"], enter_duplicates(users["analyst"], pv, PV_LOW, PV_LOW_TWIN))
     lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
