@@ -245,9 +245,13 @@ OPERATIONS: dict[str, str] = {
     ),
     "investigations_retrieve": "One investigation: the result that opened it, the limits, and its conclusion once closed. " + SIGNED_IN,
     "investigations_close_create": (
-        "Closes an investigation with a conclusion and findings: `confirmed` rejects the lot, `lab_error` "
-        "creates a retest. QA and admins. An unknown conclusion is refused with 400 listing the valid ones; an "
-        "investigation already closed answers 409."
+        "Closes an investigation with a conclusion and findings; the answer's `effect` says in words what the close "
+        "changed. On an open lot `confirmed` rejects the lot and is signed with `password` re-entered (400 naming "
+        "`password` when missing or wrong), and `lab_error` creates a retest. On a released lot (a post-release "
+        "investigation) `no_action` leaves the lot as it is, and `hold_notice` with `hold_reason` marks it "
+        "\"released, under investigation\" and alerts QA. QA and admins (a hold notice: QA only). An unknown "
+        "conclusion is refused with 400 listing the valid ones; `confirmed` on a released lot, or an investigation "
+        "already closed, answers 409."
     ),
     "turnaround_list": (
         "Hours from sample receipt to test acceptance per method: count, mean and median, over an optional date "

@@ -5,6 +5,7 @@ from analyses.api.views import (
     accounts,
     investigations,
     lots,
+    post_release,
     products,
     results,
     samples,
@@ -63,6 +64,23 @@ urlpatterns = [
     path("results/<int:pk>/", results.ResultDetailView.as_view(), name="result-detail"),
     path("results/<int:pk>/uncertainty/", results.ResultUncertaintyView.as_view(), name="result-uncertainty"),
     path("results/<int:pk>/correct/", results.ResultCorrectView.as_view(), name="result-correct"),
+    path(
+        "results/<int:pk>/post-release-correction/", post_release.ResultPostReleaseCorrectionView.as_view(),
+        name="result-post-release-correction",
+    ),
+    path("post-release-corrections/", post_release.PostReleaseCorrectionListView.as_view(), name="post-release-correction-list"),
+    path(
+        "post-release-corrections/<int:pk>/", post_release.PostReleaseCorrectionDetailView.as_view(),
+        name="post-release-correction-detail",
+    ),
+    path(
+        "post-release-corrections/<int:pk>/approve/", post_release.PostReleaseCorrectionApproveView.as_view(),
+        name="post-release-correction-approve",
+    ),
+    path(
+        "post-release-corrections/<int:pk>/decline/", post_release.PostReleaseCorrectionDeclineView.as_view(),
+        name="post-release-correction-decline",
+    ),
     path("investigations/", investigations.InvestigationListView.as_view(), name="investigation-list"),
     path("investigations/<int:pk>/", investigations.InvestigationDetailView.as_view(), name="investigation-detail"),
     path("investigations/<int:pk>/close/", investigations.InvestigationCloseView.as_view(), name="investigation-close"),

@@ -14,6 +14,7 @@ from analyses.models.instruments import (
 from analyses.models.investigations import Conclusion, Investigation, InvestigationKind, InvestigationState
 from analyses.models.logins import LockoutScope, LoginLockout
 from analyses.models.lots import Lot, LotOrigin, LotState
+from analyses.models.post_release import CorrectionState, PostReleaseCorrection
 from analyses.models.products import Product
 from analyses.models.reagents import (
     ReagentKind,
@@ -61,6 +62,8 @@ __all__ = [
     "ImportLayout",
     "ImportMapping",
     "ResultImport",
+    "CorrectionState",
+    "PostReleaseCorrection",
     "ApiToken",
     "LockoutScope",
     "LoginLockout",

@@ -2,14 +2,20 @@
 
 Reads only: a result entered before budgets were kept has its budget worked out here from its
 inputs (the same function as at entry), not stored. Three queries whatever the number of
-replicates or terms: the result with its budget, test and line, and the test's current replicates."""
+replicates or terms: the result with its budget, test and line, and the test's current replicates.
+
+``test_mean_expanded`` gives the tests' lists the same mean U (k = 2) from the same stored budget;
+``with_mean_uncertainty`` joins and prefetches what it reads, so a list's queries do not grow
+with its rows."""
 from __future__ import annotations
 
 from typing import Any
 
-from analyses.models import Result, ResultStatus, ResultUncertainty, TestUncertainty
+from django.db.models import Prefetch, QuerySet
+
+from analyses.models import Result, ResultStatus, ResultUncertainty, Test, TestUncertainty
 from analyses.errors import NotFound
-from analyses.services.uncertainty import budget_of
+from analyses.services.uncertainty import budget_of, fresh_mean_budget
 
 NOT_YET = "the test's replicates are not all in (or were corrected since); its mean has no budget yet"
 
@@ -33,8 +39,8 @@ def result_uncertainty(pk: int | str) -> dict[str, Any]:
         budget = None if computed is None else {**computed.as_dict(), "computed_at": None}
     test = result.test
     mean_row = test.uncertainty if hasattr(test, "uncertainty") else None
-    current = sorted(test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True))
-    fresh = mean_row is not None and sorted(mean_row.results) == current and result.pk in current
+    current = list(test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True))
+    fresh = fresh_mean_budget(mean_row, current) is not None and result.pk in current
     line = test.specification_line
     return {
         "result": result.pk,
@@ -47,3 +53,33 @@ def result_uncertainty(pk: int | str) -> dict[str, Any]:
         "test_mean": _stored(mean_row) if fresh else None,
         "test_mean_note": "" if fresh else NOT_YET,
     }
+
+
+def with_mean_uncertainty(tests: QuerySet[Test]) -> QuerySet[Test]:
+    """``tests`` with what ``test_mean_expanded`` reads: the mean's stored budget joined (its
+    terms left out) and the current replicates' ids prefetched, one query for the whole page."""
+    current = Result.objects.filter(status=ResultStatus.CURRENT).only("id", "test_id")
+    return tests.select_related("uncertainty").defer("uncertainty__budget").prefetch_related(
+        Prefetch("results", queryset=current, to_attr="current_results")
+    )
+
+
+def test_mean_expanded(test: Test) -> dict[str, Any] | None:
+    """The expanded uncertainty U (k = 2) of the test's mean and its unit, as
+    GET /api/results/<id>/uncertainty/ gives it in ``test_mean``; None until every replicate is
+    in, or while a correction's new mean has no budget. Reads what ``with_mean_uncertainty``
+    loaded, or the database for a single test."""
+    stored = test.uncertainty if hasattr(test, "uncertainty") else None
+    if stored is None:
+        return None
+    if hasattr(test, "current_results"):
+        current = [result.pk for result in test.current_results]
+    else:
+        current = list(test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True))
+    fresh = fresh_mean_budget(stored, current)
+    if fresh is None:
+        return None
+    return {"expanded": fresh.expanded, "coverage_factor": fresh.coverage_factor, "unit": test.unit}
+
+
+test_mean_expanded.__test__ = False  # a selector, not a pytest test

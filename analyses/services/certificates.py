@@ -277,15 +277,22 @@ def certificate_reissue(
     signature_confirm(actor, password, request=request)
     with transaction.atomic():
         lot = fetch(Lot, lot, lock=True)
-        current = _current_version(lot)
+        _current_version(lot)
         if customer is not None and customer != lot.customer:
             old = lot.customer
             lot.customer = customer
             lot.save(update_fields=["customer"])
             audit_append(actor, AuditAction.CHANGE, lot, {"customer": [old or None, customer]}, reason=reason, lot_ref=lot.pk)
-        issued_at = timezone.now()
-        content = certificate_content(
-            actor, lot, issued_at, number=_next_number(issued_at), version=current.version + 1,
-            replaces=current, reissue_reason=reason,
-        )
-        return _store(actor, lot, content, issued_at=issued_at, replaces=current, reason=reason)
+        return certificate_reissue_locked(actor, lot, reason=reason)
+
+
+def certificate_reissue_locked(actor: Actor, lot: Lot, *, reason: str) -> Certificate:
+    """The new version itself, for a caller that checked who may sign and holds the lot's lock
+    in its transaction (``certificate_reissue``; a result corrected after release)."""
+    current = _current_version(lot)
+    issued_at = timezone.now()
+    content = certificate_content(
+        actor, lot, issued_at, number=_next_number(issued_at), version=current.version + 1,
+        replaces=current, reissue_reason=reason,
+    )
+    return _store(actor, lot, content, issued_at=issued_at, replaces=current, reason=reason)

@@ -62,7 +62,10 @@ def demo_data(path: Path | str | None = None) -> dict[str, Any]:
 class _Lab:
     """The demo's people and products, and the steps each scenario is made of."""
 
-    def __init__(self, users: Mapping[str, Any], products: Mapping[str, Mapping[str, Any]], bench: Mapping[str, Any]):
+    def __init__(
+        self, users: Mapping[str, Any], products: Mapping[str, Mapping[str, Any]], bench: Mapping[str, Any], *, password: str
+    ):
+        self.password = password  # the demo users' password, re-entered where QA signs
         self.bench = bench
         self.users = users
         self.products = products
@@ -126,7 +129,7 @@ class _Lab:
         if scenario in ("oos_open", "oos_confirmed", "oos_lab_error"):
             investigation = self.oos(sample, product, days)
             if scenario == "oos_confirmed":
-                investigation_close(qa, investigation, conclusion="confirmed", findings=reason)
+                investigation_close(qa, investigation, conclusion="confirmed", findings=reason, password=self.password)
             elif scenario == "oos_lab_error":
                 closed = investigation_close(qa, investigation, conclusion="lab_error", findings=reason)
                 self.assign([closed.retest], "analyst2")
@@ -271,7 +274,7 @@ def demo_load(*, path: Path | str | None = None, log: Log | None = None, new_tok
     demo_bench_load(data["bench"], users, log=log)
     log("Lots and samples:")
     products = {p["code"]: p for p in data["products"]}
-    _lots(data, _Lab(users, products, data["bench"]), summary, log)
+    _lots(data, _Lab(users, products, data["bench"], password=data["demo_password"]), summary, log)
     log("QC series and stability study:")
     demo_monitoring_load(users, log=log, trace=lambda code, inputs: demo_trace(data["bench"], code, inputs))
     log("Reagents and instruments at work:")

@@ -1,7 +1,8 @@
 """Closing out-of-specification investigations (QA).
 
 confirmed  the result stands: the lot is rejected (its open samples rejected, open tests
-           cancelled).
+           cancelled). Rejecting an open lot is an electronic signature, as ``lot_reject``
+           is: the QA user's password is re-entered, and the meaning is audited.
 lab_error  the accepted test is invalidated with its results (kept, marked invalidated),
            and a retest is created: a NEW pending test on the same sample and
            specification line, with ``retest_of`` pointing at the invalidated one, for the
@@ -33,6 +34,7 @@ from analyses.models import (
     TestState,
 )
 from analyses.services.access import Actor, fetch, require_permission, required_text
+from analyses.services.certificates import lot_specification_versions
 from analyses.services.cross_checks import cross_checks_refresh_partners
 from analyses.services.lots import lot_reject_locked
 from analyses.services.post_release import (
@@ -42,6 +44,7 @@ from analyses.services.post_release import (
     investigation_record_close,
     post_release_close,
 )
+from analyses.services.signatures import rejection_meaning, signature_confirm
 from analyses.services.samples import TEST_FIELDS
 from analyses.services.transitions import FINAL_SAMPLE_STATES, lot_takes_work, record_test_move, sample_sync
 
@@ -77,12 +80,23 @@ def _retest(actor: Actor, test: Test, findings: str) -> Test:
 
 
 def investigation_close(
-    actor: Actor, investigation: Investigation | int, *, conclusion: str, findings: str, hold_reason: str = ""
+    actor: Actor,
+    investigation: Investigation | int,
+    *,
+    conclusion: str,
+    findings: str,
+    hold_reason: str = "",
+    password: object = None,
+    request=None,
 ) -> Investigation:
     """QA closes an open investigation with ``conclusion`` and mandatory ``findings``:
     "confirmed" or "lab_error" (an open lot), "no_action" or "hold_notice" with
     ``hold_reason`` (a released lot: ``post_release_close``). ``effect`` on the answer says
-    what it changed. Needs ``close_investigation`` (QA, admin)."""
+    what it changed. Needs ``close_investigation`` (QA, admin).
+
+    "confirmed" on an open lot rejects it, and is signed as ``lot_reject`` is: ``password`` is
+    the user's own, re-entered (InvalidInput naming ``password`` otherwise, nothing written),
+    and the audit entries record the signature's meaning."""
     require_permission(actor, "close_investigation", "close OOS investigations")
     if conclusion not in Conclusion.values:
         raise InvalidInput.for_field("conclusion", f"must be one of {', '.join(Conclusion.values)}")
@@ -94,6 +108,10 @@ def investigation_close(
     lot_id = Investigation.objects.filter(pk=pk).values_list("lot_id", flat=True).first()
     if lot_id is None:
         fetch(Investigation, pk)  # raises NotFound
+    signed = conclusion == Conclusion.CONFIRMED and _rejects(pk, lot_id)
+    if signed:
+        # outside the transaction, as for lot_reject: a lock-out a wrong password trips is kept
+        signature_confirm(actor, password, request=request)
     with transaction.atomic():
         lot = fetch(Lot, lot_id, lock=True)
         investigation = fetch(Investigation, pk, lock=True)
@@ -117,10 +135,26 @@ def investigation_close(
             effect = f"lot {lot.code} is now rejected"
         else:  # a lot rejected meanwhile: the conclusion is recorded, the lot is as it was
             effect = f"no change to the lot: {lot.code} was already {lot.state}"
+        rejects = conclusion == Conclusion.CONFIRMED and lot.state == LotState.OPEN
+        signature = {}
+        if rejects:
+            if not signed:  # a decided lot never reopens; kept so that no rejection goes unsigned
+                raise InvalidInput.for_field("password", "is required: confirming this OOS rejects the lot; re-enter your password to sign")
+            signature = {"signature_meaning": [None, rejection_meaning(lot_specification_versions(lot))]}
         investigation.test = test
-        investigation_record_close(actor, investigation, conclusion=conclusion, findings=findings, effect=effect, retest=retest)
-        if conclusion == Conclusion.CONFIRMED and lot.state == LotState.OPEN:
+        investigation_record_close(actor, investigation, conclusion=conclusion, findings=findings, effect=effect,
+                                   retest=retest, extra_changes=signature)
+        if rejects:
             lot_reject_locked(actor, lot, f"OOS confirmed by investigation {investigation.pk}: {findings}")
         elif retest is not None:
             sample_sync(actor, test.sample, reason=f"retest {retest.pk} created")
     return investigation
+
+
+def _rejects(investigation_id: int, lot_id: int) -> bool:
+    """Whether closing the investigation as confirmed would reject its lot now (an open lot,
+    an open investigation): then the closing is signed."""
+    return (
+        Investigation.objects.filter(pk=investigation_id, state=InvestigationState.OPEN).exists()
+        and Lot.objects.filter(pk=lot_id, state=LotState.OPEN).exists()
+    )

@@ -245,9 +245,11 @@ def post_release_close(
 
 
 def investigation_record_close(
-    actor: Actor, investigation: Investigation, *, conclusion: str, findings: str, effect: str, retest: Test | None = None
+    actor: Actor, investigation: Investigation, *, conclusion: str, findings: str, effect: str, retest: Test | None = None,
+    extra_changes: dict | None = None,
 ) -> None:
-    """Mark a locked, open investigation closed with what it changed, and audit it."""
+    """Mark a locked, open investigation closed with what it changed, and audit it (with
+    ``extra_changes``, e.g. the meaning of the signature a rejecting close carries)."""
     investigation.state = InvestigationState.CLOSED
     investigation.conclusion = conclusion
     investigation.findings = findings
@@ -263,6 +265,7 @@ def investigation_record_close(
             "conclusion": ["", conclusion],
             "retest": [None, retest.pk if retest else None],
             "effect": ["", effect],
+            **(extra_changes or {}),
         },
         reason=findings, lot_ref=investigation.lot_id, sample_ref=investigation.test.sample_id,
     )

@@ -229,10 +229,16 @@ def _budget_dict(result: Result) -> dict[str, Any] | None:
     return None if budget is None else budget.as_dict()
 
 
+def fresh_mean_budget(stored: TestUncertainty | None, current_ids) -> TestUncertainty | None:
+    """``stored`` if it is the budget of the mean of exactly the current replicates ``current_ids``
+    (a correction since makes it stale until the new mean's budget is stored), else None."""
+    if stored is None or sorted(stored.results) != sorted(current_ids):
+        return None
+    return stored
+
+
 def mean_expanded_uncertainty(test: Test) -> str | None:
     """U of the test's mean as stored, if it is the mean of the current replicates."""
-    stored = TestUncertainty.objects.filter(test=test).first()
-    if stored is None:
-        return None
-    current = sorted(test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True))
-    return stored.expanded if sorted(stored.results) == current else None
+    current = test.results.filter(status=ResultStatus.CURRENT).values_list("pk", flat=True)
+    fresh = fresh_mean_budget(TestUncertainty.objects.filter(test=test).first(), current)
+    return fresh.expanded if fresh else None

@@ -4,6 +4,7 @@ from __future__ import annotations
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
+from analyses.api.serializers.lots import password_field
 from analyses.api.serializers.states import ConclusionField, InvestigationKindField, InvestigationStateField
 from analyses.models import Conclusion, Investigation, InvestigationKind, InvestigationState
 
@@ -69,4 +70,9 @@ class InvestigationCloseSerializer(StrictSerializer):
     hold_reason = TextField(
         required=False, allow_blank=True, default="",
         help_text="With hold_notice only, and required there: why the lot is held, shown on the lot and in the alert",
+    )
+    password = password_field()
+    password.help_text = (
+        "Needed when the conclusion is confirmed and the lot is open (the closing rejects the lot and is signed "
+        "as a rejection is): the QA user's own password, re-entered"
     )

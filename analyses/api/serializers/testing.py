@@ -8,6 +8,17 @@ from rest_framework import serializers
 from analyses.api.serializers.common import StrictSerializer, username_field
 from analyses.api.serializers.states import SampleStateField, TestStateField, VerdictField
 from analyses.models import OPEN_TEST_STATES, Priority, SampleState, Test, TestState, Verdict
+from analyses.selectors.uncertainty import test_mean_expanded
+
+
+class MeanUncertaintySerializer(serializers.Serializer):
+    """The expanded measurement uncertainty of the test's result (the mean of its current replicates)."""
+
+    expanded = serializers.CharField(
+        help_text="U, the expanded uncertainty of the mean (GUM, two significant digits rounded up), a decimal string"
+    )
+    coverage_factor = serializers.IntegerField(help_text="k; U = k x the combined standard uncertainty (k = 2)")
+    unit = serializers.CharField(help_text="The unit of U, the result's own")
 
 
 class TestSerializer(serializers.ModelSerializer):
@@ -37,17 +48,28 @@ class TestSerializer(serializers.ModelSerializer):
         child=serializers.CharField(), read_only=True,
         help_text="For the reviewer: a result outside the method's validated range, a prescribed blank not run; never a block",
     )
+    mean_uncertainty = serializers.SerializerMethodField(
+        help_text=(
+            "The expanded uncertainty U (k = 2) of the result and its unit, as GET /api/results/<id>/uncertainty/ "
+            "gives it for the test's mean; null until every replicate is in (or the method has no budget)"
+        )
+    )
 
     class Meta:
         model = Test
         fields = [
             "id", "sample", "sample_label", "sample_state", "hold_reason", "lot", "lot_code", "product_code", "method_code",
             "replicates", "priority", "due_on", "is_overdue", "state", "assignee", "assigned_at", "retest_of",
-            "value", "value_exact", "reported", "unit", "verdict", "duplicate_check", "review_warnings", "minimum", "maximum",
+            "value", "value_exact", "reported", "unit", "mean_uncertainty", "verdict", "duplicate_check", "review_warnings",
+            "minimum", "maximum",
             "comparison",
             "release_critical", "reviewed_by", "reviewed_at", "review_note", "created_at",
         ]
         read_only_fields = fields
+
+    @extend_schema_field(MeanUncertaintySerializer(allow_null=True))
+    def get_mean_uncertainty(self, test: Test) -> dict | None:
+        return test_mean_expanded(test)
 
     def get_is_overdue(self, test: Test) -> bool:
         annotated = getattr(test, "is_overdue", None)

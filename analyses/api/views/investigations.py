@@ -45,8 +45,10 @@ class InvestigationCloseView(APIView):
         summary="Close an investigation (QA), and see what it changed",
         description=(
             "QA (or an admin) closes an open investigation with a conclusion and findings; the answer's `effect` "
-            "says in words what the close changed. On an open lot: `confirmed` rejects the lot, `lab_error` "
-            "invalidates the result and creates a retest. On a released lot (a post-release investigation): "
+            "says in words what the close changed. On an open lot: `confirmed` rejects the lot, and is an electronic "
+            "signature as a rejection is (`password`, the user's own, re-entered: 400 naming `password` when missing "
+            "or wrong, nothing written; wrong ones count towards the login lock-out); `lab_error` invalidates the "
+            "result and creates a retest. On a released lot (a post-release investigation): "
             "`no_action` leaves the lot as it is and says so; `hold_notice`, with `hold_reason`, marks the lot "
             "\"released, under investigation\" and alerts QA (QA group only); `lab_error` where the sample can still "
             "be retested. Refused with 409: `confirmed` on a released lot (it would change nothing), the post-release "
@@ -58,6 +60,7 @@ class InvestigationCloseView(APIView):
     def post(self, request: Request, pk: int) -> Response:
         data = validated(InvestigationCloseSerializer, request)
         investigation = investigation_close(
-            request.user, pk, conclusion=data["conclusion"], findings=data["findings"], hold_reason=data["hold_reason"]
+            request.user, pk, conclusion=data["conclusion"], findings=data["findings"], hold_reason=data["hold_reason"],
+            password=data["password"], request=request,
         )
         return Response(InvestigationSerializer(investigation).data)

@@ -21,6 +21,7 @@ from analyses.errors import NotFound
 from analyses.models import Result, Test
 from analyses.selectors.lists import result_history
 from analyses.selectors.queues import my_queue, review_queue, test_list, work_queue
+from analyses.selectors.uncertainty import with_mean_uncertainty
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept, test_send_back
 from plugins.registry import get_registry
@@ -29,8 +30,8 @@ REVIEW = requires("review_test", "review tests")
 
 
 def _rows(queryset):
-    """Queue rows also show who reviewed (one more join, not one query per row)."""
-    return queryset.select_related("reviewed_by")
+    """Queue rows also show who reviewed and their mean's U (joins and one prefetch, not a query per row)."""
+    return with_mean_uncertainty(queryset.select_related("reviewed_by"))
 
 
 @extend_schema_view(

@@ -53,7 +53,7 @@ def test_an_oos_result_blocks_release_with_what_is_missing(oos, lab, clients):
 
 def test_confirmed_oos_rejects_the_lot(oos, lab, clients):
     closed = ok(clients["qa"].post(
-        f"/api/investigations/{oos['id']}/close/", {"conclusion": "confirmed", "findings": "re-titration agrees"}, format="json"
+        f"/api/investigations/{oos['id']}/close/", {"conclusion": "confirmed", "findings": "re-titration agrees", **SIGNED}, format="json"
     ))
     assert closed["state"] == "closed" and closed["conclusion"] == "confirmed" and closed["closed_by"] == "qa"
     assert closed["retest"] is None
@@ -65,6 +65,18 @@ def test_confirmed_oos_rejects_the_lot(oos, lab, clients):
     assert again.status_code == 409 and "already closed" in again.json()["detail"]
     refused = clients["qa"].post(f"/api/lots/{lab.lot.pk}/release/", SIGNED, format="json")
     assert refused.status_code == 409 and "rejected" in refused.json()["detail"]
+
+
+@pytest.mark.parametrize("body", [{}, {"password": ""}, {"password": "wrong password"}])
+def test_confirming_without_the_signing_password_is_a_400_naming_it(oos, lab, clients, body):
+    refused = clients["qa"].post(
+        f"/api/investigations/{oos['id']}/close/", {"conclusion": "confirmed", "findings": "re-titration agrees", **body},
+        format="json",
+    )
+    assert refused.status_code == 400, refused.content
+    assert list(refused.json()["fields"]) == ["password"]
+    assert ok(clients["qa"].get(f"/api/investigations/{oos['id']}/"))["state"] == "open"
+    assert ok(clients["qa"].get(f"/api/lots/{lab.lot.pk}/"))["state"] == "open"
 
 
 def test_lab_error_invalidates_and_the_retest_goes_to_release(oos, users, lab, clients):

@@ -19,7 +19,10 @@ from analyses.api.urls_traceability import urlpatterns as traceability_urlpatter
 from analyses.models import Alert, Instrument, ReagentKind, ReagentLot, Result, SampleState
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.investigations import investigation_close
+from analyses.services.lots import lot_release
+from analyses.services.post_release_corrections import post_release_correction_propose
 from analyses.services.results import result_record
+from analyses.services.review import test_accept
 from analyses.services.samples import sample_hold
 from analyses.services.stability import stability_study_create
 from tests.analyses.api.support import Call, Lab, row_counts
@@ -106,6 +109,20 @@ def _supersede(lab: Lab) -> Call:
     return Call("post", f"/api/standardisations/{lot.standardisations.get().pk}/supersede/", body)
 
 
+def _released_result(lab: Lab) -> Result:
+    """Replicate 1 of the AV test, entered by "analyst" (its assignee), accepted by analyst2, released."""
+    tests = lab.entered("analyst")
+    for test in tests:
+        test_accept(lab.users["analyst2"], test)
+    lot_release(lab.users["qa"], lab.lot, password=SIGNING_PASSWORD)
+    return tests[0].results.get(replicate=1, status="current")
+
+
+def _post_release_proposal(lab: Lab) -> int:
+    result = _released_result(lab)
+    return post_release_correction_propose(lab.users["analyst"], result, inputs=AV_LOW_TWIN, reason="titre misread").pk
+
+
 MANAGER_ADMIN = {"manager": 201, "admin": 201, "superuser": 201}
 DRAFTERS = {"manager": 201, "qa": 201, "admin": 201, "superuser": 201}
 QA_ADMIN_200 = {"qa": 200, "admin": 200, "superuser": 200}
@@ -188,7 +205,7 @@ CASES = [
     Case(
         "investigation close",
         lambda lab: Call("post", f"/api/investigations/{lab.investigation().pk}/close/", {
-            "conclusion": "confirmed", "findings": "re-titration agrees",
+            "conclusion": "confirmed", "findings": "re-titration agrees", "password": SIGNING_PASSWORD,
         }),
         QA_ADMIN_200,
     ),
@@ -200,6 +217,22 @@ CASES = [
         MANAGER_ADMIN,
     ),
     Case("lot hold notice lift", _held_lot, {"qa": 200}),
+    Case(
+        "post-release correction propose",
+        lambda lab: Call("post", f"/api/results/{_released_result(lab).pk}/post-release-correction/",
+                         {"inputs": AV_LOW_TWIN, "reason": "titre misread"}),
+        ENTERERS,
+    ),
+    Case(
+        "post-release correction approve",
+        lambda lab: Call("post", f"/api/post-release-corrections/{_post_release_proposal(lab)}/approve/", SIGNED),
+        {"qa": 200},
+    ),
+    Case(
+        "post-release correction decline",
+        lambda lab: Call("post", f"/api/post-release-corrections/{_post_release_proposal(lab)}/decline/", {"reason": "worksheet says 1.30"}),
+        {"qa": 200},
+    ),
     # monitoring (analyses/api/urls_monitoring.py)
     Case("stability study create", lambda lab: Call("post", "/api/stability-studies/", _study_protocol(lab)), DRAFTERS),
     Case(
@@ -325,6 +358,9 @@ def test_every_state_changing_route_is_in_the_matrix():
         "result-record": "result record", "result-record-bulk": "result record bulk", "result-correct": "result correct",
         "investigation-close": "investigation close",
         "sample-retain-tests": "retained sample tests", "lot-hold-lift": "lot hold notice lift",
+        "result-post-release-correction": "post-release correction propose",
+        "post-release-correction-approve": "post-release correction approve",
+        "post-release-correction-decline": "post-release correction decline",
         "study-list": "stability study create", "study-evaluate": "stability study evaluate",
         "study-close": "stability study close", "alert-acknowledge": "alert acknowledge",
         "baseline-list": "control baseline create",

@@ -11,7 +11,18 @@ from django.test.utils import CaptureQueriesContext
 from django.utils import timezone
 
 from analyses.audit import audit_append
-from analyses.models import AuditAction, Instrument, Investigation, ReagentKind, ReagentLot, Result, SpecificationStatus, TestState
+from analyses.models import (
+    AuditAction,
+    Instrument,
+    Investigation,
+    ReagentKind,
+    ReagentLot,
+    Result,
+    ResultStatus,
+    SpecificationStatus,
+    TestState,
+    TestUncertainty,
+)
 from tests.analyses.api.support import Lab
 from tests.factories import (
     CalibrationFactory,
@@ -64,6 +75,22 @@ def _held_test():
 
     sample = SampleFactory(state=SampleState.ON_HOLD, resume_state=SampleState.RECEIVED, state_reason="awaiting customer's approval")
     return _test(sample=sample)
+
+
+def _test_with_mean_u(lab=None) -> "TestUncertainty":
+    """A test with two current replicates and the stored budget of their mean (invented values)."""
+    test = _test(state=TestState.RESULT_ENTERED, unit="mg KOH/g", reported="0.35")
+    replicates = [
+        Result.objects.create(
+            test=test, replicate=n, inputs={"x": n}, value=0.35, reported="0.35", unit="mg KOH/g", method_code="av",
+            method_version="1.0", verdict="pass", entered_by=UserFactory(), entered_at=timezone.now(),
+        )
+        for n in (1, 2)
+    ]
+    return TestUncertainty.objects.create(
+        test=test, results=[r.pk for r in replicates], budget={"terms": []}, combined=0.0081, expanded="0.017",
+        source="invented", computed_at=timezone.now(),
+    )
 
 
 def _investigation():
@@ -119,6 +146,7 @@ LISTINGS = [
     Listing("lots", lambda lab: "/api/lots/", lambda lab: _lot()),
     Listing("samples", lambda lab: "/api/samples/", lambda lab: _sample()),
     Listing("tests", lambda lab: "/api/tests/", lambda lab: _test(retest_of=TestFactory())),
+    Listing("tests with their mean's U", lambda lab: "/api/tests/", _test_with_mean_u),
     Listing("tests filtered", lambda lab: f"/api/tests/?state=assigned&assignee={lab.users['analyst'].pk}",
             lambda lab: _test(state=TestState.ASSIGNED, assignee=lab.users["analyst"])),
     Listing("work queue", lambda lab: "/api/tests/queue/av/", lambda lab: _test()),
@@ -207,3 +235,23 @@ def test_the_uncertainty_endpoint_reads_as_many_queries_for_2_replicates_as_for_
     with django_assert_num_queries(len(two)):
         response = client.get(f"/api/results/{many.pk}/uncertainty/")
     assert response.json()["test_mean"]["replicates"] == 12
+
+
+def test_the_tests_list_shows_the_means_u_only_while_it_is_the_current_replicates(clients):
+    """The mean's U (k = 2) and unit on /api/tests/ as /api/results/<id>/uncertainty/ gives it; once a
+    replicate is corrected the stored budget is of other replicates, and the list says null."""
+    fresh = _test_with_mean_u()
+    stale = _test_with_mean_u()
+    Result.objects.filter(test=stale.test, replicate=2).update(status=ResultStatus.SUPERSEDED)
+    rows = {row["id"]: row for row in clients["manager"].get("/api/tests/", {"page_size": 50}).json()["results"]}
+    assert rows[fresh.test_id]["mean_uncertainty"] == {"expanded": "0.017", "coverage_factor": 2, "unit": "mg KOH/g"}
+    assert rows[stale.test_id]["mean_uncertainty"] is None
+    detail = clients["manager"].get(f"/api/tests/{fresh.test_id}/").json()
+    assert detail["mean_uncertainty"] == rows[fresh.test_id]["mean_uncertainty"]
+
+
+def test_the_tests_list_and_the_uncertainty_endpoint_give_the_same_u(clients):
+    test, result = _entered_test(2)
+    mean = clients["manager"].get(f"/api/results/{result.pk}/uncertainty/").json()["test_mean"]
+    row = clients["manager"].get(f"/api/tests/{test.pk}/").json()["mean_uncertainty"]
+    assert row == {"expanded": mean["expanded_uncertainty"], "coverage_factor": mean["coverage_factor"], "unit": mean["unit"]}

@@ -51,6 +51,7 @@ ID_MODELS = {
     "instruments": models.Instrument,
     "investigations": models.Investigation,
     "lots": models.Lot,
+    "post-release-corrections": models.PostReleaseCorrection,
     "products": models.Product,
     "reagent-kinds": models.ReagentKind,
     "reagent-lots": models.ReagentLot,

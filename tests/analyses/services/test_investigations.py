@@ -5,6 +5,7 @@ import pytest
 
 from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import (
+    AuditEntry,
     Conclusion,
     Investigation,
     InvestigationState,
@@ -62,7 +63,9 @@ def test_only_qa_closes_an_investigation(users, oos):
 
 
 def test_confirmed_oos_rejects_the_lot(users, oos):
-    closed = investigation_close(users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="re-titration agrees")
+    closed = investigation_close(
+        users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="re-titration agrees", password=SIGNING_PASSWORD
+    )
     assert closed.state == InvestigationState.CLOSED and closed.conclusion == "confirmed"
     lot = closed.lot
     lot.refresh_from_db()
@@ -70,6 +73,43 @@ def test_confirmed_oos_rejects_the_lot(users, oos):
     assert "re-titration agrees" in lot.decision_reason
     assert set(lot.samples.values_list("state", flat=True)) == {SampleState.REJECTED}
     with pytest.raises(Conflict):
+        investigation_close(users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="again", password=SIGNING_PASSWORD)
+
+
+@pytest.mark.parametrize("password", [None, "", "wrong password", SIGNING_PASSWORD.upper()])
+def test_confirming_an_oos_that_rejects_the_lot_is_signed_or_refused(users, oos, password):
+    """As lot_reject: a missing or wrong password is a 400 naming it, and nothing is written."""
+    before = AuditEntry.objects.count()
+    with pytest.raises(InvalidInput) as refused:
+        investigation_close(users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="re-titration agrees", password=password)
+    assert list(refused.value.fields) == ["password"]
+    assert Investigation.objects.get(pk=oos.pk).state == InvestigationState.OPEN
+    oos.lot.refresh_from_db()
+    assert oos.lot.state == LotState.OPEN
+    assert AuditEntry.objects.count() == before
+
+
+def test_the_signed_confirmation_records_the_rejections_meaning(users, oos):
+    investigation_close(
+        users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="re-titration agrees", password=SIGNING_PASSWORD
+    )
+    closing = AuditEntry.objects.get(object_type="analyses.investigation", object_id=str(oos.pk), changes__conclusion=["", "confirmed"])
+    rejection = AuditEntry.objects.get(object_type="analyses.lot", object_id=str(oos.lot_id), changes__state=["open", "rejected"])
+    meaning = "rejected: not to be shipped (judged against specification v1)"
+    assert closing.changes["signature_meaning"] == [None, meaning]
+    assert rejection.changes["signature_meaning"] == [None, meaning]
+    assert closing.actor_username == rejection.actor_username == "qa"
+    assert SIGNING_PASSWORD not in str(closing.changes)
+
+
+def test_a_lab_error_needs_no_signature(users, oos):
+    closed = investigation_close(users["qa"], oos, conclusion=Conclusion.LAB_ERROR, findings="wrong KOH normality")
+    assert closed.conclusion == Conclusion.LAB_ERROR
+
+
+def test_an_already_closed_investigation_is_a_conflict_before_the_password_is_asked(users, oos):
+    investigation_close(users["qa"], oos, conclusion=Conclusion.LAB_ERROR, findings="wrong KOH normality")
+    with pytest.raises(Conflict, match="already closed"):
         investigation_close(users["qa"], oos, conclusion=Conclusion.CONFIRMED, findings="again")
 
 

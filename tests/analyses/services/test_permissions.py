@@ -137,7 +137,7 @@ CASES: dict[str, tuple[Callable, Callable, set[str]]] = {
     ),
     "investigation_close": (
         lambda r: _oos(r.getfixturevalue("users"), r.getfixturevalue("assigned_tests")),
-        lambda actor, inv: investigation_close(actor, inv, conclusion="confirmed", findings="repeat agrees"),
+        lambda actor, inv: investigation_close(actor, inv, conclusion="confirmed", findings="repeat agrees", password=SIGNING_PASSWORD),
         {"qa", "admin", "superuser"},
     ),
     "lot_release": (
