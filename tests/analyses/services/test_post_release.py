@@ -187,7 +187,9 @@ def test_post_release_outcomes_are_refused_on_an_open_lot(users, assigned_tests)
     for conclusion, hold_reason in ((Conclusion.NO_ACTION, ""), (Conclusion.HOLD_NOTICE, "h")):
         with pytest.raises(Conflict, match="closes an investigation on a released lot"):
             investigation_close(users["qa"], investigation, conclusion=conclusion, findings="x", hold_reason=hold_reason)
-    closed = investigation_close(users["qa"], investigation, conclusion=Conclusion.CONFIRMED, findings="agrees")
+    # on an open lot "confirmed" rejects it, signed as a rejection is (issue 10)
+    closed = investigation_close(users["qa"], investigation, conclusion=Conclusion.CONFIRMED, findings="agrees",
+                                 password=SIGNING_PASSWORD)
     assert closed.effect == "lot L-100 is now rejected"
 
 
