@@ -106,11 +106,11 @@ class _QueryCounter:
             self.seconds += time.perf_counter() - started
 
 
-def _clients(scope: SeedScope) -> dict[str, APIClient]:
+def _clients(scope: SeedScope, purpose: str) -> dict[str, APIClient]:
     clients = {}
     for role, user in scope.users.items():
         client = APIClient()
-        client.credentials(HTTP_AUTHORIZATION=f"Token {token_issue(user, name='list benchmark').secret}")
+        client.credentials(HTTP_AUTHORIZATION=f"Token {token_issue(user, name=f'list benchmark {purpose}').secret}")
         clients[role] = client
     return clients
 
@@ -142,7 +142,7 @@ def measure_listings(
     then ``repeat`` timed requests, each counted in SQL queries."""
     measurements = []
     with _benchmark_settings(), _quiet_access_log():
-        clients = _clients(scope)
+        clients = _clients(scope, "timing")
         for listing in listings:
             client = clients[listing.role]
             _checked(client.get(_paged(listing.path(scope, repeat), page_size), secure=True))  # warm-up
@@ -171,6 +171,33 @@ def measure_listings(
             if progress:
                 progress(measurement)
     return measurements
+
+
+def explain_listings(
+    scope: SeedScope, *, page_size: int, listings: tuple[Listing, ...] = LISTINGS,
+) -> list[tuple[str, list[tuple[str, list[str]]]]]:
+    """PostgreSQL's EXPLAIN ANALYZE of every SELECT one page of each listing runs: [(listing,
+    [(sql, plan lines)])]. What to read when a list is slow: a Seq Scan or a Sort over the
+    whole table where an index would give the page's rows in order."""
+    from django.test.utils import CaptureQueriesContext
+
+    plans = []
+    with _benchmark_settings(), _quiet_access_log():
+        clients = _clients(scope, "plans")
+        for listing in listings:
+            path = _paged(listing.path(scope, 0), page_size)
+            with CaptureQueriesContext(connection) as captured:
+                _checked(clients[listing.role].get(path, secure=True), path)
+            explained = []
+            with connection.cursor() as cursor:
+                for query in captured.captured_queries:
+                    sql = query["sql"]
+                    if not sql.lstrip().upper().startswith("SELECT"):
+                        continue
+                    cursor.execute(f"EXPLAIN (ANALYZE, BUFFERS) {sql}")
+                    explained.append((sql, [row[0] for row in cursor.fetchall()]))
+            plans.append((listing.name, explained))
+    return plans
 
 
 def _paged(path: str, page_size: int) -> str:

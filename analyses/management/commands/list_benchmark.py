@@ -17,7 +17,7 @@ from django.db import connection, transaction
 
 from analyses.api.pagination import PageWithSize
 from analyses.benchmarks.list_seed import analyze_tables, list_seed, open_sample_count
-from analyses.benchmarks.list_timing import Measurement, measure_listings
+from analyses.benchmarks.list_timing import Measurement, explain_listings, measure_listings
 
 TARGET_P95_MS = 50.0  # issue 12, on PostgreSQL
 
@@ -57,6 +57,10 @@ class Command(BaseCommand):
         parser.add_argument(
             "--open-share", type=float, default=0.05,
             help="share of the newest samples still in testing, the rest released (default 0.05)",
+        )
+        parser.add_argument(
+            "--explain", action="store_true",
+            help="also print PostgreSQL's EXPLAIN ANALYZE of every SELECT one page of each list runs",
         )
         parser.add_argument(
             "--force", action="store_true",
@@ -105,6 +109,8 @@ class Command(BaseCommand):
             )
             analyze_tables()
             measurements = measure_listings(scope, repeat=repeat, page_size=page_size, progress=measured)
+            if options["explain"]:
+                self._explain(scope, page_size)
             transaction.set_rollback(True)
         say("rolled back: the seeded rows are gone")
         say("")
@@ -114,3 +120,15 @@ class Command(BaseCommand):
         slow = [m.name for m in measurements if m.p95_ms >= TARGET_P95_MS]
         verdict = "every list" if not slow else f"{len(measurements) - len(slow)} of {len(measurements)} lists; over: {', '.join(slow)}"
         say(f"target p95 < {TARGET_P95_MS:.0f} ms (issue 12, on PostgreSQL): {verdict}")
+
+    def _explain(self, scope, page_size: int) -> None:
+        say = self.stdout.write
+        if connection.vendor != "postgresql":
+            say("--explain: only on PostgreSQL; skipped")
+            return
+        for name, queries in explain_listings(scope, page_size=page_size):
+            say(f"== plans of {name} ==")
+            for sql, plan in queries:
+                say(f"-- {sql[:300]}{' ...' if len(sql) > 300 else ''}")
+                for line in plan:
+                    say(f"   {line}")
