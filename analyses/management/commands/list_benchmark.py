@@ -92,7 +92,7 @@ class Command(BaseCommand):
             f"page size {page_size}"
         )
         say("everything is written in one transaction, rolled back at the end: nothing stays")
-        started = time.perf_counter()
+        started, started_cpu = time.perf_counter(), time.process_time()
 
         def seeded(done: int, total: int) -> None:
             say(f"seeding: {done:,} / {total:,} samples ({time.perf_counter() - started:.1f} s)")
@@ -105,7 +105,9 @@ class Command(BaseCommand):
             seconds = time.perf_counter() - started
             say(
                 "seeded " + ", ".join(f"{count:,} {name}" for name, count in scope.rows.items())
-                + f" in {seconds:.1f} s ({scope.rows['samples'] / seconds:,.0f} samples/s), scope {scope.prefix}"
+                + f" in {seconds:.1f} s ({scope.rows['samples'] / seconds:,.0f} samples/s; this process's CPU "
+                f"{time.process_time() - started_cpu:.1f} s, the rest the database or waiting for a core), "
+                f"scope {scope.prefix}"
             )
             analyze_tables()
             measurements = measure_listings(scope, repeat=repeat, page_size=page_size, progress=measured)
