@@ -95,3 +95,11 @@ def test_runs_on_a_production_installation_with_force(settings):
     settings.SECURE_SSL_REDIRECT = True
     _, rows = _run("--samples", "10", "--repeat", "1", "--force")
     assert rows["samples"]["total"] == "10"
+
+
+def test_explain_prints_the_plan_of_every_list(postgres):
+    text, rows = _run("--samples", "10", "--repeat", "1", "--explain")
+    for listing in LISTINGS:
+        assert f"== plans of {listing.name} ==" in text
+    assert text.count("Execution Time") >= 3 * len(LISTINGS)  # token, count and page of each list at least
+    assert len(rows) == len(LISTINGS)
