@@ -50,7 +50,12 @@ class Sample(models.Model):
 
     class Meta:
         ordering = ["-registered_at", "-id"]
-        indexes = [models.Index(fields=["state"], name="sample_state_idx")]
+        indexes = [
+            # the sample list's order, newest first: a page without sorting the whole table, of
+            # all samples or of those in one state
+            models.Index(fields=["-registered_at", "-id"], name="sample_newest_idx"),
+            models.Index(fields=["state", "-registered_at", "-id"], name="sample_state_newest_idx"),
+        ]
         permissions = [
             ("register_sample", "Can register samples"),
             ("receive_sample", "Can receive samples"),

@@ -90,6 +90,10 @@ class Test(models.Model):
         indexes = [
             models.Index(fields=["method_code", "state"], name="test_queue_idx"),
             models.Index(fields=["assignee", "state"], name="test_assignee_idx"),
+            # the order of the test list and of the queues (priority, due date, age): a page
+            # without sorting the whole table, all tests or those in one state (the review queue)
+            models.Index(fields=["priority", "due_on", "id"], name="test_order_idx"),
+            models.Index(fields=["state", "priority", "due_on", "id"], name="test_state_order_idx"),
         ]
         permissions = [
             ("assign_test", "Can assign tests to analysts"),

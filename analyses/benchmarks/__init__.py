@@ -1,0 +1,1 @@
+"""Benchmarks run by management commands: synthetic data and the measurements taken on it."""
