@@ -28,14 +28,16 @@ from typing import Any
 
 from django.conf import settings
 from django.contrib.auth import get_user_model
+from django.core.files.uploadedfile import SimpleUploadedFile
 from django.core.management.base import BaseCommand, CommandError
 from django.db import connection, reset_queries, transaction
 from django.test.utils import CaptureQueriesContext, override_settings
 from django.utils import timezone
 
-from analyses.models import Result, Test, TestState
+from analyses.models import Result, Sample, SampleState, Test, TestState
 from analyses.roles import ANALYST, LAB_MANAGER, QA_REVIEWER, roles_ensure
 from analyses.services.demo_bench import demo_bench_load
+from analyses.services.imports import import_mapping_create
 from analyses.services.lots import lot_create
 from analyses.services.products import product_create
 from analyses.services.samples import sample_receive, sample_register
@@ -60,7 +62,7 @@ class _Rollback(Exception):
 class Command(BaseCommand):
     help = (
         "Time result entry: POST /api/results/bulk/ in batches, single POST /api/results/, and a raw "
-        "bulk_create of the same rows; prints results/s, the ratio to the raw insert and the SQL queries "
+        "bulk_create of the same rows, and one instrument file of them through POST /api/imports/; prints results/s, the ratio to the raw insert and the SQL queries "
         "per request. Everything it writes is rolled back."
     )
 
@@ -141,10 +143,26 @@ class Command(BaseCommand):
             raw_queries.append(len(captured.captured_queries))
         raw_seconds = time.perf_counter() - started
         self._progress(f"raw bulk_create: {count}/{count} rows")
+
+        # an instrument file (issue 11): the same readings as a titrator CSV, one file, one sample per test
+        labels = _import_tests(users, tests_per_path)
+        mapping = import_mapping_create(users["manager"], name=f"IB-{tag} titrator", layout="titrator", columns=IMPORT_COLUMNS,
+                                        default_instruments=trace["instruments"])
+        csv = _titrator_csv(labels, trace["titrant_lot"], count)
+        reset_queries()
+        started = time.perf_counter()
+        with CaptureQueriesContext(connection) as captured:
+            response = client.post("/api/imports/", {"file": SimpleUploadedFile(f"IB-{tag}.csv", csv, content_type="text/csv"),
+                                                     "mapping": mapping.name}, format="multipart", secure=True)
+        import_seconds = time.perf_counter() - started
+        if response.status_code != 201:
+            raise CommandError(f"the file import answered {response.status_code}: {response.content[:500]!r}")
+        self._progress(f"file import: {len(response.json()['results'])}/{count} results from one CSV")
         return [
             ("raw Result.objects.bulk_create", count, raw_seconds, raw_queries),
             (f"POST /api/results/bulk/, batches of {batch}", count, bulk_seconds, bulk_queries),
             ("single POST /api/results/", count, single_seconds, single_queries),
+            ("POST /api/imports/, one CSV file", count, import_seconds, [len(captured.captured_queries)]),
         ]
 
     def _progress(self, line: str) -> None:
@@ -235,6 +253,37 @@ def _tests(users: dict[str, Any], count: int) -> list[Test]:
             for _ in range(count)
         ]
     )
+
+
+IMPORT_COLUMNS = {"sample": "Sample", "method": "Method", "titre": "Titre (mL)", "blank": "Blank (mL)",
+                  "sample_mass": "Portion (g)", "titrant_lot": "Titrant lot"}
+
+
+def _import_tests(users: dict[str, Any], count: int) -> list[str]:
+    """``count`` received samples of the run's lot, one assigned acid-value test each (a file's
+    row names its test by sample and method); their labels."""
+    template_sample, template = users["sample"], users["template"]
+    now = timezone.now()
+    samples = Sample.objects.bulk_create([
+        Sample(lot=template_sample.lot, label=f"{template_sample.label}-F{number}", state=SampleState.IN_TESTING,
+               specification=template_sample.specification, registered_by=users["manager"], registered_at=now,
+               received_by=users["manager"], received_at=now)
+        for number in range(count)
+    ])
+    Test.objects.bulk_create([
+        Test(sample=sample, specification_line=template.specification_line, method_code="av", replicates=2,
+             priority=template.priority, due_on=template.due_on, state=TestState.ASSIGNED, assignee=users["analyst"],
+             assigned_at=now, created_at=now)
+        for sample in samples
+    ])
+    return [sample.label for sample in samples]
+
+
+def _titrator_csv(labels: list[str], titrant_lot: str, count: int) -> bytes:
+    heading = ",".join(IMPORT_COLUMNS.values())
+    rows = [f"{label},av,{inputs['sample_volume']},{inputs['blank_volume']},{inputs['sample_mass']},{titrant_lot}"
+            for label in labels for inputs in AV_INPUTS][:count]
+    return ("\n".join([heading, *rows]) + "\n").encode()
 
 
 def _items(tests: list[Test], trace: dict[str, Any], count: int) -> list[dict[str, Any]]:

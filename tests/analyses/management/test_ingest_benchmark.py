@@ -20,8 +20,10 @@ def test_the_benchmark_prints_its_table_and_keeps_nothing():
     assert "| Path" in text
     for column in ("Results/s", "x raw insert", "SQL queries per request"):
         assert column in text
-    for path in ("raw Result.objects.bulk_create", "POST /api/results/bulk/, batches of 4", "single POST /api/results/"):
+    for path in ("raw Result.objects.bulk_create", "POST /api/results/bulk/, batches of 4", "single POST /api/results/",
+                 "POST /api/imports/, one CSV file"):
         assert any(line.startswith(f"| {path}") for line in text.splitlines()), text
     assert "queries per batch constant: yes" in text
     assert "bulk API: 6/6 results" in err.getvalue()  # progress lines
+    assert "file import: 6/6 results from one CSV" in err.getvalue()  # the instrument file's path (issue 11)
     assert (Result.objects.count(), Test.objects.count(), AuditEntry.objects.count(), Product.objects.count()) == kept
