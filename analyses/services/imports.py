@@ -246,7 +246,7 @@ def results_import(
     require_permission(actor, "record_result", "import results")
     refuse_raw_data_edit_by_qa(actor)
     say = progress or (lambda message: None)
-    if isinstance(mapping, str) and not mapping.isdigit():
+    if isinstance(mapping, str):  # a name, as the API and the command take it
         found = ImportMapping.objects.filter(name=mapping).first()
         if found is None:
             raise InvalidInput.for_field("mapping", f"no import mapping is named {mapping!r}")

@@ -55,3 +55,9 @@ def test_missing_parts_of_the_upload_are_named(clients, assigned_tests, mapping_
     assert response.status_code == 400 and "file" in response.json()["fields"]
     unknown = _upload(clients["analyst"], GOOD, mapping="nope")
     assert unknown.status_code == 400 and "mapping" in unknown.json()["fields"]
+
+
+def test_a_mapping_is_named_by_its_name_even_when_it_looks_like_a_number(clients, assigned_tests, mapping_id):
+    # schemathesis sent "0": a name that names no mapping is a 400 on mapping, never a 404
+    response = _upload(clients["analyst"], GOOD, mapping=str(mapping_id))
+    assert response.status_code == 400 and "mapping" in response.json()["fields"]
