@@ -23,6 +23,7 @@ def api_root(request, format=None):
             "my_tests": reverse("test-my-queue", request=request, format=format),
             "review_queue": reverse("test-review-queue", request=request, format=format),
             "investigations": reverse("investigation-list", request=request, format=format),
+            "post_release_corrections": reverse("post-release-correction-list", request=request, format=format),
             "turnaround": reverse("turnaround", request=request, format=format),
             "users": reverse("user-list", request=request, format=format),
             "tokens": reverse("auth-token-list", request=request, format=format),

@@ -374,6 +374,8 @@ SCHEMAS: dict[str, str] = {
     "InstrumentCheckCreateRequest": "A routine check of an instrument: the reference used, its nominal and measured values, and the tolerance.",
     "ImportMappingCreateRequest": "A mapping to name: its layout, the column heading of each role, extra method inputs and the instruments used for every row.",
     "ResultImportUploadRequest": "An export file (multipart upload) and the name of the mapping to read it with.",
+    "PostReleaseCorrectionProposeRequest": "A correction of a released lot's result: the corrected inputs, as the worksheet shows them, and why.",
+    "PostReleaseCorrectionApproveRequest": "QA's approval of a correction: the approver's password re-entered, and an optional note.",
     "InstrumentCreateRequest": "An instrument to register: asset id, kind, location and how often it is checked.",
     "InvestigationCloseRequest": "How an investigation ends: its conclusion and the findings behind it.",
     "LotCreateRequest": "A lot to create: code, product, origin, supplier or customer, container, quantity and production date (not in the future).",
