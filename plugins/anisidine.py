@@ -1,4 +1,5 @@
-"""p-Anisidine value (AnV), AOCS Cd 18-90, and TOTOX: secondary oxidation beside the peroxide value.
+"""p-Anisidine value (AnV), AOCS Cd 18-90: secondary oxidation beside the peroxide value (TOTOX, from
+both, is a method of its own: plugins/totox.py).
 
 By definition (found) AnV is 100 x the absorbance at 350 nm, in a 1 cm cell, of a solution of
 1.00 g of oil in 100 mL, measured as the increase on reaction with p-anisidine. With m grams in
@@ -52,18 +53,6 @@ class UnitlessInput(QuantityInput):
 
 def absorbance(name: str, help: str) -> UnitlessInput:
     return UnitlessInput(name, "dimensionless", help, minimum=0.0, maximum=MAXIMUM_ABSORBANCE)
-
-
-_PEROXIDE_VALUE = UnitlessInput("peroxide_value", "dimensionless", "Peroxide value in meq O2/kg", minimum=0.0)
-_ANISIDINE_VALUE = UnitlessInput("anisidine_value", "dimensionless", "p-Anisidine value", minimum=0.0)
-
-
-def totox(peroxide_value: Any, anisidine_value: Any) -> float:
-    """TOTOX = 2 * PV + AnV (found), PV in meq O2/kg; unrounded.
-
-    A bad value raises MethodInputError naming it.
-    """
-    return 2 * _PEROXIDE_VALUE.parse(peroxide_value) + _ANISIDINE_VALUE.parse(anisidine_value)
 
 
 def corrected_absorbance(values: Mapping[str, Any]) -> Decimal:

@@ -509,6 +509,14 @@ class MethodPlugin:
     components: ClassVar[tuple[Component, ...]] = ()
     headline: ClassVar[str] = ""
 
+    # --- derived parameters (issue 11) ------------------------------------------------
+    # A method computed from other methods' results on the same sample (TOTOX from PV and AnV):
+    # input name -> the method code whose test mean feeds it. Its tests are never entered by
+    # hand: analyses.services.derived_tests works them out whenever a source test's mean is
+    # set or cleared, and they are reviewed like any other. It measures nothing, so it names
+    # no titrant and no instruments.
+    derived_from: ClassVar[Mapping[str, str]] = {}
+
     REQUIRED_ATTRIBUTES: ClassVar[tuple[str, ...]] = (
         "code", "title", "version", "standards", "inputs", "result_unit", "decimals",
     )

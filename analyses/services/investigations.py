@@ -36,6 +36,7 @@ from analyses.models import (
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.certificates import lot_specification_versions
 from analyses.services.cross_checks import cross_checks_refresh_partners
+from analyses.services.derived_tests import derived_tests_refresh
 from analyses.services.lots import lot_reject_locked
 from analyses.services.post_release import (
     POST_RELEASE_CONCLUSIONS,
@@ -62,6 +63,7 @@ def _retest(actor: Actor, test: Test, findings: str) -> Test:
     test.save(update_fields=["state"])
     # an invalidated result is no partner of a cross-check any more (services/cross_checks.py)
     cross_checks_refresh_partners(actor, test, reason=f"test {test.pk} invalidated (lab error)")
+    derived_tests_refresh(actor, [test], reason=f"test {test.pk} invalidated (lab error)")
     retest = Test.objects.create(
         sample=test.sample,
         specification_line=test.specification_line,

@@ -33,6 +33,7 @@ from analyses.audit import PendingEntry, audit_append_many, created, json_safe
 from analyses.errors import Conflict, DomainError, InvalidInput, NotFound
 from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Sample, Test, TestState, TestUncertainty
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
+from analyses.services.derived_tests import derived_tests_refresh
 from analyses.services.cross_checks import cross_check_partners, cross_check_warnings, cross_checks_refresh_partners
 from analyses.services.result_trace import Trace, TraceCatalog, trace_catalog, trace_for_entry, trace_save_many
 from analyses.services.results import (
@@ -299,6 +300,8 @@ class _Batch:
         if completed:
             Test.objects.bulk_update([entry.test for entry in completed], ["state", *AGGREGATE_FIELDS])
         audit_append_many(self._audit_entries(budgets, means, changes))
+        # parameters worked out from these means (TOTOX from PV and AnV: services/derived_tests.py)
+        derived_tests_refresh(self.actor, [entry.test for entry in completed], reason=MEAN_REASON)
         in_batch = {entry.test.pk for entry in completed}
         for entry in completed:
             # partners outside the batch take this result into their own warnings (audited); a

@@ -161,6 +161,11 @@ def lock_test_row(test: Test | int) -> Test:
 
 
 def _check_workable(test: Test) -> None:
+    from analyses.services.derived_tests import derived_entry_refusal  # it builds on this module
+
+    refusal = derived_entry_refusal(test)
+    if refusal is not None:
+        raise refusal
     if test.state not in WORKABLE_TEST_STATES:
         raise Conflict(f"test {test.pk} is {test.state}; results can be entered only when it is assigned or sent back")
     sample_require_workable(test.sample)
@@ -205,6 +210,10 @@ def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | Non
         audit_append(
             actor, AuditAction.CHANGE, test, changes, reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id
         )
+    # a parameter worked out from this one (TOTOX from PV and AnV: services/derived_tests.py)
+    from analyses.services.derived_tests import derived_tests_refresh  # it builds on this module
+
+    derived_tests_refresh(actor, [test], reason=reason)
 
 
 def apply_test_aggregate(test: Test, aggregate: dict[str, Any] | None, warnings: list[str]) -> dict[str, list[Any]]:

@@ -15,6 +15,7 @@ from analyses.audit import audit_append, created
 from analyses.errors import Conflict, NotAllowed
 from analyses.models import OOS_VERDICTS, AuditAction, Investigation, LotState, ResultStatus, Test, TestState
 from analyses.services.access import Actor, actor_name, require_permission, required_text
+from analyses.services.derived_tests import derived_review_refusal
 from analyses.services.follow_up import test_accepted_follow_up
 from analyses.services.post_release import post_release_investigation_open
 from analyses.services.pull_judging import pull_failure_alert, study_attribute_of
@@ -33,9 +34,12 @@ def _four_eyes(actor: Actor, test: Test) -> None:
         )
 
 
-def _reviewable(actor: Actor, test: Test) -> None:
+def _reviewable(actor: Actor, test: Test, *, sending_back: bool = False) -> None:
     if test.state != TestState.RESULT_ENTERED:
         raise Conflict(f"test {test.pk} is {test.state}; only a test with its results entered can be reviewed")
+    refusal = derived_review_refusal(test, sending_back=sending_back)
+    if refusal is not None:
+        raise refusal
     _four_eyes(actor, test)
     sample_require_workable(test.sample)
 
@@ -87,7 +91,7 @@ def test_send_back(actor: Actor, test: Test | int, *, reason: str) -> Test:
     reason = required_text(reason, "reason")
     with transaction.atomic():
         test = lock_test_row(test)
-        _reviewable(actor, test)
+        _reviewable(actor, test, sending_back=True)
         for result in test.results.select_for_update().filter(status=ResultStatus.CURRENT):
             result.status = ResultStatus.INVALIDATED
             result.status_reason = reason

@@ -16,7 +16,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from plugins.anisidine import MAXIMUM_ABSORBANCE, AnisidineValue, totox
+from plugins.anisidine import MAXIMUM_ABSORBANCE, AnisidineValue
 from plugins.contract import MethodInputError
 from plugins.peroxide import PeroxideValue
 from plugins.registry import get_registry
@@ -166,37 +166,3 @@ def test_registered_under_its_code():
     registry = get_registry()
     assert isinstance(registry.get("anv"), AnisidineValue)
     assert all("anv" not in rejected.entry_point for rejected in registry.rejected)
-
-
-def test_totox_from_known_values():
-    # TOTOX = 2 x PV + AnV (found): PV 5.0 meq O2/kg and AnV 3.5 -> 13.5
-    assert totox(5.0, 3.5) == pytest.approx(13.5, abs=1e-12)
-    assert totox("5.0", "3.5 dimensionless") == pytest.approx(13.5, abs=1e-12)
-    assert totox(0, 0) == 0
-
-
-def test_totox_from_the_two_plugins():
-    # PV by AOCS Cd 8b-90 (found): (3.1 - 0.05) mL x 0.002 mol/L x 1000 / 5.0 g = 1.22 meq O2/kg;
-    # AnV 26.0 from the definition case (found); TOTOX = 2 x 1.22 + 26.0 = 28.44 (found)
-    pv = PeroxideValue().calculate(
-        {"sample_mass": 5.0, "sample_volume": 3.1, "blank_volume": 0.05, "titrant_concentration": 0.002}
-    )
-    anv = ANV.calculate(DEFINITION_CASE)
-    assert totox(pv.value, anv.value) == pytest.approx(28.44, abs=1e-9)
-
-
-@pytest.mark.parametrize(
-    ("peroxide_value", "anisidine_value", "field"),
-    [
-        (-1.0, 3.5, "peroxide_value"),
-        ("5 percent", 3.5, "peroxide_value"),
-        (None, 3.5, "peroxide_value"),
-        (5.0, -0.1, "anisidine_value"),
-        (5.0, float("nan"), "anisidine_value"),
-        (5.0, "high", "anisidine_value"),
-    ],
-)
-def test_totox_refuses_bad_values_by_name(peroxide_value, anisidine_value, field):
-    with pytest.raises(MethodInputError) as refused:
-        totox(peroxide_value, anisidine_value)
-    assert refused.value.field == field

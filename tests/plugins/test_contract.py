@@ -59,7 +59,7 @@ def in_other_unit(spec: QuantityInput, value: float) -> str:
 
 def test_registry_holds_exactly_the_builtins():
     registry = get_registry()
-    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
+    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "totox", "unsap"]
     assert registry.rejected == []
 
 

@@ -24,6 +24,9 @@ def test_titrants_are_known_substances_fed_through_the_titrant_input(plugin):
 
 @pytest.mark.parametrize("plugin", PLUGINS, ids=lambda p: p.code)
 def test_every_builtin_names_its_instruments_and_a_balance(plugin):
+    if plugin.derived_from:  # worked out from other results (TOTOX): it measures nothing
+        assert plugin.instruments == () and plugin.titrants == ()
+        return
     assert plugin.instruments
     # the slip melting point weighs nothing (AOCS Cc 3-25 fills its tubes by dipping, found): a thermometer only
     if plugin.code == "smp":

@@ -48,7 +48,7 @@ BROKEN = [
 def test_broken_plugin_is_rejected_with_a_clear_reason_and_the_rest_load(name, target, words):
     registry = PluginRegistry().load(found=[*builtin_entry_points(), entry_point(name, target)])
 
-    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
+    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "totox", "unsap"]
     assert len(registry.rejected) == 1
     rejected = registry.rejected[0]
     assert rejected.entry_point == f"{name} = {target}"
@@ -64,7 +64,7 @@ def test_all_broken_plugins_at_once_leave_the_good_ones_loaded():
     ]
     registry = PluginRegistry().load(found=found)
 
-    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "titre_per_gram", "unsap"]
+    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "titre_per_gram", "totox", "unsap"]
     assert sorted(rejected.entry_point.split(" = ")[0] for rejected in registry.rejected) == sorted(
         name for name, _, _ in BROKEN
     )
@@ -88,7 +88,7 @@ def test_reload_replaces_the_earlier_load():
     registry = PluginRegistry().load(found=[entry_point("not_a_plugin", f"{HELPERS}:NotAPlugin")])
     assert registry.codes() == [] and len(registry.rejected) == 1
     registry.load(found=builtin_entry_points())
-    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
+    assert registry.codes() == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "totox", "unsap"]
     assert registry.rejected == []
 
 
@@ -96,12 +96,12 @@ def test_unknown_code_names_the_known_ones():
     with pytest.raises(UnknownMethod) as unknown:
         get_registry().get("nope")
     assert unknown.value.code == "nope"
-    assert "anv, av, fac, ffa, insol, iv, mv, osi, pv, smp, soap, sv, unsap" in str(unknown.value)
+    assert "anv, av, fac, ffa, insol, iv, mv, osi, pv, smp, soap, sv, totox, unsap" in str(unknown.value)
 
 
 def test_installed_entry_points_are_the_builtins():
     # pyproject.toml registers the built-ins exactly as an outside package would.
-    assert sorted(ep.name for ep in builtin_entry_points()) == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
+    assert sorted(ep.name for ep in builtin_entry_points()) == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "totox", "unsap"]
 
 
 def test_system_check_warns_about_a_rejected_plugin(monkeypatch):

@@ -12,7 +12,7 @@ def test_method_list_carries_metadata(api, db):
     response = api.get("/api/methods/")
     assert response.status_code == 200
     codes = [m["code"] for m in response.json()]
-    assert codes == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
+    assert codes == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "totox", "unsap"]
 
 
 def test_method_detail_and_unknown_method(api, db):

@@ -7,7 +7,7 @@ from django.core.management import call_command
 def test_methods_json_lists_every_registered_method(capsys):
     call_command("methods", "--json")
     listed = json.loads(capsys.readouterr().out)
-    assert [m["code"] for m in listed] == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "unsap"]
+    assert [m["code"] for m in listed] == ["anv", "av", "fac", "ffa", "insol", "iv", "mv", "osi", "pv", "smp", "soap", "sv", "totox", "unsap"]
     sv = next(m for m in listed if m["code"] == "sv")
     assert sv["standards"] == ["AOCS Cd 3-25", "ISO 3657"]
     assert sv["result_unit"] == "mg KOH/g"

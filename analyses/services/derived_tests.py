@@ -1,0 +1,146 @@
+"""Derived tests: a method worked out from other methods' results on the same sample.
+
+A plugin with ``derived_from`` (TOTOX = 2 PV + AnV: ``plugins/totox.py``) is a specification
+parameter like any other, with its own line, limits, verdict, review and certificate row, but
+nobody enters it. Whenever the mean of one of its source tests is set or cleared (entry,
+correction, send-back, invalidation), ``derived_tests_refresh`` works the derived tests of the
+sample out again:
+
+- every source has a standing mean (not invalidated, not cancelled): the derived test gets one
+  result from those means, exactly as written, entered by whoever completed the last source,
+  and waits for review; a new source mean supersedes that result with a new version;
+- a source mean was cleared: the derived result is invalidated, the test's mean cleared, and the
+  test waits (pending) for the sources again.
+
+Each change is audited. Review accepts a derived test only after its sources are accepted, and
+it is never sent back: its sources are (``derived_review_refusal``).
+"""
+from __future__ import annotations
+
+from collections.abc import Iterable
+from decimal import Decimal
+
+from analyses.audit import audit_append, created
+from analyses.errors import Conflict
+from analyses.models import AuditAction, Result, ResultStatus, Test, TestState
+from analyses.services.access import Actor
+from analyses.services.result_trace import Trace
+from plugins.contract import MethodPlugin
+from plugins.registry import get_registry
+
+# a derived test in one of these states follows its sources; an accepted one is final
+FOLLOWING = (TestState.PENDING, TestState.ASSIGNED, TestState.RESULT_ENTERED, TestState.SENT_BACK)
+NOT_STANDING = (TestState.INVALIDATED, TestState.CANCELLED)
+
+
+def derived_methods() -> dict[str, MethodPlugin]:
+    """The registered derived methods by code."""
+    registry = get_registry()
+    return {code: registry.get(code) for code in registry.codes() if registry.get(code).derived_from}
+
+
+def source_codes() -> set[str]:
+    return {code for plugin in derived_methods().values() for code in plugin.derived_from.values()}
+
+
+def _standing_sources(sample_ids: set[int], codes: set[str], given: dict[int, Test]) -> dict[tuple[int, str], Test]:
+    """Per (sample, method), the latest test with a standing mean; ``given`` tests (their new
+    means perhaps not saved yet) stand in for their rows."""
+    latest: dict[tuple[int, str], Test] = {}
+    rows = Test.objects.filter(sample_id__in=sample_ids, method_code__in=codes).order_by("pk")
+    for row in rows:
+        test = given.get(row.pk, row)
+        if test.state not in NOT_STANDING and test.value_exact:
+            latest[(test.sample_id, test.method_code)] = test
+    return latest
+
+
+def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -> None:
+    """Work out again the derived tests fed by ``tests`` (whose means were just set or cleared).
+    Runs inside the caller's transaction."""
+    from analyses.services.results import RESULT_FIELDS, _aggregate, _calculate, _result_fields, set_test_aggregate
+    from analyses.services.uncertainty import result_uncertainty_record
+
+    methods = derived_methods()
+    feeding = {code for plugin in methods.values() for code in plugin.derived_from.values()}
+    given = {test.pk: test for test in tests if test.method_code in feeding}
+    if not given:
+        return
+    sample_ids = {test.sample_id for test in given.values()}
+    derived = list(
+        Test.objects.select_for_update()
+        .select_related("sample__lot__product", "specification_line")
+        .filter(sample_id__in=sample_ids, method_code__in=methods, state__in=FOLLOWING)
+        .order_by("pk")
+    )
+    if not derived:
+        return
+    sources = _standing_sources(sample_ids, feeding, given)
+    for test in derived:
+        plugin = methods[test.method_code]
+        current = test.results.select_for_update().filter(status=ResultStatus.CURRENT).first()
+        feeds = {name: sources.get((test.sample_id, code)) for name, code in plugin.derived_from.items()}
+        if all(feeds.values()):
+            inputs = {name: str(Decimal(source.value_exact)) for name, source in feeds.items()}
+            if current is not None and current.inputs == inputs:
+                continue
+            trace = Trace()
+            outcome = _calculate(plugin, test, inputs, trace)
+            aggregate = _aggregate(plugin, test, [outcome.judged], outcome.unit)
+            why = f"worked out from {', '.join(f'{source.method_code} test {source.pk}' for source in feeds.values())}: {reason}"
+            result = Result(replicate=1, **_result_fields(actor, test, inputs, outcome, aggregate, trace))
+            if current is not None:
+                current.status = ResultStatus.SUPERSEDED
+                current.save(update_fields=["status"])
+                result.version, result.supersedes, result.correction_reason = current.version + 1, current, why
+            result.save(force_insert=True)
+            audit_append(actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS), reason=why,
+                         lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
+            result_uncertainty_record(result, aggregate)  # its budget, and the verdict by the line's rule
+            set_test_aggregate(actor, test, aggregate, reason=why)
+            if test.state != TestState.RESULT_ENTERED:
+                _move(actor, test, TestState.RESULT_ENTERED, why)
+            test.save()
+        elif current is not None:
+            why = f"a source mean was withdrawn: {reason}"
+            current.status, current.status_reason = ResultStatus.INVALIDATED, why
+            current.save(update_fields=["status", "status_reason"])
+            audit_append(actor, AuditAction.TRANSITION, current, {"status": [ResultStatus.CURRENT, ResultStatus.INVALIDATED]},
+                         reason=why, lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
+            set_test_aggregate(actor, test, None, reason=why)
+            _move(actor, test, TestState.PENDING, why)
+            test.save()
+
+
+def _move(actor: Actor, test: Test, target: str, reason: str) -> None:
+    from analyses.services.transitions import record_test_move
+
+    record_test_move(actor, test, target, reason=reason)
+
+
+def derived_review_refusal(test: Test, *, sending_back: bool) -> Conflict | None:
+    """Why a derived test cannot be reviewed so now, or None: it is never sent back (its sources
+    are), and it is accepted only after every source test is."""
+    plugin = derived_methods().get(test.method_code)
+    if plugin is None:
+        return None
+    sources = ", ".join(plugin.derived_from.values())
+    if sending_back:
+        return Conflict(f"test {test.pk} ({test.method_code}) is worked out from the {sources} results; send those back instead")
+    waiting = Test.objects.filter(sample_id=test.sample_id, method_code__in=plugin.derived_from.values()).exclude(
+        state__in=(TestState.ACCEPTED, *NOT_STANDING)
+    )
+    if waiting.exists():
+        return Conflict(f"test {test.pk} ({test.method_code}) is worked out from the {sources} results; accept those first")
+    return None
+
+
+def derived_entry_refusal(test: Test) -> Conflict | None:
+    """A derived test takes no entry by hand."""
+    plugin = derived_methods().get(test.method_code)
+    if plugin is None:
+        return None
+    return Conflict(
+        f"test {test.pk} ({test.method_code}) is worked out from the sample's "
+        f"{' and '.join(plugin.derived_from.values())} results; it is not entered"
+    )

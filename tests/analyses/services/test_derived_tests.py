@@ -1,0 +1,96 @@
+"""TOTOX as a specification parameter of the sample, worked out from its PV and AnV test means
+(issue 11; analyses/services/derived_tests.py). TOTOX = 2 PV + AnV (found, shared/references.md).
+
+PV by AOCS Cd 8b-90 (lab_setup): 4.98 and 5.06 meq O2/kg, mean 5.02. AnV by AOCS Cd 18-90 with
+25 mL: 25 x (1.2 x 0.300 - 0.080) / 2.0 g = 3.5 (both replicates). TOTOX = 2 x 5.02 + 3.5 = 13.54.
+The TOTOX limit 26 on the line is invented for the test."""
+from __future__ import annotations
+
+from decimal import Decimal
+
+import pytest
+
+from analyses.errors import Conflict
+from analyses.models import Result, ResultStatus, Test, TestState
+from analyses.services.assignments import test_assign_bulk
+from analyses.services.lots import lot_create
+from analyses.services.results import result_record
+from analyses.services.review import test_accept, test_send_back
+from analyses.services.samples import sample_receive, sample_register
+from analyses.services.specifications import specification_approve, specification_create
+from tests.analyses.lab_setup import PV_LOW, PV_LOW_TWIN, PV_TRACE, entry
+from tests.factories import ProductFactory
+
+pytestmark = pytest.mark.django_db
+
+ANV_INPUTS = {"sample_mass": "2.0", "absorbance_unreacted": "0.080", "absorbance_reacted": "0.300"}
+
+
+@pytest.fixture
+def tests_(users):
+    product = ProductFactory(code="TOX", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
+    draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
+        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"}, {"method": "totox", "maximum": "26"},
+    ])
+    specification_approve(users["qa"], draft)
+    lot = lot_create(users["manager"], code="TOX-1", product=product, origin="production")
+    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TOX-1-A"), condition="sealed", storage_place="A")
+    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
+    test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
+    return tests
+
+
+def _fresh(test: Test) -> Test:
+    return Test.objects.get(pk=test.pk)
+
+
+def _enter_sources(users, tests):
+    for inputs in (PV_LOW, PV_LOW_TWIN):
+        result_record(users["analyst"], tests["pv"], inputs=inputs, **PV_TRACE)
+    for _ in range(2):
+        result_record(users["analyst"], tests["anv"], **entry("anv", ANV_INPUTS))
+
+
+def test_totox_is_worked_out_once_both_means_stand(users, tests_):
+    result_record(users["analyst"], tests_["pv"], inputs=PV_LOW, **PV_TRACE)
+    result_record(users["analyst"], tests_["pv"], inputs=PV_LOW_TWIN, **PV_TRACE)
+    assert _fresh(tests_["totox"]).state == TestState.PENDING  # AnV not in yet
+    for _ in range(2):
+        result_record(users["analyst"], tests_["anv"], **entry("anv", ANV_INPUTS))
+    totox = _fresh(tests_["totox"])
+    assert totox.state == TestState.RESULT_ENTERED
+    assert Decimal(totox.value_exact) == Decimal("13.54") and totox.reported == "13.5" and totox.verdict == "pass"
+    result = Result.objects.get(test=totox, status=ResultStatus.CURRENT)
+    # the source means exactly as their tests keep them
+    assert {name: Decimal(value) for name, value in result.inputs.items()} == {"peroxide_value": Decimal("5.02"), "anisidine_value": Decimal("3.5")}
+    assert result.inputs["peroxide_value"] == _fresh(tests_["pv"]).value_exact
+
+
+def test_totox_is_never_entered_by_hand(users, tests_):
+    test_assign_bulk(users["manager"], [tests_["totox"]], assignee=users["analyst"])
+    with pytest.raises(Conflict, match="worked out from the sample's pv and anv results"):
+        result_record(users["analyst"], tests_["totox"], inputs={"peroxide_value": "1", "anisidine_value": "1"})
+
+
+def test_a_source_sent_back_withdraws_totox_and_a_new_mean_brings_it_back(users, tests_):
+    _enter_sources(users, tests_)
+    test_send_back(users["analyst2"], _fresh(tests_["pv"]), reason="titre misread")
+    totox = _fresh(tests_["totox"])
+    assert totox.state == TestState.PENDING and totox.value_exact == "" and totox.verdict == ""
+    assert Result.objects.get(test=totox).status == ResultStatus.INVALIDATED
+    # the retest's readings: PV 4.98 twice -> TOTOX 2 x 4.98 + 3.5 = 13.46
+    for _ in range(2):
+        result_record(users["analyst"], tests_["pv"], inputs=PV_LOW, **PV_TRACE)
+    totox = _fresh(tests_["totox"])
+    assert totox.state == TestState.RESULT_ENTERED and Decimal(totox.value_exact) == Decimal("13.46")
+
+
+def test_totox_is_accepted_after_its_sources_and_never_sent_back(users, tests_):
+    _enter_sources(users, tests_)
+    with pytest.raises(Conflict, match="accept those first"):
+        test_accept(users["analyst2"], _fresh(tests_["totox"]))
+    with pytest.raises(Conflict, match="send those back instead"):
+        test_send_back(users["analyst2"], _fresh(tests_["totox"]), reason="x")
+    test_accept(users["analyst2"], _fresh(tests_["pv"]))
+    test_accept(users["analyst2"], _fresh(tests_["anv"]))
+    assert test_accept(users["analyst2"], _fresh(tests_["totox"])).state == TestState.ACCEPTED
