@@ -10,6 +10,9 @@ from django.contrib.auth.models import Group
 
 from analyses.models import (
     ApiToken,
+    ImportMapping,
+    PostReleaseCorrection,
+    ResultImport,
     AuditEntry,
     Calibration,
     Certificate,
@@ -125,6 +128,6 @@ class InstrumentAdmin(ViewOnlyAdmin):
 
 for model in (
     Product, Specification, SpecificationLine, Investigation, Certificate, ReagentKind, ReagentLot, Calibration,
-    InstrumentCheck,
+    InstrumentCheck, PostReleaseCorrection, ImportMapping, ResultImport,
 ):
     admin.site.register(model, ViewOnlyAdmin)
