@@ -17,8 +17,8 @@ from decimal import Decimal
 from typing import Any
 
 from plugins import codex
-from plugins.contract import MethodInputError, MethodPlugin, MethodScope, QuantityInput, WorkedExample
-from plugins.titration import PortionRange, sample_mass
+from plugins.contract import MethodPlugin, MethodScope, QuantityInput, WorkedExample
+from plugins.titration import PortionRange, refuse_more_than_portion, sample_mass
 
 
 class InsolubleImpurities(MethodPlugin):
@@ -68,10 +68,7 @@ class InsolubleImpurities(MethodPlugin):
     )
 
     def check(self, values: Mapping[str, Any]) -> None:
-        if values["residue_mass"] > values["sample_mass"]:
-            raise MethodInputError(
-                "residue_mass", f"{values['residue_mass']} g is more than the test portion of {values['sample_mass']} g"
-            )
+        refuse_more_than_portion(values, "residue_mass")
 
     def compute(self, values: Mapping[str, Any]) -> Decimal:
         return values["residue_mass"] * 100 / values["sample_mass"]

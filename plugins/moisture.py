@@ -20,7 +20,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.contract import MethodInputError, MethodPlugin, MethodScope, QuantityInput, WorkedExample
-from plugins.titration import PortionRange, sample_mass
+from plugins.titration import PortionRange, refuse_more_than_portion, sample_mass
 
 # (low, high, standard): the oven temperatures each standard prescribes, in degC (found)
 OVEN_WINDOWS = (
@@ -82,10 +82,7 @@ class MoistureVolatileMatter(MethodPlugin):
     )
 
     def check(self, values: Mapping[str, Any]) -> None:
-        if values["mass_loss"] > values["sample_mass"]:
-            raise MethodInputError(
-                "mass_loss", f"{values['mass_loss']} g is more than the test portion of {values['sample_mass']} g"
-            )
+        refuse_more_than_portion(values, "mass_loss")
         temperature = values["oven_temperature"]
         if not any(low <= temperature <= high for low, high, _ in OVEN_WINDOWS):
             windows = " or ".join(name for _, _, name in OVEN_WINDOWS)

@@ -52,6 +52,13 @@ class PortionRange:
         return f"{self.source}{tag}; ± {PORTION_ALLOWANCE * 100:.0f} % for 'about' (common practice, no source)"
 
 
+def refuse_more_than_portion(values, part: str) -> None:
+    """A mass taken from the test portion (lost on drying, left on a filter, extracted) is never
+    more than the portion; MethodInputError naming ``part`` otherwise."""
+    if values[part] > values["sample_mass"]:
+        raise MethodInputError(part, f"{values[part]} g is more than the test portion of {values['sample_mass']} g")
+
+
 def sample_mass(help: str = "Mass of the test portion", portions: PortionRange | None = None, *, refuse_beyond: bool = True) -> QuantityInput:
     """The test portion. With ``portions``, its masses from the standard are the plausible
     range, and (``refuse_beyond``) a tenth of the smallest and ten times the largest the hard

@@ -22,7 +22,7 @@ from typing import Any
 
 from plugins import codex
 from plugins.contract import TITRATION_INSTRUMENTS, MethodInputError, MethodPlugin, MethodScope, QuantityInput, WorkedExample
-from plugins.titration import PortionRange, sample_mass, sample_volume, titrant_concentration
+from plugins.titration import PortionRange, refuse_more_than_portion, sample_mass, sample_volume, titrant_concentration
 
 OLEIC_ACID_PER_MMOL = Decimal("0.282")  # g of oleic acid per mmol of NaOH (M = 282 g/mol; from memory)
 
@@ -102,10 +102,7 @@ class UnsaponifiableMatter(MethodPlugin):
     )
 
     def check(self, values: Mapping[str, Any]) -> None:
-        if values["residue_mass"] > values["sample_mass"]:
-            raise MethodInputError(
-                "residue_mass", f"{values['residue_mass']} g is more than the test portion of {values['sample_mass']} g"
-            )
+        refuse_more_than_portion(values, "residue_mass")
         corrected_residue(values)
 
     def compute(self, values: Mapping[str, Any]) -> Decimal:
