@@ -39,10 +39,6 @@ def derived_methods() -> dict[str, MethodPlugin]:
     return {code: registry.get(code) for code in registry.codes() if registry.get(code).derived_from}
 
 
-def source_codes() -> set[str]:
-    return {code for plugin in derived_methods().values() for code in plugin.derived_from.values()}
-
-
 def _standing_sources(sample_ids: set[int], codes: set[str], given: dict[int, Test]) -> dict[tuple[int, str], Test]:
     """Per (sample, method), the latest test with a standing mean; ``given`` tests (their new
     means perhaps not saved yet) stand in for their rows."""
