@@ -4,7 +4,8 @@ Code comments and docstrings are written for the people who change the code; the
 schema is read by the people who connect a balance export, an ERP or a dashboard to the
 lab. Their texts live here, keyed by operation id and by schema component name, so they
 can be read and reviewed together. ``analyses.api.schema.integrator_texts`` puts them in
-the schema; ``tests/analyses/api/test_schema_texts.py`` fails on an operation or a schema
+the schema, where an entry replaces a view's own ``description=`` (a view keeps one only for an
+operation that has no entry here); ``tests/analyses/api/test_schema_texts.py`` fails on an operation or a schema
 without one, on developer phrasing, and on an entry here that names nothing in the schema.
 
 Each operation says what it does, who may call it and what it refuses. The roles are the
@@ -190,8 +191,11 @@ OPERATIONS: dict[str, str] = {
     "tests_retrieve": "One test with its replicates' mean, reported value, verdict and review warnings. " + SIGNED_IN,
     "tests_mine_list": "Your own queue: tests given or sent back to you that await results. " + SIGNED_IN + " " + PAGED,
     "tests_queue_list": (
-        "The open tests of one method, by priority then due date, with each test's sample state so held samples "
-        "show as held. " + SIGNED_IN + " " + PAGED
+        "The open tests of one method (pending, assigned, sent back, awaiting review), most urgent first, then by "
+        "due date. A test whose sample is on hold stays listed, with the hold's state and reason, and is not "
+        "counted overdue; it cannot be assigned until the sample is resumed (409). Filter held tests in or out "
+        "with `on_hold`. " + SIGNED_IN + " An unknown method is a 404, an `on_hold` other than true or false a 400. "
+        + PAGED
     ),
     "tests_review_list": (
         "Tests with every result entered that you may review: never those whose results you entered yourself "
@@ -199,8 +203,9 @@ OPERATIONS: dict[str, str] = {
     ),
     "tests_assign_create": (
         "Gives tests to an analyst, or moves them to another, all or nothing, optionally with priority and due "
-        "date. For lab managers and admins. An error names the item (`tests.3`); a test that cannot be given "
-        "(finished, or its sample on hold) answers 409 naming it."
+        "date; pending tests become assigned, others keep their state. For lab managers and admins. An error "
+        "names the item (`tests.3`); a test that cannot be given (finished, or its sample on hold) answers 409 "
+        "naming it."
     ),
     "tests_accept_create": (
         "Accepts a test whose results are all entered. Anyone who may review tests, except whoever entered its "

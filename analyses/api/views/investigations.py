@@ -43,19 +43,6 @@ class InvestigationCloseView(APIView):
         request=InvestigationCloseSerializer,
         responses={200: InvestigationSerializer, **errors(400, 403, 404, 409)},
         summary="Close an investigation (QA), and see what it changed",
-        description=(
-            "QA (or an admin) closes an open investigation with a conclusion and findings; the answer's `effect` "
-            "says in words what the close changed. On an open lot: `confirmed` rejects the lot, and is an electronic "
-            "signature as a rejection is (`password`, the user's own, re-entered: 400 naming `password` when missing "
-            "or wrong, nothing written; wrong ones count towards the login lock-out); `lab_error` invalidates the "
-            "result and creates a retest. On a released lot (a post-release investigation): "
-            "`no_action` leaves the lot as it is and says so; `hold_notice`, with `hold_reason`, marks the lot "
-            "\"released, under investigation\" and alerts QA (QA group only); `lab_error` where the sample can still "
-            "be retested. Refused with 409: `confirmed` on a released lot (it would change nothing), the post-release "
-            "outcomes on a lot that is not released, a second hold notice on a lot already under one, and an "
-            "investigation already closed. 400 names the field: an unknown conclusion, missing findings, "
-            "`hold_reason` missing for a hold notice or given with another conclusion."
-        ),
     )
     def post(self, request: Request, pk: int) -> Response:
         data = validated(InvestigationCloseSerializer, request)

@@ -83,12 +83,6 @@ class LotReleaseView(APIView):
         request=ReleaseSerializer,
         responses={201: CertificateSerializer, **errors(400, 403, 404, 409)},
         summary="Release the lot (QA), signed with the user's password, and issue its certificate of analysis",
-        description=(
-            "An electronic signature: `password` is the releasing user's own, re-entered (400 naming `password` "
-            "when missing or wrong; wrong ones count towards the login lock-out, which answers 429). Its meaning, "
-            '"released for shipment against specification vN", is kept in the audit trail. 409 with `missing` '
-            "listing every test, sample or investigation that blocks the release."
-        ),
     )
     def post(self, request: Request, pk: int) -> Response:
         data = validated(ReleaseSerializer, request)
@@ -103,7 +97,6 @@ class LotRejectView(APIView):
         request=RejectSerializer,
         responses={200: LotSerializer, **errors(400, 403, 404, 409)},
         summary="Reject the lot (QA), with a reason, signed with the user's password; its open samples are rejected",
-        description="`password` as for a release: 400 naming it when missing or wrong.",
     )
     def post(self, request: Request, pk: int) -> Response:
         data = validated(RejectSerializer, request)
@@ -199,11 +192,6 @@ class LotCertificateReissueView(APIView):
         request=ReissueSerializer,
         responses={201: CertificateSerializer, **errors(400, 403, 404, 409)},
         summary="Reissue the certificate of a released lot (QA), with a reason, signed with the user's password",
-        description=(
-            "The new version gets a new number and is marked as replacing the current one, which stays "
-            "retrievable (`?version=`). `customer` corrects the lot's customer first; otherwise the new version "
-            "is built from the record as it stands. 409 unless the lot is released."
-        ),
     )
     def post(self, request: Request, pk: int) -> Response:
         data = validated(ReissueSerializer, request)

@@ -45,7 +45,6 @@ class ResultRecordView(APIView):
         parameters=[IDEMPOTENCY_KEY, REPLAYED],
         responses={201: OpenApiResponse(ResultSerializer, description=REPLAY_NOTE), **errors(400, 403, 409)},
         summary="Enter one replicate of a test assigned to me",
-        description="Plugin input errors name the input: `inputs.sample_mass`. " + REPLAY_NOTE,
     )
     def post(self, request: Request) -> Response:
         data = validated(ResultRecordSerializer, request)
@@ -73,10 +72,6 @@ class ResultRecordBulkView(APIView):
             **errors(400, 403, 409),
         },
         summary="Enter many results, all or nothing",
-        description=(
-            "The first bad item rolls everything back and is named: `results.2.inputs.sample_mass`. "
-            "With the Idempotency-Key header, item i without its own key uses \"<key>#i\". " + REPLAY_NOTE
-        ),
     )
     def post(self, request: Request) -> Response:
         data = validated(ResultRecordBulkSerializer, request)
@@ -97,11 +92,6 @@ class ResultDetailView(RetrieveAPIView):
 class ResultUncertaintyView(APIView):
     @extend_schema(
         summary="A result's uncertainty budget, and its test mean's",
-        description=(
-            "Each input's value, standard uncertainty u, sensitivity coefficient, contribution |c| u and share of "
-            "the combined variance, by first-order propagation (GUM, JCGM 100:2008); the expanded U with k = 2. "
-            "The mean of the test's current replicates has its own budget once all are in."
-        ),
         responses={200: ResultUncertaintySerializer, **errors(404)},
     )
     def get(self, request: Request, pk: int) -> Response:

@@ -48,10 +48,6 @@ class SpecificationListView(PagedListView):
         request=SpecificationCreateSerializer,
         responses={201: SpecificationSerializer, **errors(400, 403)},
         summary="Draft a specification (the product's next version) with its lines",
-        description=(
-            "Each line names a method and its limits, or a Codex oil type whose default limits the method "
-            "plugin carries (`codex_oil_type`, e.g. \"refined\"). Errors name the line: `lines.2.maximum`."
-        ),
     )
     def post(self, request: Request) -> Response:
         data = validated(SpecificationCreateSerializer, request)

@@ -62,7 +62,6 @@ class StudyEvaluateView(APIView):
         request=None,
         responses={200: StudySerializer, **errors(403, 404)},
         summary="Evaluate now: kinetics, ICH Q1E shelf life and extrapolation branch, Arrhenius; raises alerts",
-        description="The scheduler also evaluates every running study each hour and after each accepted pull result.",
     )
     def post(self, request: Request, pk: int) -> Response:
         stability_study_evaluate(pk)

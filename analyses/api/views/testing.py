@@ -74,11 +74,6 @@ class WorkQueueQuerySerializer(serializers.Serializer):
 @extend_schema_view(
     get=extend_schema(
         summary="Work queue of one method: open tests by priority, then due date",
-        description="The open tests of one method (pending, assigned, sent back, awaiting review), most urgent "
-        "first, then by due date. A test whose sample is on hold stays listed, with the hold's state and "
-        "reason, and is not counted overdue; it cannot be assigned until the sample is resumed (409). "
-        "Filter held tests in or out with on_hold. Any signed-in user may read it; an unknown method is a 404, "
-        "an on_hold other than true or false a 400.",
         parameters=[ON_HOLD_PARAMETER],
         responses={200: TestSerializer(many=True), **errors(400, 404)},
     )
@@ -140,7 +135,6 @@ class TestAssignView(APIView):
         request=TestAssignSerializer,
         responses={200: TestAssignmentSerializer(many=True), **errors(400, 403, 409)},
         summary="Assign or reassign tests to an analyst, all or nothing (lab manager)",
-        description="An error names the item: `tests.3`. Pending tests become assigned; others keep their state.",
     )
     def post(self, request: Request) -> Response:
         data = validated(TestAssignSerializer, request)
