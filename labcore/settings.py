@@ -111,6 +111,9 @@ DATABASES = {
         conn_max_age=0,
     )
 }
+if DATABASES["default"]["ENGINE"] == "django.db.backends.postgresql":
+    # Django's backend, with bulk inserts as VALUES lists (labcore/postgresql/__init__.py says why)
+    DATABASES["default"]["ENGINE"] = "labcore.postgresql"
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
 LANGUAGE_CODE = "en"
