@@ -31,6 +31,7 @@ from django.utils import timezone
 
 from analyses.audit import PendingEntry, audit_append_many, created, json_safe
 from analyses.errors import Conflict, DomainError, InvalidInput, NotFound
+from analyses.row_updates import rows_update
 from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Sample, Test, TestState, TestUncertainty
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.derived_tests import derived_tests_refresh
@@ -298,7 +299,7 @@ class _Batch:
                 entry.test.review_warnings = [*entry.test.review_warnings, *extra]
                 changes[entry.index]["review_warnings"] = [before, entry.test.review_warnings]
         if completed:
-            Test.objects.bulk_update([entry.test for entry in completed], ["state", *AGGREGATE_FIELDS])
+            rows_update([entry.test for entry in completed], ["state", *AGGREGATE_FIELDS])
         audit_append_many(self._audit_entries(budgets, means, changes))
         # parameters worked out from these means (TOTOX from PV and AnV: services/derived_tests.py)
         derived_tests_refresh(self.actor, [entry.test for entry in completed], reason=MEAN_REASON)
@@ -363,7 +364,7 @@ class _Batch:
                 rows[entry.index] = (old, kept)
         TestUncertainty.objects.bulk_create(fresh)
         if replaced:
-            TestUncertainty.objects.bulk_update(replaced, ["results", "budget", "combined", "coverage_factor", "expanded", "source", "computed_at"])
+            rows_update(replaced, ["results", "budget", "combined", "coverage_factor", "expanded", "source", "computed_at"])
         return rows
 
     def _audit_entries(self, budgets, means, changes) -> list[PendingEntry]:
