@@ -20,6 +20,7 @@ from django.db import models, transaction
 from django.utils import timezone
 
 from analyses.models import AuditAction, AuditChainHead, AuditEntry
+from analyses.row_writes import rows_insert
 
 GENESIS_HASH = "0" * 64
 
@@ -165,7 +166,7 @@ def audit_append_many(entries: Sequence[PendingEntry], *, bulk: bool = True) -> 
         rows.append(AuditEntry(previous_hash=previous_hash, entry_hash=entry_hash, **fields))
         previous_hash = entry_hash
     if bulk:
-        AuditEntry.objects.bulk_create(rows)
+        rows_insert(rows)
     else:
         for row in rows:
             row.save()

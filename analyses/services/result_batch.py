@@ -11,8 +11,8 @@ writes them all:
 3. the titrant lots and instruments the batch names (``result_trace.trace_catalog``);
 4. each entry checked and computed through its plugin (exact Decimal), as one entry alone is:
    the first refusal stops the batch and names the entry (``EntryRefused``), nothing written;
-5. the results inserted with one ``bulk_create``, their instrument uses and uncertainty
-   budgets with one each, the completed tests (mean, verdict, review warnings, state) with one
+5. the results inserted at once (``row_writes.rows_insert``), their instrument uses and
+   uncertainty budgets likewise, the completed tests (mean, verdict, review warnings, state) with one
    update, and the batch's audit entries appended under one lock of the chain head, each with
    its own hash (``audit.audit_append_many``), in the order one entry at a time gives them.
 
@@ -31,7 +31,7 @@ from django.utils import timezone
 
 from analyses.audit import PendingEntry, audit_append_many, created, json_safe
 from analyses.errors import Conflict, DomainError, InvalidInput, NotFound
-from analyses.row_updates import rows_update
+from analyses.row_writes import rows_insert, rows_update
 from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Sample, Test, TestState, TestUncertainty
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.derived_tests import derived_tests_refresh
@@ -268,7 +268,7 @@ class _Batch:
         results = [entry.result for entry in self.new]
         try:
             with transaction.atomic():
-                Result.objects.bulk_create(results)
+                rows_insert(results)
         except IntegrityError:
             self._refuse_concurrent()
         trace_save_many((entry.result, entry.trace) for entry in self.new)
@@ -277,7 +277,7 @@ class _Batch:
             for entry in self.new
             if entry.budget is not None
         }
-        ResultUncertainty.objects.bulk_create(list(budgets.values()))
+        rows_insert(list(budgets.values()))
         means = self._save_means()
         completed = [entry for entry in self.new if entry.aggregate is not None]
         changes = {
@@ -362,7 +362,7 @@ class _Batch:
                     setattr(old, name, value)
                 replaced.append(old)
                 rows[entry.index] = (old, kept)
-        TestUncertainty.objects.bulk_create(fresh)
+        rows_insert(fresh)
         if replaced:
             rows_update(replaced, ["results", "budget", "combined", "coverage_factor", "expanded", "source", "computed_at"])
         return rows

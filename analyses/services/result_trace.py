@@ -17,6 +17,7 @@ from typing import Any
 from django.db.models import Q
 
 from analyses.errors import Conflict, InvalidInput
+from analyses.row_writes import rows_insert
 from analyses.models import Calibration, Instrument, ReagentLot, Result, ResultInstrument, Standardisation
 from analyses.selectors.traceability import instrument_facts, instruments_by_reference, lot_facts, lots_with_current
 from analyses.services.access import ID_MAX
@@ -251,7 +252,7 @@ def trace_save(result: Result, trace: Trace) -> None:
 
 def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
     """``trace_save`` for many inserted results at once: one insert."""
-    ResultInstrument.objects.bulk_create(
+    rows_insert(
         [
             ResultInstrument(result=result, instrument=u.instrument, calibration_id=u.calibration_id, routine_check_id=u.check_id)
             for result, trace in entered

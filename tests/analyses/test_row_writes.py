@@ -1,15 +1,16 @@
-"""rows_update: many rows of one model, each with its own values, in one statement."""
+"""rows_insert and rows_update: many rows of one model written at once."""
 from __future__ import annotations
 
 import pytest
-from django.db import connection, transaction
+from django.db import IntegrityError, connection, transaction
+from django.utils import timezone
 from django.test.utils import CaptureQueriesContext
 
 from analyses.audit import PendingEntry, audit_append_many
-from analyses.models import AuditAction, AuditEntry, Test
+from analyses.models import AuditAction, AuditEntry, Product, Test
 from analyses.models.immutable import ImmutableRowError
-from analyses.row_updates import rows_update
-from tests.factories import TestFactory
+from analyses.row_writes import rows_insert, rows_update
+from tests.factories import TestFactory, UserFactory
 
 pytestmark = pytest.mark.django_db
 
@@ -63,3 +64,41 @@ def test_nothing_to_update_runs_no_query():
     with CaptureQueriesContext(connection) as captured:
         rows_update([], ["reported"])
     assert captured.captured_queries == []
+
+
+def test_inserted_rows_get_their_ids_and_every_value_as_written():
+    by = UserFactory()
+    now = timezone.now()
+    names = ['Crude "degummed" soybean', "Palm olein \\ RBD", "Rapeseed, cold-pressed\ttab", "Sunflower\nsecond line"]
+    rows = [Product(code=f"RW-{n}", name=name, oil_type="", created_by=by, created_at=now) for n, name in enumerate(names)]
+
+    rows_insert(rows)
+
+    assert all(row.pk is not None and not row._state.adding for row in rows)
+    stored = {p.pk: p for p in Product.objects.filter(code__startswith="RW-")}
+    assert {pk: (p.code, p.name, p.created_by_id, p.created_at) for pk, p in stored.items()} == {
+        row.pk: (row.code, row.name, by.pk, now) for row in rows
+    }
+
+
+def test_inserted_json_keeps_its_structure(postgres):
+    test = TestFactory()
+    with transaction.atomic():
+        [entry] = audit_append_many([PendingEntry(None, AuditAction.CHANGE, test, {"inputs": [None, {"note": 'a "q" \\ b', "n": [1, 2.5]}]})])
+    assert AuditEntry.objects.get(pk=entry.pk).changes == {"inputs": [None, {"note": 'a "q" \\ b', "n": [1, 2.5]}]}
+
+
+def test_a_duplicate_key_is_an_integrity_error_and_nothing_of_the_batch_stays():
+    by = UserFactory()
+    now = timezone.now()
+    Product.objects.create(code="RW-TAKEN", name="first", created_by=by, created_at=now)
+    rows = [Product(code="RW-FREE", name="second", created_by=by, created_at=now), Product(code="RW-TAKEN", name="again", created_by=by, created_at=now)]
+    with pytest.raises(IntegrityError), transaction.atomic():
+        rows_insert(rows)
+    assert list(Product.objects.filter(code__startswith="RW-").values_list("code", flat=True)) == ["RW-TAKEN"]
+
+
+def test_rows_that_are_already_saved_are_refused():
+    test = TestFactory()
+    with pytest.raises(ValueError, match="new"):
+        rows_insert([test])
