@@ -54,7 +54,7 @@ def _standing_sources(sample_ids: set[int], codes: set[str], given: dict[int, Te
 def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -> None:
     """Work out again the derived tests fed by ``tests`` (whose means were just set or cleared).
     Runs inside the caller's transaction."""
-    from analyses.services.results import RESULT_FIELDS, _aggregate, _calculate, _result_fields, set_test_aggregate
+    from analyses.services.results import RESULT_FIELDS, method_outcome, new_result_fields, replicate_aggregate, set_test_aggregate
     from analyses.services.uncertainty import result_uncertainty_record
 
     methods = derived_methods()
@@ -81,10 +81,10 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             if current is not None and current.inputs == inputs:
                 continue
             trace = Trace()
-            outcome = _calculate(plugin, test, inputs, trace)
-            aggregate = _aggregate(plugin, test, [outcome.judged], outcome.unit)
+            outcome = method_outcome(plugin, test, inputs, trace)
+            aggregate = replicate_aggregate(plugin, test, [outcome.judged], outcome.unit)
             why = f"worked out from {', '.join(f'{source.method_code} test {source.pk}' for source in feeds.values())}: {reason}"
-            result = Result(replicate=1, **_result_fields(actor, test, inputs, outcome, aggregate, trace))
+            result = Result(replicate=1, **new_result_fields(actor, test, inputs, outcome, aggregate, trace))
             if current is not None:
                 current.status = ResultStatus.SUPERSEDED
                 current.save(update_fields=["status"])

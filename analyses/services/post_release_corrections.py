@@ -70,14 +70,14 @@ from analyses.services.release import RELEASE_KINDS
 from analyses.services.result_trace import Trace, refuse_typed_titrant, trace_of, trace_save
 from analyses.services.results import (
     AGGREGATE_FIELDS,
-    _aggregate,
-    _calculate,
-    _check_may_enter,
-    _created_with_trace,
-    _plugin,
-    _result_fields,
+    check_may_enter,
     exact_value,
     lock_test_row,
+    method_outcome,
+    new_result_fields,
+    plugin_of_test,
+    replicate_aggregate,
+    result_created_changes,
     set_test_aggregate,
 )
 from analyses.services.signatures import signature_confirm
@@ -113,7 +113,7 @@ def _check_correctable(result: Result, test: Test, lot: Lot) -> None:
 def _kept_trace(test: Test, old: Result, inputs: Any) -> Trace:
     trace = trace_of(old)
     if trace.standardisation is not None:
-        refuse_typed_titrant(_plugin(test), inputs)  # the concentration is the standardisation's
+        refuse_typed_titrant(plugin_of_test(test), inputs)  # the concentration is the standardisation's
     return trace
 
 
@@ -121,23 +121,23 @@ def _apply(entered_by: Actor, actor: Actor, test: Test, old: Result, inputs: Map
     """The new version of ``old`` with ``inputs`` (entered by ``entered_by``), the old one
     superseded, the test's aggregate, U and verdict decided again; audited under ``actor``.
     Runs inside the caller's transaction, with the test locked."""
-    plugin = _plugin(test)
+    plugin = plugin_of_test(test)
     trace = _kept_trace(test, old, inputs)
-    outcome = _calculate(plugin, test, inputs, trace)
+    outcome = method_outcome(plugin, test, inputs, trace)
     old.status = ResultStatus.SUPERSEDED
     old.status_reason = reason
     old.save(update_fields=["status", "status_reason"])
     refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
     audit_append(actor, AuditAction.TRANSITION, old, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]}, reason=reason, **refs)
     values = [exact_value(r) for r in test.results.filter(status=ResultStatus.CURRENT)] + [outcome.judged]
-    aggregate = _aggregate(plugin, test, values, outcome.unit) if len(values) == test.replicates else None
-    fields = _result_fields(entered_by, test, inputs, outcome, aggregate, trace)
+    aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if len(values) == test.replicates else None
+    fields = new_result_fields(entered_by, test, inputs, outcome, aggregate, trace)
     fields["entered_at"] = entered_at  # when the analyst entered the corrected data
     correction = Result(replicate=old.replicate, version=old.version + 1, supersedes=old, correction_reason=reason, **fields)
     correction.save(force_insert=True)
     trace_save(correction, trace)
     result_uncertainty_record(correction, aggregate)  # its budget; the verdicts by the line's decision rule
-    audit_append(actor, AuditAction.CREATE, correction, _created_with_trace(correction, trace), reason=reason, **refs)
+    audit_append(actor, AuditAction.CREATE, correction, result_created_changes(correction, trace), reason=reason, **refs)
     if aggregate is not None:
         set_test_aggregate(actor, test, aggregate, reason=f"result {old.pk} corrected after release: {reason}")
         test.save(update_fields=list(AGGREGATE_FIELDS))
@@ -170,7 +170,7 @@ def post_release_correction_propose(
     with transaction.atomic():
         lot, test, old = _locked(pk)
         _check_correctable(old, test, lot)
-        _check_may_enter(actor, test)
+        check_may_enter(actor, test)
         open_one = old.post_release_corrections.filter(state=CorrectionState.PROPOSED).first()
         if open_one is not None:
             raise Conflict(f"result {old.pk} already has a correction awaiting QA (#{open_one.pk}); QA approves or declines it first")

@@ -40,17 +40,17 @@ from analyses.services.result_trace import Trace, TraceCatalog, trace_catalog, t
 from analyses.services.results import (
     AGGREGATE_FIELDS,
     Recorded,
-    _aggregate,
-    _calculate,
-    _check_may_enter,
-    _check_workable,
-    _clean_key,
-    _created_with_trace,
-    _plugin,
-    _replay,
-    _result_fields,
     apply_test_aggregate,
+    check_may_enter,
+    check_workable,
+    clean_idempotency_key,
     exact_value,
+    method_outcome,
+    new_result_fields,
+    plugin_of_test,
+    replayed_result,
+    replicate_aggregate,
+    result_created_changes,
 )
 from analyses.services.review_warnings import test_review_warnings
 from analyses.services.uncertainty import (
@@ -118,7 +118,7 @@ def _test_id(ref: Any) -> int | None:
 
 def _lenient_key(raw: Any) -> str | None:
     try:
-        return _clean_key(raw)
+        return clean_idempotency_key(raw)
     except InvalidInput:
         return None
 
@@ -194,7 +194,7 @@ class _Batch:
     def check(self, index: int, request: EntryRequest | DomainError) -> Recorded:
         if isinstance(request, DomainError):
             raise request
-        key = _clean_key(request.idempotency_key)
+        key = clean_idempotency_key(request.idempotency_key)
         replicate = request.replicate
         if replicate is not None and (isinstance(replicate, bool) or not isinstance(replicate, int)):
             raise InvalidInput.for_field("replicate", "must be a whole number")
@@ -206,8 +206,8 @@ class _Batch:
             replayed = self._replay(key, test, request)
             if replayed is not None:
                 return replayed
-        _check_may_enter(self.actor, test)
-        _check_workable(test)
+        check_may_enter(self.actor, test)
+        check_workable(test)
         current = self.current[test.pk]
         if replicate is None:
             free = [n for n in range(1, test.replicates + 1) if n not in current]
@@ -218,19 +218,19 @@ class _Batch:
             raise InvalidInput.for_field("replicate", f"must be between 1 and {test.replicates}")
         elif replicate in current:
             raise Conflict(f"test {test.pk} already has replicate {replicate} (result {current[replicate].pk}); correct it instead")
-        plugin = _plugin(test)
+        plugin = plugin_of_test(test)
         trace = trace_for_entry(
             plugin, request.inputs, titrant_lot=request.titrant_lot, instruments=request.instruments, now=self.now,
             catalog=self.catalog,
         )
-        outcome = _calculate(plugin, test, request.inputs, trace)
+        outcome = method_outcome(plugin, test, request.inputs, trace)
         earlier = [current[n] for n in sorted(current)]
         values = [exact_value(r) for r in earlier] + [outcome.judged]
         complete = len(values) == test.replicates
-        aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
+        aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if complete else None
         result = Result(
             replicate=replicate, idempotency_key=key,
-            **_result_fields(self.actor, test, request.inputs, outcome, aggregate, trace),
+            **new_result_fields(self.actor, test, request.inputs, outcome, aggregate, trace),
         )
         entry = _NewEntry(index, test, plugin, trace, result)
         current[replicate] = result
@@ -258,7 +258,7 @@ class _Batch:
         else:
             return None
         _check_same_trace(first, key, request.titrant_lot, request.instruments, lot=lot, used=used)
-        return Recorded(_replay(first, test, request.inputs, key), replayed=True)
+        return Recorded(replayed_result(first, test, request.inputs, key), replayed=True)
 
     # --- writing, all at once ----------------------------------------------------------
     def write(self) -> None:
@@ -386,7 +386,7 @@ class _Batch:
                 action = AuditAction.CREATE if old is None else AuditAction.CHANGE
                 pending.append(PendingEntry(actor, action, row, mean_changes, reason=MEAN_REASON, **refs))
             pending.append(
-                PendingEntry(actor, AuditAction.CREATE, entry.result, _created_with_trace(entry.result, entry.trace), **refs)
+                PendingEntry(actor, AuditAction.CREATE, entry.result, result_created_changes(entry.result, entry.trace), **refs)
             )
             if entry.aggregate is not None:
                 if changes[entry.index]:
@@ -407,7 +407,7 @@ class _Batch:
             twin = twins.get(entry.result.idempotency_key)
             if twin is not None:
                 try:
-                    _replay(twin, entry.test, entry.result.inputs, entry.result.idempotency_key)
+                    replayed_result(twin, entry.test, entry.result.inputs, entry.result.idempotency_key)
                 except Conflict as exc:
                     raise EntryRefused(entry.index, exc) from None
                 raise EntryRefused(

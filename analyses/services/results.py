@@ -84,14 +84,15 @@ KEY_MAX_CHARS = Result._meta.get_field("idempotency_key").max_length
 REPORTED_MAX_CHARS = min(Result._meta.get_field("reported").max_length, Test._meta.get_field("reported").max_length)
 
 
-def _plugin(test: Test) -> MethodPlugin:
+def plugin_of_test(test: Test) -> MethodPlugin:
+    """The plugin of the test's method; Conflict when it is no longer registered."""
     try:
         return get_registry().get(test.method_code)
     except UnknownMethod as exc:
         raise Conflict(f"test {test.pk}: {exc}") from None
 
 
-def _calculate(plugin: MethodPlugin, test: Test, inputs: Any, trace: Trace) -> MethodResult:
+def method_outcome(plugin: MethodPlugin, test: Test, inputs: Any, trace: Trace) -> MethodResult:
     """The plugin's result for ``inputs`` with the trace's titrant concentration;
     MethodInputError becomes InvalidInput on ``inputs.<field>``."""
     if not isinstance(inputs, Mapping):
@@ -136,7 +137,8 @@ class RecordedBatch:
     replayed: bool  # every item was a replay
 
 
-def _clean_key(idempotency_key: str | None) -> str | None:
+def clean_idempotency_key(idempotency_key: str | None) -> str | None:
+    """The key stripped, or None; InvalidInput on ``idempotency_key`` when empty or too long."""
     if idempotency_key is None:
         return None
     if not isinstance(idempotency_key, str) or not idempotency_key.strip() or len(idempotency_key) > KEY_MAX_CHARS:
@@ -144,7 +146,8 @@ def _clean_key(idempotency_key: str | None) -> str | None:
     return idempotency_key.strip()
 
 
-def _check_may_enter(actor: Actor, test: Test) -> None:
+def check_may_enter(actor: Actor, test: Test) -> None:
+    """NotAllowed unless the test is assigned to ``actor`` or the role may enter any result."""
     if not role_permits(actor, "record_any_result") and test.assignee_id != actor.pk:
         whom = test.assignee.username if test.assignee_id else "nobody"
         raise NotAllowed(f"test {test.pk} is assigned to {whom}; {actor_name(actor)} may not enter its results")
@@ -160,7 +163,9 @@ def lock_test_row(test: Test | int) -> Test:
     return Test.objects.select_related("sample__lot", "specification_line", "assignee").get(pk=locked.pk)
 
 
-def _check_workable(test: Test) -> None:
+def check_workable(test: Test) -> None:
+    """The refusal of an entry on a test that is derived, not assigned or sent back, or whose
+    sample may not be worked on."""
     from analyses.services.derived_tests import derived_entry_refusal  # it builds on this module
 
     refusal = derived_entry_refusal(test)
@@ -177,7 +182,7 @@ def exact_value(result: Result) -> Decimal:
     return Decimal(result.value_exact) if result.value_exact else float_as_decimal(result.value)
 
 
-def _aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: str) -> dict[str, Any]:
+def replicate_aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: str) -> dict[str, Any]:
     """The test's result from its replicates: their mean in exact decimal arithmetic,
     reported and judged like a single result, and the plugin's duplicate check."""
     with localcontext(exact_context()):
@@ -198,7 +203,7 @@ def _aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: st
 def set_test_aggregate(actor: Actor, test: Test, aggregate: dict[str, Any] | None, *, reason: str) -> None:
     """Store (or clear, with None) the test's aggregate fields, recording the change. The
     review warnings are worked out here, from the current replicates as stored."""
-    warnings = None if aggregate is None else test_review_warnings(_plugin(test), test, Decimal(aggregate["value_exact"]))
+    warnings = None if aggregate is None else test_review_warnings(plugin_of_test(test), test, Decimal(aggregate["value_exact"]))
     before = {name: getattr(test, name) for name in AGGREGATE_FIELDS}
     apply_test_aggregate(test, aggregate, warnings or [])
     # results of other methods on the sample that chemistry ties to this one (services/cross_checks.py)
@@ -230,7 +235,7 @@ def apply_test_aggregate(test: Test, aggregate: dict[str, Any] | None, warnings:
     return {name: [before[name], after[name]] for name in AGGREGATE_FIELDS if before[name] != after[name]}
 
 
-def _result_fields(
+def new_result_fields(
     actor: Actor, test: Test, inputs: Any, outcome: MethodResult, aggregate: dict[str, Any] | None, trace: Trace
 ) -> dict[str, Any]:
     """What every new result row records: the raw inputs, the plugin's outcome, the verdict,
@@ -254,14 +259,14 @@ def _result_fields(
     }
 
 
-def _created_with_trace(result: Result, trace: Trace) -> dict[str, Any]:
+def result_created_changes(result: Result, trace: Trace) -> dict[str, Any]:
     """The audit entry's fields of a new result, with what it was measured with."""
     changes = created(result, RESULT_FIELDS)
     changes["measured_with"] = [None, json_safe(trace.describe())]
     return changes
 
 
-def _replay(
+def replayed_result(
     first: Result, test: Test, inputs: Any, key: str, *, supersedes: int | None = None, reason: str = ""
 ) -> Result:
     """The result a repeated key returns; Conflict when the key was used for another request:
@@ -288,7 +293,7 @@ def _insert(result: Result, *, actor: Actor, key: str | None, test: Test) -> Res
         twin = Result.objects.filter(entered_by=actor, idempotency_key=key).first() if key else None
         if twin is None:
             raise Conflict(f"test {test.pk}: replicate {result.replicate} was entered at the same time by someone else") from None
-        return _replay(twin, test, result.inputs, key, supersedes=result.supersedes_id, reason=result.correction_reason)
+        return replayed_result(twin, test, result.inputs, key, supersedes=result.supersedes_id, reason=result.correction_reason)
     count_on_commit(RESULTS_ENTERED)
     return result
 
@@ -366,7 +371,7 @@ def result_record_bulk_once(
     "results.<i>: ". ``replayed`` when every item was a replay (nothing was written)."""
     if isinstance(results, (str, bytes, Mapping)) or not isinstance(results, Sequence) or not results:
         raise InvalidInput.for_field("results", "give a list of at least one result")
-    batch_key = _clean_key(idempotency_key)
+    batch_key = clean_idempotency_key(idempotency_key)
     room = KEY_MAX_CHARS - len(f"#{len(results) - 1}")  # for the item keys "<key>#i"
     if batch_key and len(batch_key) > room:
         raise InvalidInput.for_field("idempotency_key", f"must be at most {room} characters for {len(results)} items")
@@ -428,7 +433,7 @@ def result_correct_once(
     refuse_raw_data_edit_by_qa(actor)  # first, so that QA hears why
     require_permission(actor, "record_result", "correct results")
     reason = required_text(reason, "reason")
-    key = _clean_key(idempotency_key)
+    key = clean_idempotency_key(idempotency_key)
     pk = result.pk if isinstance(result, Result) else result
     test_id = Result.objects.filter(pk=pk).values_list("test_id", flat=True).first()
     if test_id is None:
@@ -438,15 +443,15 @@ def result_correct_once(
         if key:
             first = Result.objects.filter(entered_by=actor, idempotency_key=key).first()
             if first is not None:
-                return Recorded(_replay(first, test, inputs, key, supersedes=pk, reason=reason), replayed=True)
+                return Recorded(replayed_result(first, test, inputs, key, supersedes=pk, reason=reason), replayed=True)
         old = fetch(Result, pk, lock=True)
         if old.status != ResultStatus.CURRENT:
             raise Conflict(f"result {old.pk} is {old.status}; only a current result can be corrected")
-        _check_may_enter(actor, test)
+        check_may_enter(actor, test)
         if test.state not in (*WORKABLE_TEST_STATES, TestState.RESULT_ENTERED):
             raise Conflict(f"test {test.pk} is {test.state}; its results can no longer be corrected")
         sample_require_workable(test.sample)
-        plugin = _plugin(test)
+        plugin = plugin_of_test(test)
         kept = trace_of(old)
         if titrant_lot is None and instruments is None and trace_is_complete(plugin, kept):
             refuse_typed_titrant(plugin, inputs)
@@ -458,7 +463,7 @@ def result_correct_once(
                 instruments=instruments if instruments is not None else ([u.instrument.pk for u in kept.uses] or None),
                 now=timezone.now(),
             )
-        outcome = _calculate(plugin, test, inputs, trace)
+        outcome = method_outcome(plugin, test, inputs, trace)
         old.status = ResultStatus.SUPERSEDED
         old.status_reason = reason
         old.save(update_fields=["status", "status_reason"])
@@ -469,10 +474,10 @@ def result_correct_once(
         others = [exact_value(r) for r in test.results.filter(status=ResultStatus.CURRENT)]
         values = others + [outcome.judged]
         complete = len(values) == test.replicates
-        aggregate = _aggregate(plugin, test, values, outcome.unit) if complete else None
+        aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if complete else None
         correction = Result(
             replicate=old.replicate, version=old.version + 1, supersedes=old, correction_reason=reason,
-            idempotency_key=key, **_result_fields(actor, test, inputs, outcome, aggregate, trace),
+            idempotency_key=key, **new_result_fields(actor, test, inputs, outcome, aggregate, trace),
         )
         inserted = _insert(correction, actor=actor, key=key, test=test)
         if inserted is not correction:
@@ -482,7 +487,7 @@ def result_correct_once(
         trace_save(correction, trace)
         result_uncertainty_record(correction, aggregate)
         audit_append(
-            actor, AuditAction.CREATE, correction, _created_with_trace(correction, trace),
+            actor, AuditAction.CREATE, correction, result_created_changes(correction, trace),
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
         )
         if complete:
