@@ -31,8 +31,9 @@ class TotoxValue(MethodPlugin):
     decimals = 1
     replicates = 1  # one value from two means: nothing is repeated
     cautions = "Worked out from the PV and AnV results; see those methods' cautions (chloroform or iso-octane, acetic acid, p-anisidine)."
-    # The inputs are means already rounded by nothing: their own budgets hold their uncertainty;
-    # here each takes 1 % relative until the source budgets are carried over (common practice, no source).
+    # The inputs are the source tests' means, unrounded: a recorded TOTOX takes each input's u from
+    # its source's stored budget (analyses.services.uncertainty.SourceMeansBudget). These 1 %
+    # defaults serve only where a source has none, and `calc` (common practice, no source).
     default_uncertainties = {
         "peroxide_value": UnitDefault("the PV mean, 1 % relative (common practice, no source)", relative=0.01),
         "anisidine_value": UnitDefault("the AnV mean, 1 % relative (common practice, no source)", relative=0.01),

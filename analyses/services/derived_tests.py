@@ -22,7 +22,7 @@ from decimal import Decimal
 
 from analyses.audit import audit_append, created
 from analyses.errors import Conflict
-from analyses.models import AuditAction, Result, ResultStatus, Test, TestState
+from analyses.models import AuditAction, Result, ResultStatus, Test, TestState, TestUncertainty
 from analyses.services.access import Actor
 from analyses.services.result_trace import Trace
 from plugins.contract import MethodPlugin
@@ -55,7 +55,7 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
     """Work out again the derived tests fed by ``tests`` (whose means were just set or cleared).
     Runs inside the caller's transaction."""
     from analyses.services.results import RESULT_FIELDS, method_outcome, new_result_fields, replicate_aggregate, set_test_aggregate
-    from analyses.services.uncertainty import result_uncertainty_record
+    from analyses.services.uncertainty import SourceMeansBudget, budget_source, result_uncertainty_record
 
     methods = derived_methods()
     feeding = {code for plugin in methods.values() for code in plugin.derived_from.values()}
@@ -72,6 +72,7 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
     if not derived:
         return
     sources = _standing_sources(sample_ids, feeding, given)
+    stored_means = _stored_mean_budgets(sources.values())
     for test in derived:
         plugin = methods[test.method_code]
         current = test.results.select_for_update().filter(status=ResultStatus.CURRENT).first()
@@ -92,7 +93,9 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             result.save(force_insert=True)
             audit_append(actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS), reason=why,
                          lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
-            result_uncertainty_record(result, aggregate)  # its budget, and the verdict by the line's rule
+            # its budget, the sources' budgets carried over, and the verdict by the line's rule
+            means = {name: (source, stored_means.get(source.pk)) for name, source in feeds.items()}
+            result_uncertainty_record(result, aggregate, source=SourceMeansBudget(budget_source(plugin), means))
             set_test_aggregate(actor, test, aggregate, reason=why)
             if test.state != TestState.RESULT_ENTERED:
                 _move(actor, test, TestState.RESULT_ENTERED, why)
@@ -106,6 +109,20 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             set_test_aggregate(actor, test, None, reason=why)
             _move(actor, test, TestState.PENDING, why)
             test.save()
+
+
+def _stored_mean_budgets(tests: Iterable[Test]) -> dict[int, TestUncertainty]:
+    """The stored mean's budget of each test, by test id, where it is of the test's current
+    replicates (a mean whose budget could not be worked out keeps an older row, which is not)."""
+    ids = [test.pk for test in tests]
+    current: dict[int, set[int]] = {}
+    for test_id, result_id in Result.objects.filter(test_id__in=ids, status=ResultStatus.CURRENT).values_list("test_id", "pk"):
+        current.setdefault(test_id, set()).add(result_id)
+    return {
+        row.test_id: row
+        for row in TestUncertainty.objects.filter(test_id__in=ids)
+        if set(row.results) == current.get(row.test_id, set())
+    }
 
 
 def _move(actor: Actor, test: Test, target: str, reason: str) -> None:

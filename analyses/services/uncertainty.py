@@ -132,14 +132,39 @@ class TracedBudget:
         return self.base.repeatability(plugin, result)
 
 
-def budget_of(result: Result, plugin: MethodPlugin | None = None) -> Budget | None:
+class SourceMeansBudget:
+    """A budget source for a derived result (TOTOX from the PV and AnV means): each input's u is
+    the standard uncertainty of the source test's mean (its stored budget's u_c), so the sources'
+    budgets carry over by the GUM's law of propagation; an input whose source has no stored
+    budget takes ``base``'s default."""
+
+    def __init__(self, base: BudgetSource, means: dict[str, tuple[Test, TestUncertainty | None]]):
+        self.base = base
+        self.by_input: dict[str, StandardUncertainty] = {}
+        for name, (test, stored) in means.items():
+            if stored is not None:
+                basis = f"the mean's budget of {test.method_code} test {test.pk} (u_c = {stored.combined:.3g}, k = 1)"
+                self.by_input[name] = StandardUncertainty(float(stored.combined), basis)
+        self.name = f"{base.name}; inputs from their source tests' budgets"
+
+    def input_uncertainty(self, plugin: MethodPlugin, spec: QuantityInput, value: Decimal | float) -> StandardUncertainty | None:
+        if spec.name in self.by_input:
+            return self.by_input[spec.name]
+        return self.base.input_uncertainty(plugin, spec, value)
+
+    def repeatability(self, plugin: MethodPlugin, result: float) -> StandardUncertainty | None:
+        return self.base.repeatability(plugin, result)
+
+
+def budget_of(result: Result, plugin: MethodPlugin | None = None, *, source: BudgetSource | None = None) -> Budget | None:
     """The budget of one stored result from its inputs as its plugin took them; None where its
-    method is gone or its inputs no longer pass the method's checks."""
+    method is gone or its inputs no longer pass the method's checks. ``source``: where the
+    inputs' uncertainties come from, when not the method's own (a derived result's sources)."""
     try:
         plugin = plugin or get_registry().get(result.method_code)
         inputs = stored_inputs(result)
         values = plugin.validate(line_inputs(plugin, result.test.specification_line, inputs))
-        source = budget_source(plugin)
+        source = source or budget_source(plugin)
         if result.reagent_lot_id or result.instrument_uses.exists():
             source = TracedBudget(source, result)
         # a test of one component of a profile ("fac:C18:2"): the budget of that component
@@ -182,14 +207,14 @@ def _stored(budget: Budget) -> dict[str, Any]:
     }
 
 
-def result_uncertainty_record(result: Result, aggregate: dict[str, Any] | None) -> None:
+def result_uncertainty_record(result: Result, aggregate: dict[str, Any] | None, *, source: BudgetSource | None = None) -> None:
     """Store the budget of the just-inserted ``result`` and judge it by its line's decision rule;
     with ``aggregate`` (the test is complete), store the mean's budget and judge the mean too
     (``aggregate["verdict"]`` is replaced in place). Runs in the caller's transaction; each
-    stored U is audited, under the user who entered the result."""
+    stored U is audited, under the user who entered the result. ``source``: as ``budget_of``."""
     test = result.test  # a stability pull is judged against its study's limits (pull_judging)
     refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
-    budget = budget_of(result)
+    budget = budget_of(result, source=source)
     if budget is None:
         return
     row = ResultUncertainty.objects.create(result=result, **_stored(budget))

@@ -94,3 +94,23 @@ def test_totox_is_accepted_after_its_sources_and_never_sent_back(users, tests_):
     test_accept(users["analyst2"], _fresh(tests_["pv"]))
     test_accept(users["analyst2"], _fresh(tests_["anv"]))
     assert test_accept(users["analyst2"], _fresh(tests_["totox"])).state == TestState.ACCEPTED
+
+
+def test_totox_budget_carries_over_the_source_means_budgets(users, tests_):
+    from uncertainties import ufloat
+
+    from analyses.models import ResultUncertainty, TestUncertainty
+
+    _enter_sources(users, tests_)
+    pv, anv = (TestUncertainty.objects.get(test=tests_[code]) for code in ("pv", "anv"))
+    totox = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
+    budget = ResultUncertainty.objects.get(result=totox)
+    # GUM 5.1.2, the law of propagation for the linear model 2 PV + AnV, worked by the
+    # uncertainties package (PyPI) from the two stored means' u_c
+    expected = (2 * ufloat(5.02, pv.combined) + ufloat(3.5, anv.combined)).std_dev
+    assert budget.combined == pytest.approx(expected, rel=1e-9)
+    terms = {term["name"]: term for term in budget.budget["terms"]}
+    assert terms["peroxide_value"]["u"] == pytest.approx(pv.combined) and f"pv test {tests_['pv'].pk}" in terms["peroxide_value"]["basis"]
+    assert terms["anisidine_value"]["u"] == pytest.approx(anv.combined) and f"anv test {tests_['anv'].pk}" in terms["anisidine_value"]["basis"]
+    # not the 1 % defaults the method falls back on without stored budgets
+    assert terms["peroxide_value"]["u"] != pytest.approx(0.0502)
