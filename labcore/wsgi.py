@@ -5,3 +5,12 @@ from django.core.wsgi import get_wsgi_application
 
 os.environ.setdefault("DJANGO_SETTINGS_MODULE", "labcore.settings")
 application = get_wsgi_application()
+
+from django.urls import get_resolver  # noqa: E402  (after the settings are loaded)
+
+from labcore.collector import collector_settle  # noqa: E402
+
+# gunicorn loads this once in its arbiter (preload_app) and forks the workers from it: load the
+# URLconf (every view) here rather than in each worker's first request, then settle the collector
+get_resolver().url_patterns
+collector_settle()
