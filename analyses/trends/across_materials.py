@@ -33,7 +33,7 @@ from analyses.trends.episodes import Episode, RuleMarks, episode_table, episodes
 from analyses.trends.inputs import finite_number, finite_vector, positive_number, same_length
 from analyses.trends.layout import SeriesLayout, layout_from_codes, layout_single
 from analyses.trends.scan import SCAN_COLUMNS, given_limits, scan_table
-from analyses.trends.westgard import run_codes
+from analyses.trends.westgard import run_codes, z_of
 from analyses.trends.windows import runs_covered
 
 THREE_LEVELS = 3  # the run design for which Westgard names 2 of 3 2s
@@ -83,7 +83,7 @@ def across_materials_evaluate(
         raise InvalidInput.for_field("baselines", f"no mean/SD for materials {missing[:5]}")
     mean = np.array([finite_number(baselines[name][0], "baselines") for name in names])
     sd = np.array([positive_number(baselines[name][1], "baselines") for name in names])
-    z = (array - mean[codes]) / sd[codes]
+    z = z_of(array, mean[codes], sd[codes])
     layout = layout_single(len(z))
     marks = across_material_marks(z, layout, run_codes(layout.group, run_array), codes)
     return episodes_of_table(episode_table(marks, layout))
@@ -112,7 +112,7 @@ def across_materials_scan(results: pd.DataFrame, limits: pd.DataFrame) -> pd.Dat
         {
             "group": group,
             "sequence": results["sequence"].to_numpy(),
-            "z": (values - mean[material]) / sd[material],
+            "z": z_of(values, mean[material], sd[material]),
             "material": material,
             "run_id": results["run_id"].to_numpy(),
         }

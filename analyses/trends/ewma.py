@@ -16,9 +16,8 @@ from scipy.signal import lfilter
 
 from analyses.errors import InvalidInput
 from analyses.trends.episodes import Episode, RuleMarks, episode_table, episodes_of_table, single_point_marks
-from analyses.trends.inputs import finite_number, positive_number
+from analyses.trends.inputs import finite_number, finite_vector, positive_number
 from analyses.trends.layout import SeriesLayout, layout_single
-from analyses.trends.westgard import z_scores
 
 DEFAULT_SMOOTHING = 0.2
 DEFAULT_WIDTH = 3.0
@@ -78,7 +77,8 @@ def ewma_chart(
 ) -> EwmaChart:
     """EWMA chart of one series with target ``mean`` and process SD ``sd``."""
     smoothing, width = check_parameters(smoothing, width)
-    z = z_scores(values, mean, sd)
+    # not westgard.z_scores, which rounds: the chart's statistic is rebuilt from these in the values' units
+    z = (finite_vector(values, "values") - finite_number(mean, "mean")) / positive_number(sd, "sd")
     layout = layout_single(len(z))
     statistic, sigma = ewma_standardised(z, layout, smoothing)
     marks = _limit_marks(statistic, sigma, width)

@@ -17,7 +17,7 @@ from analyses.trends.ewma import DEFAULT_SMOOTHING, DEFAULT_WIDTH, check_paramet
 from analyses.trends.layout import SeriesLayout, layout_from_codes
 from analyses.trends.out_of_trend import DEFAULT_LEVEL, DEFAULT_WINDOW, check_trend_parameters, out_of_trend_marks
 from analyses.trends.run_rules import nelson_marks
-from analyses.trends.westgard import MINIMUM_BASELINE_POINTS, run_codes, westgard_marks
+from analyses.trends.westgard import MINIMUM_BASELINE_POINTS, run_codes, westgard_marks, z_of
 
 FAMILIES = ("westgard", "nelson", "ewma")
 OPTIONAL_FAMILIES = ("out_of_trend",)
@@ -61,7 +61,7 @@ def series_scan(
         mean, sd = _baseline_limits(values, layout, series_ids, baseline_points)
     else:
         mean, sd = given_limits(limits, series_ids)
-    z = (values - mean[layout.group]) / sd[layout.group]
+    z = z_of(values, mean[layout.group], sd[layout.group])
 
     marks: list[RuleMarks] = []
     if "westgard" in families:

@@ -1,7 +1,9 @@
 """Westgard multirules on a QC series, in z-scores from a baseline mean and SD.
 
 Rule definitions as in /work/shared/references.md (Westgard multirules, "found").
-"Beyond ±k s" is strict: |z| > k, so a point at exactly 2.0 s does not trigger 1-2s.
+"Beyond ±k s" is strict: |z| > k, so a point at exactly 2.0 s does not trigger 1-2s. A z-score
+is rounded to Z_DECIMALS places first (``z_of``): the float arithmetic of (x - mean) / s would
+otherwise put a point that lies on the line, such as 10.7 for mean 10.1 and s 0.3, a hair beyond it.
 These rules look at one control material; ``across_materials`` compares the materials
 (levels) measured in the same run.
 """
@@ -26,6 +28,8 @@ from analyses.trends.inputs import finite_number, finite_vector, positive_number
 from analyses.trends.layout import SeriesLayout, layout_single
 from analyses.trends.windows import covered, runs_covered
 
+# far below any reading's resolution, far above float noise (common practice, no source)
+Z_DECIMALS = 9
 # Westgard's advice is to set mean and SD from at least 20 control results (from memory).
 MINIMUM_BASELINE_POINTS = 20
 
@@ -50,9 +54,14 @@ def baseline_establish(values: Sequence[float], minimum_points: int = MINIMUM_BA
     return ControlBaseline(mean=float(np.mean(array)), sd=sd, n=len(array))
 
 
+def z_of(values: np.ndarray, mean: np.ndarray | float, sd: np.ndarray | float) -> np.ndarray:
+    """(values - mean) / sd, rounded to Z_DECIMALS places (see the module docstring)."""
+    return np.round((values - mean) / sd, Z_DECIMALS)
+
+
 def z_scores(values: Sequence[float], mean: float, sd: float) -> np.ndarray:
     array = finite_vector(values, "values")
-    return (array - finite_number(mean, "mean")) / positive_number(sd, "sd")
+    return z_of(array, finite_number(mean, "mean"), positive_number(sd, "sd"))
 
 
 def run_codes(group: np.ndarray, run_ids: Sequence[Hashable] | np.ndarray) -> np.ndarray:

@@ -10,11 +10,13 @@ from __future__ import annotations
 
 import statistics
 
+import pandas as pd
 import pytest
 
 from analyses.errors import InvalidInput
 from analyses.trends.episodes import episodes_by_rule
 from analyses.trends.rules import RULES, WESTGARD_RULES
+from analyses.trends.scan import series_scan
 from analyses.trends.westgard import baseline_establish, westgard_evaluate, z_scores
 
 
@@ -29,6 +31,22 @@ def test_1_2s_triggers_strictly_beyond_2s_on_either_side():
 
 def test_1_2s_not_at_exactly_2s():
     assert hits([0.0, 2.0, -2.0, 1.9], "westgard_1_2s") == []
+
+
+def test_a_point_on_the_2s_line_in_original_units_is_not_beyond_it():
+    # 5.2 for mean 5.0 and s 0.1 is exactly 2 s, but (5.2 - 5.0) / 0.1 is 2.0000000000000018 in
+    # floats; z is rounded to Z_DECIMALS places first (invented control values)
+    assert (5.2 - 5.0) / 0.1 > 2
+    assert [e for e in westgard_evaluate([5.0, 5.2, 5.0], 5.0, 0.1) if e.rule == "westgard_1_2s"] == []
+    [beyond] = [e for e in westgard_evaluate([5.0, 5.2001, 5.0], 5.0, 0.1) if e.rule == "westgard_1_2s"]
+    assert beyond.points == (1,)
+
+
+def test_the_scan_of_many_series_rounds_z_as_one_series_does():
+    results = pd.DataFrame({"series_id": "QC-A", "sequence": [1, 2, 3], "value": [5.0, 5.2, 5.2001]})
+    limits = pd.DataFrame({"series_id": ["QC-A"], "mean": [5.0], "sd": [0.1]})
+    scan = series_scan(results, limits, families=("westgard",))
+    assert scan[scan["rule"] == "westgard_1_2s"]["first"].tolist() == [2]
 
 
 def test_1_2s_is_a_warning_only():
