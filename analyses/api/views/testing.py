@@ -20,7 +20,7 @@ from analyses.api.views.common import PagedListView, validated
 from analyses.errors import NotFound
 from analyses.models import Result, Test
 from analyses.selectors.lists import result_history
-from analyses.selectors.queues import my_queue, review_queue, test_list, work_queue
+from analyses.selectors.tests import my_queue, review_queue, test_list, work_queue
 from analyses.selectors.uncertainty import with_mean_uncertainty
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept, test_send_back

@@ -7,7 +7,7 @@ from django.db import transaction
 from analyses.audit import audit_chain_verify
 from analyses.benchmarks.list_seed import SAMPLES_PER_LOT, list_seed, open_sample_count
 from analyses.models import AuditEntry, Lot, Result, ResultStatus, Sample, SampleState, Test, TestState
-from analyses.selectors.queues import my_queue, review_queue, work_queue
+from analyses.selectors.tests import my_queue, review_queue, work_queue
 
 pytestmark = pytest.mark.django_db
 

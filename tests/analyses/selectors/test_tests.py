@@ -6,8 +6,8 @@ import datetime as dt
 import pytest
 
 from analyses.models import Priority, SampleState, TestState
-from analyses.selectors.queues import my_queue, review_queue, work_queue
-from analyses.selectors import queues
+from analyses.selectors.tests import my_queue, review_queue, work_queue
+from analyses.selectors import tests as test_selectors
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_send_back
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, enter_duplicates
@@ -88,4 +88,4 @@ def test_queues_take_a_fixed_number_of_queries(users, django_assert_num_queries)
     with django_assert_num_queries(1):
         touch(list(my_queue(users["analyst"])))
     with django_assert_num_queries(1):
-        touch(list(queues.test_list(method_code="iv", overdue=False)))
+        touch(list(test_selectors.test_list(method_code="iv", overdue=False)))
