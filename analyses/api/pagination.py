@@ -5,3 +5,27 @@ from rest_framework.pagination import PageNumberPagination
 class PageWithSize(PageNumberPagination):
     page_size_query_param = "page_size"
     max_page_size = 200
+
+
+class RowsOf:
+    """What a list on the row path pages (``PagedListView``): counted on the filtered queryset
+    itself, its page read with ``values()``. The count is not taken on the ``values()``
+    queryset because Django keeps in a COUNT(*) every join its lookups made (test to sample,
+    lot, product, people...), which made counting 300,000 tests several times slower."""
+
+    def __init__(self, queryset, lookups: list[str]):
+        self.queryset = queryset
+        self.rows = queryset.prefetch_related(None).values(*lookups)
+
+    @property
+    def ordered(self) -> bool:  # the paginator warns on an unordered list, as for a queryset
+        return self.queryset.ordered
+
+    def count(self) -> int:
+        return self.queryset.count()
+
+    def __len__(self) -> int:
+        return self.count()
+
+    def __getitem__(self, key):
+        return self.rows[key]

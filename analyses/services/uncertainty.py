@@ -254,10 +254,16 @@ def _budget_dict(result: Result) -> dict[str, Any] | None:
     return None if budget is None else budget.as_dict()
 
 
+def is_mean_of(stored_ids, current_ids) -> bool:
+    """Whether a mean's budget, stored for the replicates ``stored_ids``, is the budget of the
+    mean of exactly the current replicates ``current_ids``."""
+    return sorted(stored_ids) == sorted(current_ids)
+
+
 def fresh_mean_budget(stored: TestUncertainty | None, current_ids) -> TestUncertainty | None:
     """``stored`` if it is the budget of the mean of exactly the current replicates ``current_ids``
     (a correction since makes it stale until the new mean's budget is stored), else None."""
-    if stored is None or sorted(stored.results) != sorted(current_ids):
+    if stored is None or not is_mean_of(stored.results, current_ids):
         return None
     return stored
 

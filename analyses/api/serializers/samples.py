@@ -4,11 +4,12 @@ from __future__ import annotations
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
+from analyses.api.serializers.rows import RowSerializer
 from analyses.api.serializers.states import SampleResumeStateField, SampleStateField, TestStateField, VerdictField
 from analyses.models import Lot, Priority, Sample, SampleKind, SampleState, Test, TestState, Verdict
 
 
-class SampleTestSerializer(serializers.ModelSerializer):
+class SampleTestSerializer(RowSerializer):
     """A test as a line of its sample."""
 
     state = TestStateField(choices=TestState.choices, read_only=True)
@@ -21,7 +22,7 @@ class SampleTestSerializer(serializers.ModelSerializer):
         read_only_fields = fields
 
 
-class SampleSerializer(serializers.ModelSerializer):
+class SampleSerializer(RowSerializer):
     state = SampleStateField(choices=SampleState.choices, read_only=True)
     resume_state = SampleResumeStateField(choices=SampleState.choices, read_only=True)
     lot_code = serializers.CharField(source="lot.code", read_only=True)

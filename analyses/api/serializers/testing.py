@@ -6,9 +6,10 @@ from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from analyses.api.serializers.common import StrictSerializer, username_field
+from analyses.api.serializers.rows import Row, RowSerializer
 from analyses.api.serializers.states import SampleStateField, TestStateField, VerdictField
 from analyses.models import OPEN_TEST_STATES, Priority, SampleState, Test, TestState, Verdict
-from analyses.selectors.uncertainty import test_mean_expanded
+from analyses.selectors.uncertainty import MEAN_UNCERTAINTY_LOOKUPS, test_mean_expanded
 
 
 class MeanUncertaintySerializer(serializers.Serializer):
@@ -21,7 +22,7 @@ class MeanUncertaintySerializer(serializers.Serializer):
     unit = serializers.CharField(help_text="The unit of U, the result's own")
 
 
-class TestSerializer(serializers.ModelSerializer):
+class TestSerializer(RowSerializer):
     __test__ = False  # not a pytest test class
 
     sample_label = serializers.CharField(source="sample.label", read_only=True)
@@ -67,6 +68,9 @@ class TestSerializer(serializers.ModelSerializer):
         ]
         read_only_fields = fields
 
+    # what the row methods read; mean_uncertainty is put on the row by the list's selector
+    row_extra_lookups = ("is_overdue", "due_on", "state", "sample__state", "sample__state_reason", *MEAN_UNCERTAINTY_LOOKUPS)
+
     @extend_schema_field(MeanUncertaintySerializer(allow_null=True))
     def get_mean_uncertainty(self, test: Test) -> dict | None:
         return test_mean_expanded(test)
@@ -81,6 +85,19 @@ class TestSerializer(serializers.ModelSerializer):
     @extend_schema_field(serializers.CharField(allow_null=True))
     def get_hold_reason(self, test: Test) -> str | None:
         return test.sample.state_reason if test.sample.state == SampleState.ON_HOLD else None
+
+    def row_mean_uncertainty(self, row: Row) -> dict | None:
+        return row["mean_uncertainty"]
+
+    def row_is_overdue(self, row: Row) -> bool:
+        annotated = row.get("is_overdue")
+        if annotated is not None:
+            return bool(annotated)
+        held = row["sample__state"] == SampleState.ON_HOLD
+        return row["state"] in OPEN_TEST_STATES and row["due_on"] < timezone.localdate() and not held
+
+    def row_hold_reason(self, row: Row) -> str | None:
+        return row["sample__state_reason"] if row["sample__state"] == SampleState.ON_HOLD else None
 
 
 class TestAssignmentSerializer(serializers.ModelSerializer):

@@ -13,7 +13,7 @@ from analyses.api.permissions import requires
 from analyses.api.schema import errors
 from analyses.api.serializers.investigations import InvestigationCloseSerializer, InvestigationSerializer
 from analyses.api.views.common import PagedListView, validated
-from analyses.selectors.lists import investigation_list
+from analyses.selectors.investigations import investigation_list
 from analyses.services.investigations import investigation_close
 
 

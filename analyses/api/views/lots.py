@@ -31,7 +31,7 @@ from analyses.models import AuditEntry, Lot
 from analyses.models import Certificate
 from analyses.selectors.api_lots import certificate_of_lot, certificate_version_param, certificate_versions_of_lot
 from analyses.selectors.audit import audit_trail_for
-from analyses.selectors.lists import lot_list, lot_readiness
+from analyses.selectors.lots import lot_list, lot_readiness
 from analyses.services.certificates import certificate_reissue
 from analyses.services.lots import lot_create, lot_reject, lot_release
 from analyses.services.post_release import lot_hold_lift

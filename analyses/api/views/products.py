@@ -12,7 +12,7 @@ from analyses.api.permissions import requires
 from analyses.api.schema import errors
 from analyses.api.serializers.products import ProductCreateSerializer, ProductSerializer
 from analyses.api.views.common import PagedListView, validated
-from analyses.selectors.lists import product_list
+from analyses.selectors.products import product_list
 from analyses.services.products import product_create
 
 

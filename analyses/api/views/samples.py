@@ -20,11 +20,12 @@ from analyses.api.serializers.samples import (
     SampleReceiveSerializer,
     SampleRegisterSerializer,
     SampleSerializer,
+    SampleTestSerializer,
 )
 from analyses.api.views.common import PagedListView, validated
 from analyses.models import AuditEntry, Sample
 from analyses.selectors.audit import audit_trail_for
-from analyses.selectors.lists import sample_list
+from analyses.selectors.samples import sample_list, with_test_rows
 from analyses.services.post_release import retain_tests_add
 from analyses.services.samples import sample_cancel, sample_hold, sample_receive, sample_register, sample_resume
 
@@ -38,6 +39,8 @@ class SampleListView(PagedListView):
     serializer_class = SampleSerializer
     filterset_class = SampleFilter
     permission_classes = [IsAuthenticated, requires("register_sample", "register samples", methods=("POST",))]
+
+    rows_loader = staticmethod(lambda rows: with_test_rows(rows, SampleTestSerializer.row_lookups()))
 
     def get_queryset(self):
         return sample_list()

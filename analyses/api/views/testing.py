@@ -19,9 +19,9 @@ from analyses.api.serializers.testing import TestAssignmentSerializer, TestAssig
 from analyses.api.views.common import PagedListView, validated
 from analyses.errors import NotFound
 from analyses.models import Result, Test
-from analyses.selectors.lists import result_history
+from analyses.selectors.results import result_history
 from analyses.selectors.tests import my_queue, review_queue, test_list, work_queue
-from analyses.selectors.uncertainty import with_mean_uncertainty
+from analyses.selectors.uncertainty import with_mean_expanded_rows, with_mean_uncertainty
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept, test_send_back
 from plugins.registry import get_registry
@@ -44,6 +44,7 @@ class TestListView(PagedListView):
     __test__ = False  # not a pytest test class
 
     serializer_class = TestSerializer
+    rows_loader = with_mean_expanded_rows
     filterset_class = TestFilter
 
     def get_queryset(self):
@@ -80,6 +81,7 @@ class WorkQueueQuerySerializer(serializers.Serializer):
 )
 class WorkQueueView(PagedListView):
     serializer_class = TestSerializer
+    rows_loader = with_mean_expanded_rows
     filter_backends: list = []
 
     def get_queryset(self):
@@ -102,6 +104,7 @@ class WorkQueueView(PagedListView):
 )
 class MyQueueView(PagedListView):
     serializer_class = TestSerializer
+    rows_loader = with_mean_expanded_rows
     filter_backends: list = []
 
     def get_queryset(self):
@@ -118,6 +121,7 @@ class MyQueueView(PagedListView):
 )
 class ReviewQueueView(PagedListView):
     serializer_class = TestSerializer
+    rows_loader = with_mean_expanded_rows
     filter_backends: list = []
 
     def get_queryset(self):

@@ -7,7 +7,10 @@ from analyses.errors import NotAllowed, NotFound
 from analyses.models import AuditEntry
 from analyses.selectors.audit import audit_trail_for
 from analyses.selectors.certificates import certificate_for
-from analyses.selectors.lists import investigation_list, lot_list, lot_readiness, result_history, sample_list
+from analyses.selectors.investigations import investigation_list
+from analyses.selectors.lots import lot_list, lot_readiness
+from analyses.selectors.results import result_history
+from analyses.selectors.samples import sample_list
 from analyses.services.lots import lot_release
 from analyses.services.results import result_correct
 from analyses.services.review import test_accept

@@ -9,7 +9,7 @@ from __future__ import annotations
 import pytest
 
 from analyses.models import Result, Test
-from analyses.selectors.lists import lot_readiness
+from analyses.selectors.lots import lot_readiness
 from analyses.services.results import result_correct, result_record
 from analyses.services.review import test_accept, test_send_back
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, PV_LOW, PV_LOW_TWIN, enter_duplicates, entry_for

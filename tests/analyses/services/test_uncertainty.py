@@ -12,7 +12,7 @@ import pytest
 
 from analyses.errors import InvalidInput
 from analyses.models import AuditEntry, Investigation, ResultUncertainty, Test, TestUncertainty, Verdict
-from analyses.selectors.lists import lot_readiness
+from analyses.selectors.lots import lot_readiness
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.lots import lot_create, lot_release
 from analyses.services.results import result_correct, result_record
