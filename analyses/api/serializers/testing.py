@@ -70,6 +70,8 @@ class TestSerializer(RowSerializer):
 
     # what the row methods read; mean_uncertainty is put on the row by the list's selector
     row_extra_lookups = ("is_overdue", "due_on", "state", "sample__state", "sample__state_reason", *MEAN_UNCERTAINTY_LOOKUPS)
+    # people by subquery, not two joins of the user table (selectors.tests.with_usernames)
+    row_columns = {"assignee": "assignee_username", "reviewed_by": "reviewed_by_username"}
 
     @extend_schema_field(MeanUncertaintySerializer(allow_null=True))
     def get_mean_uncertainty(self, test: Test) -> dict | None:

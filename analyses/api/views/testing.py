@@ -20,7 +20,7 @@ from analyses.api.views.common import PagedListView, validated
 from analyses.errors import NotFound
 from analyses.models import Result, Test
 from analyses.selectors.results import result_history
-from analyses.selectors.tests import my_queue, review_queue, test_list, work_queue
+from analyses.selectors.tests import my_queue, review_queue, test_list, with_usernames, work_queue
 from analyses.selectors.uncertainty import with_mean_expanded_rows, with_mean_uncertainty
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept, test_send_back
@@ -30,8 +30,9 @@ REVIEW = requires("review_test", "review tests")
 
 
 def _rows(queryset):
-    """Queue rows also show who reviewed and their mean's U (joins and one prefetch, not a query per row)."""
-    return with_mean_uncertainty(queryset.select_related("reviewed_by"))
+    """Queue rows also show who reviewed and their mean's U (joins and one prefetch, not a query
+    per row); the people's names also as columns, for the lists read as rows."""
+    return with_usernames(with_mean_uncertainty(queryset.select_related("reviewed_by")))
 
 
 @extend_schema_view(

@@ -14,7 +14,7 @@ from analyses.api.serializers.samples import SampleSerializer, SampleTestSeriali
 from analyses.api.serializers.testing import TestSerializer
 from analyses.models import Result, ResultStatus, Sample, SampleState, TestState, TestUncertainty
 from analyses.selectors.samples import sample_list, with_test_rows
-from analyses.selectors.tests import test_list
+from analyses.selectors.tests import test_list, with_usernames
 from analyses.selectors.uncertainty import with_mean_expanded_rows, with_mean_uncertainty
 from tests.factories import SampleFactory, SpecificationFactory, TestFactory, UserFactory
 
@@ -61,7 +61,7 @@ def varied_tests():
 
 def test_a_test_row_renders_as_its_instance(varied_tests):
     instances = list(with_mean_uncertainty(test_list().select_related("reviewed_by")))
-    rows = list(test_list().values(*TestSerializer.row_lookups()))
+    rows = list(with_usernames(test_list()).values(*TestSerializer.row_lookups()))
     with_mean_expanded_rows(rows)
     from_rows = TestSerializer(rows, many=True).data
     assert from_rows == TestSerializer(instances, many=True).data
