@@ -69,6 +69,11 @@ class Result(models.Model):
                 name="result_one_current_per_replicate",
             ),
         ]
+        indexes = [
+            # the review queue's four-eyes check (has this user a current result on the test?)
+            # from the index alone, and its count without reading every queued test's results
+            models.Index(fields=["test", "entered_by"], condition=Q(status="current"), name="result_current_by_idx"),
+        ]
 
     def __str__(self) -> str:
         return f"{self.method_code} {self.reported} {self.unit} (test {self.test_id} r{self.replicate} v{self.version})"
