@@ -1,6 +1,8 @@
 """Page-numbered lists whose page size the client may choose (up to a bound)."""
 from rest_framework.pagination import PageNumberPagination
 
+from analyses.selectors.counts import list_count
+
 
 class PageWithSize(PageNumberPagination):
     page_size_query_param = "page_size"
@@ -22,7 +24,7 @@ class RowsOf:
         return self.queryset.ordered
 
     def count(self) -> int:
-        return self.queryset.count()
+        return list_count(self.queryset)
 
     def __len__(self) -> int:
         return self.count()

@@ -3,6 +3,61 @@
 from django.conf import settings
 from django.db import migrations, models
 
+# The number of tests, kept by the database (PostgreSQL only) so that the unfiltered tests list
+# pages without COUNT(*) over the whole table (35 ms at 300,000 tests). Exact: the triggers
+# run in the writing transaction, so a reader sees the count of exactly the rows it sees.
+ROW_COUNT_FORWARD = """
+CREATE TABLE analyses_rowcount (table_name text PRIMARY KEY, row_count bigint NOT NULL);
+INSERT INTO analyses_rowcount VALUES ('analyses_test', (SELECT count(*) FROM analyses_test));
+
+CREATE FUNCTION row_count_keep() RETURNS trigger LANGUAGE plpgsql AS $$
+BEGIN
+    IF TG_OP = 'TRUNCATE' THEN
+        INSERT INTO analyses_rowcount VALUES (TG_TABLE_NAME, 0)
+            ON CONFLICT (table_name) DO UPDATE SET row_count = 0;
+        RETURN NULL;
+    END IF;
+    IF TG_OP = 'INSERT' THEN
+        UPDATE analyses_rowcount SET row_count = row_count + (SELECT count(*) FROM changed_rows)
+            WHERE table_name = TG_TABLE_NAME;
+    ELSE
+        UPDATE analyses_rowcount SET row_count = row_count - (SELECT count(*) FROM changed_rows)
+            WHERE table_name = TG_TABLE_NAME;
+    END IF;
+    IF NOT FOUND THEN  -- the count's row was removed: count afresh (the table's rows as this transaction sees them)
+        EXECUTE format('INSERT INTO analyses_rowcount SELECT %L, count(*) FROM %I', TG_TABLE_NAME, TG_TABLE_NAME);
+    END IF;
+    RETURN NULL;
+END
+$$;
+CREATE TRIGGER test_row_count_insert AFTER INSERT ON analyses_test
+    REFERENCING NEW TABLE AS changed_rows FOR EACH STATEMENT EXECUTE FUNCTION row_count_keep();
+CREATE TRIGGER test_row_count_delete AFTER DELETE ON analyses_test
+    REFERENCING OLD TABLE AS changed_rows FOR EACH STATEMENT EXECUTE FUNCTION row_count_keep();
+CREATE TRIGGER test_row_count_truncate AFTER TRUNCATE ON analyses_test
+    FOR EACH STATEMENT EXECUTE FUNCTION row_count_keep();
+"""
+
+ROW_COUNT_BACKWARD = """
+DROP TRIGGER IF EXISTS test_row_count_truncate ON analyses_test;
+DROP TRIGGER IF EXISTS test_row_count_delete ON analyses_test;
+DROP TRIGGER IF EXISTS test_row_count_insert ON analyses_test;
+DROP FUNCTION IF EXISTS row_count_keep();
+DROP TABLE IF EXISTS analyses_rowcount;
+"""
+
+
+class PostgreSQLOnly(migrations.RunSQL):
+    """RunSQL that runs on PostgreSQL and does nothing elsewhere (SQLite counts the rows)."""
+
+    def database_forwards(self, app_label, schema_editor, from_state, to_state):
+        if schema_editor.connection.vendor == "postgresql":
+            super().database_forwards(app_label, schema_editor, from_state, to_state)
+
+    def database_backwards(self, app_label, schema_editor, from_state, to_state):
+        if schema_editor.connection.vendor == "postgresql":
+            super().database_backwards(app_label, schema_editor, from_state, to_state)
+
 
 class Migration(migrations.Migration):
 
@@ -24,4 +79,5 @@ class Migration(migrations.Migration):
             model_name='test',
             index=models.Index(condition=models.Q(('state__in', ('assigned', 'sent_back'))), fields=['assignee', 'priority', 'due_on', 'id'], name='test_workable_order_idx'),
         ),
+        PostgreSQLOnly(ROW_COUNT_FORWARD, ROW_COUNT_BACKWARD),
     ]
