@@ -58,3 +58,36 @@ def test_the_whole_list_reads_the_kept_count_and_a_filtered_one_counts(postgres)
         assert list_count(test_list(overdue=True)) == 0
     assert all("COUNT(*)" in query["sql"] for query in filtered_queries)
     assert len(whole_queries) == 1
+
+
+@pytest.mark.django_db(transaction=True)
+def test_a_writer_of_tests_holds_the_audit_head_before_the_count(postgres):
+    # The lock order that keeps two writers from deadlocking: the audit chain's head, then the
+    # count. Inserting a test must have taken the head: another connection cannot lock it.
+    import threading
+
+    from django.db import OperationalError, connections, transaction
+
+    from analyses.models import AuditChainHead
+
+    AuditChainHead.objects.get_or_create(id=1)
+    line = SpecificationLineFactory()
+    sample = SampleFactory()
+    outcome: list[object] = []
+
+    def other_writer() -> None:
+        try:
+            with transaction.atomic():
+                outcome.append(list(AuditChainHead.objects.select_for_update(nowait=True).filter(id=1)))
+        except OperationalError as exc:
+            outcome.append(exc)
+        finally:
+            connections["default"].close()
+
+    with transaction.atomic():
+        Test.objects.create(sample=sample, specification_line=line, method_code=line.method_code, due_on="2030-01-01",
+                            created_at="2030-01-01T00:00:00Z")
+        thread = threading.Thread(target=other_writer)
+        thread.start()
+        thread.join()
+    assert isinstance(outcome[0], OperationalError) and "lock" in str(outcome[0])
