@@ -38,6 +38,34 @@ def table(measurements: list[Measurement]) -> list[str]:
     return lines
 
 
+LISTED_TABLES = ("analyses_sample", "analyses_test", "analyses_result", "analyses_auditentry")
+
+
+def dead_rows_warning() -> str | None:
+    """``dead_rows_note`` of the listed tables, as PostgreSQL's statistics count them; None elsewhere."""
+    if connection.vendor != "postgresql":
+        return None
+    with connection.cursor() as cursor:
+        cursor.execute(
+            "SELECT coalesce(sum(n_dead_tup), 0), coalesce(sum(n_live_tup), 0) FROM pg_stat_user_tables WHERE relname = ANY(%s)",
+            [list(LISTED_TABLES)],
+        )
+        dead, live = cursor.fetchone()
+    return dead_rows_note(int(dead), int(live))
+
+
+def dead_rows_note(dead: int, live: int) -> str | None:
+    """A warning when the tables hold more dead rows than live ones, and more than a few (each
+    rolled-back run leaves its rows dead until autovacuum comes): counts and plans read them too."""
+    if dead <= max(live, 10_000):
+        return None
+    return (
+        f"warning: the listed tables hold {dead:,} dead rows against {live:,} live ones (earlier runs, rolled back); "
+        "counts and query plans read them too, so the figures will be slower than on this data vacuumed: "
+        "run VACUUM ANALYZE first, or use a fresh database"
+    )
+
+
 def _require_migrated() -> None:
     from django.db.migrations.executor import MigrationExecutor
 
@@ -94,6 +122,9 @@ class Command(BaseCommand):
             f"page size {page_size}"
         )
         say("everything is written in one transaction, rolled back at the end: nothing stays")
+        dead = dead_rows_warning()
+        if dead:
+            say(dead)
         started, started_cpu = time.perf_counter(), time.process_time()
 
         def seeded(done: int, total: int) -> None:

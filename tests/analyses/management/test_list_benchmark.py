@@ -103,3 +103,17 @@ def test_explain_prints_the_plan_of_every_list(postgres):
         assert f"== plans of {listing.name} ==" in text
     assert text.count("Execution Time") >= 3 * len(LISTINGS)  # token, count and page of each list at least
     assert len(rows) == len(LISTINGS)
+
+
+def test_dead_rows_from_earlier_runs_are_warned_of():
+    from analyses.management.commands.list_benchmark import dead_rows_note
+
+    assert dead_rows_note(900_000, 300_000) is not None and "VACUUM ANALYZE" in dead_rows_note(900_000, 300_000)
+    assert dead_rows_note(5_000, 0) is None  # a few, as any working database has
+    assert dead_rows_note(200_000, 300_000) is None
+
+
+def test_a_fresh_database_gets_no_dead_rows_warning(postgres):
+    from analyses.management.commands.list_benchmark import dead_rows_warning
+
+    assert dead_rows_warning() is None
