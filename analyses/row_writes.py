@@ -38,6 +38,8 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
     if connection.vendor != "postgresql":
         model._default_manager.bulk_create(objects)
         return
+    for obj in objects:
+        obj._prepare_related_fields_for_save(operation_name="rows_insert")  # as bulk_create does
     fields = [field for field in meta.concrete_fields if not field.primary_key]
     quote = connection.ops.quote_name
     columns = ", ".join(quote(field.column) for field in (meta.pk, *fields))
@@ -75,8 +77,9 @@ def rows_update(objects: Sequence[models.Model], fields: Sequence[str]) -> None:
     columns = [meta.pk, *(meta.get_field(name) for name in fields)]
     quote = connection.ops.quote_name
     # a cast on every value: VALUES takes each column's type from its first row, and a NULL
-    # there would make the column text
-    row = "(" + ", ".join(f"%s::{column.db_type(connection)}" for column in columns) + ")"
+    # there would make the column text. Without its length (varchar, not varchar(40)): a cast to
+    # varchar(n) cuts a longer value silently, where the assignment to the column refuses it
+    row = "(" + ", ".join(f"%s::{column.db_type(connection).split('(')[0]}" for column in columns) + ")"
     params = [
         column.get_db_prep_save(getattr(obj, column.attname), connection)
         for obj in objects

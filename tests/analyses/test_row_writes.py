@@ -102,3 +102,13 @@ def test_rows_that_are_already_saved_are_refused():
     test = TestFactory()
     with pytest.raises(ValueError, match="new"):
         rows_insert([test])
+
+
+def test_a_value_too_long_for_its_column_is_refused_not_cut(postgres):
+    from django.db import DataError
+
+    test = TestFactory()
+    test.reported = "9" * 41  # reported is varchar(40)
+    with pytest.raises(DataError), transaction.atomic():
+        rows_update([test], ["reported"])
+    assert Test.objects.get(pk=test.pk).reported != "9" * 40
