@@ -11,6 +11,8 @@ from django.db import migrations, models
 # before its first audit entry would otherwise deadlock with one that appended an entry first).
 ROW_COUNT_FORWARD = """
 CREATE TABLE analyses_rowcount (table_name text PRIMARY KEY, row_count bigint NOT NULL);
+-- no test may be written between the count and the triggers (held until the migration commits)
+LOCK TABLE analyses_test IN SHARE ROW EXCLUSIVE MODE;
 INSERT INTO analyses_rowcount VALUES ('analyses_test', (SELECT count(*) FROM analyses_test));
 
 CREATE FUNCTION row_count_keep() RETURNS trigger LANGUAGE plpgsql AS $$
