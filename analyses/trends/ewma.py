@@ -18,6 +18,7 @@ from analyses.errors import InvalidInput
 from analyses.trends.episodes import Episode, RuleMarks, episode_table, episodes_of_table, single_point_marks
 from analyses.trends.inputs import finite_number, finite_vector, positive_number
 from analyses.trends.layout import SeriesLayout, layout_single
+from analyses.trends.westgard import z_scores
 
 DEFAULT_SMOOTHING = 0.2
 DEFAULT_WIDTH = 3.0
@@ -77,11 +78,13 @@ def ewma_chart(
 ) -> EwmaChart:
     """EWMA chart of one series with target ``mean`` and process SD ``sd``."""
     smoothing, width = check_parameters(smoothing, width)
-    # not westgard.z_scores, which rounds: the chart's statistic is rebuilt from these in the values' units
+    # the drawn statistic from unrounded z (it is rebuilt in the values' units); the flags from
+    # westgard.z_scores' rounded z, as the scan of many series decides them
     z = (finite_vector(values, "values") - finite_number(mean, "mean")) / positive_number(sd, "sd")
     layout = layout_single(len(z))
     statistic, sigma = ewma_standardised(z, layout, smoothing)
-    marks = _limit_marks(statistic, sigma, width)
+    judged, _ = ewma_standardised(z_scores(values, mean, sd), layout, smoothing)
+    marks = _limit_marks(judged, sigma, width)
     return EwmaChart(
         values=np.asarray(values, dtype=float),
         statistic=mean + sd * statistic,
