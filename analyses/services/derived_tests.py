@@ -114,6 +114,8 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
 def _stored_mean_budgets(tests: Iterable[Test]) -> dict[int, TestUncertainty]:
     """The stored mean's budget of each test, by test id, where it is of the test's current
     replicates (a mean whose budget could not be worked out keeps an older row, which is not)."""
+    from analyses.services.uncertainty import is_mean_of
+
     ids = [test.pk for test in tests]
     current: dict[int, set[int]] = {}
     for test_id, result_id in Result.objects.filter(test_id__in=ids, status=ResultStatus.CURRENT).values_list("test_id", "pk"):
@@ -121,7 +123,7 @@ def _stored_mean_budgets(tests: Iterable[Test]) -> dict[int, TestUncertainty]:
     return {
         row.test_id: row
         for row in TestUncertainty.objects.filter(test_id__in=ids)
-        if set(row.results) == current.get(row.test_id, set())
+        if is_mean_of(row.results, current.get(row.test_id, set()))
     }
 
 
