@@ -197,11 +197,12 @@ REST_KNOX = {
     "AUTO_REFRESH": False,
 }
 
-# Login lock-out (analyses/login_guard.py): after this many failed logins within the window,
-# the account (or the client address) is refused for LOGIN_LOCKOUT_SECONDS, with 429.
 # Allocations between two collections of the youngest generation in the web and worker
 # processes (labcore/collector.py; Python's own is 700).
 GC_YOUNG_THRESHOLD = int(os.environ.get("GC_YOUNG_THRESHOLD", 10_000))
+
+# Login lock-out (analyses/login_guard.py): after this many failed logins within the window,
+# the account (or the client address) is refused for LOGIN_LOCKOUT_SECONDS, with 429.
 LOGIN_FAILURES_PER_ACCOUNT = int(os.environ.get("LOGIN_FAILURES_PER_ACCOUNT", 5))
 LOGIN_FAILURES_PER_ADDRESS = int(os.environ.get("LOGIN_FAILURES_PER_ADDRESS", 20))
 LOGIN_FAILURE_WINDOW_SECONDS = int(os.environ.get("LOGIN_FAILURE_WINDOW_SECONDS", 900))
