@@ -113,7 +113,11 @@ def test_dead_rows_from_earlier_runs_are_warned_of():
     assert dead_rows_note(200_000, 300_000) is None
 
 
-def test_a_fresh_database_gets_no_dead_rows_warning(postgres):
-    from analyses.management.commands.list_benchmark import dead_rows_warning
+def test_the_warning_reads_postgresqls_row_statistics(postgres, monkeypatch):
+    from analyses.management.commands import list_benchmark
 
-    assert dead_rows_warning() is None
+    seen = []
+    monkeypatch.setattr(list_benchmark, "dead_rows_note", lambda dead, live: seen.append((dead, live)) or None)
+    assert list_benchmark.dead_rows_warning() is None
+    [(dead, live)] = seen  # the listed tables' dead and live rows, as the statistics count them
+    assert isinstance(dead, int) and isinstance(live, int) and dead >= 0 and live >= 0
