@@ -18,7 +18,10 @@ signals, as Django's bulk methods do not.
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
+import datetime as dt
+from collections.abc import Callable, Sequence
+from functools import lru_cache
+from typing import Any
 
 from django.db import connections, models, router
 
@@ -41,6 +44,7 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
     for obj in objects:
         obj._prepare_related_fields_for_save(operation_name="rows_insert")  # as bulk_create does
     fields = [field for field in meta.concrete_fields if not field.primary_key]
+    prepared = [_db_value(field) for field in fields]
     quote = connection.ops.quote_name
     columns = ", ".join(quote(field.column) for field in (meta.pk, *fields))
     with connection.cursor() as cursor:
@@ -53,11 +57,53 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
         with connection.wrap_database_errors:
             with cursor.cursor.copy(f"COPY {quote(meta.db_table)} ({columns}) FROM STDIN") as copy:
                 for obj, pk in zip(objects, ids):
-                    copy.write_row([pk, *(field.get_db_prep_save(field.pre_save(obj, True), connection) for field in fields)])
+                    copy.write_row([pk, *(prepare(obj, connection) for prepare in prepared)])
     for obj, pk in zip(objects, ids):
         obj.pk = pk
         obj._state.adding = False
         obj._state.db = alias
+
+
+# Fields whose value of exactly this type (or None) Django sends to PostgreSQL unchanged: their
+# pre_save reads the attribute and get_db_prep_save returns it as it is. Any other value, and
+# every other field (JSON, decimals, dates, custom fields), goes through Django's preparation.
+_SENT_AS_IS: dict[type[models.Field], type] = {
+    models.AutoField: int, models.BigAutoField: int, models.IntegerField: int, models.BigIntegerField: int,
+    models.SmallIntegerField: int, models.PositiveIntegerField: int, models.PositiveSmallIntegerField: int,
+    models.PositiveBigIntegerField: int, models.ForeignKey: int, models.OneToOneField: int,
+    models.CharField: str, models.TextField: str, models.BooleanField: bool, models.FloatField: float,
+}
+
+
+@lru_cache(maxsize=None)
+def _db_value(field: models.Field) -> Callable[[models.Model, Any], Any]:
+    """How to read ``field``'s value of an object to insert, ready for the database (the
+    connection given), as ``bulk_create`` would send it. Preparing every value through Django's
+    field methods was a third of writing an audit entry (issue 12); a plain value of a plain
+    field needs none."""
+    attname = field.attname
+
+    def prepared(obj: models.Model, connection: Any) -> Any:
+        return field.get_db_prep_save(field.pre_save(obj, True), connection)
+
+    if type(field) is models.DateTimeField and not (field.auto_now or field.auto_now_add):
+        # an aware datetime goes as it is; a naive one takes Django's path (and its warning)
+        def aware_as_is(obj: models.Model, connection: Any) -> Any:
+            value = getattr(obj, attname)
+            if value is None or (type(value) is dt.datetime and value.tzinfo is not None):
+                return value
+            return prepared(obj, connection)
+
+        return aware_as_is
+    plain = _SENT_AS_IS.get(type(field))
+    if plain is None:
+        return prepared
+
+    def as_is(obj: models.Model, connection: Any) -> Any:
+        value = getattr(obj, attname)
+        return value if value is None or type(value) is plain else prepared(obj, connection)
+
+    return as_is
 
 
 def rows_update(objects: Sequence[models.Model], fields: Sequence[str]) -> None:

@@ -2,18 +2,21 @@
 checked by ``manage.py audit_verify``; appends stay linear under concurrency on PostgreSQL."""
 from __future__ import annotations
 
+import datetime as dt
 import threading
 from importlib import import_module
 from io import StringIO
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from django.contrib import admin
 from django.core.management import CommandError, call_command
 from django.db import connection, transaction
 from django.test import RequestFactory
 
-from analyses.audit import GENESIS_HASH, audit_append, audit_chain_verify
-from analyses.models import AuditEntry, ImmutableRowError, Product
+from analyses.audit import GENESIS_HASH, audit_append, audit_chain_verify, json_safe
+from analyses.models import AuditAction, AuditEntry, ImmutableRowError, Product, TestState
 from analyses.services.audit_anchors import audit_anchor_write
 from analyses.services.samples import sample_hold
 from tests.analyses.audit_setup import delete_last, move_head, tamper
@@ -194,3 +197,42 @@ def test_the_migration_gives_an_existing_chain_its_head(received_sample):
     assert not audit_chain_verify().ok
     record_head(apps, None)
     assert audit_chain_verify().ok
+
+
+_plain_leaves = st.one_of(
+    st.none(), st.booleans(), st.integers(), st.floats(allow_nan=True, allow_infinity=True), st.text(max_size=8),
+    st.decimals(allow_nan=False, allow_infinity=False), st.datetimes(timezones=st.just(dt.UTC)), st.dates(), st.uuids(),
+    st.sampled_from([AuditAction.CREATE, TestState.ASSIGNED]),  # str enums: plain strings once stored
+)
+_values = st.recursive(
+    _plain_leaves,
+    lambda inner: st.one_of(
+        st.lists(inner, max_size=4), st.tuples(inner, inner),
+        st.dictionaries(st.text(max_size=4), inner, max_size=4),
+        st.dictionaries(st.integers(), inner, max_size=3),  # keys that JSON turns into strings
+    ),
+    max_leaves=12,
+)
+
+
+@given(_values)
+@settings(max_examples=300, deadline=None)
+def test_json_safe_gives_what_a_json_round_trip_gives(value):
+    """json_safe copies plain values without the round trip; the answer must be the round
+    trip's, value for value and type for type (compared as JSON text, where NaN equals NaN)."""
+    import json
+
+    from django.core.serializers.json import DjangoJSONEncoder
+
+    expected = json.loads(json.dumps(value, cls=DjangoJSONEncoder))
+    got = json_safe(value)
+    assert json.dumps(got, sort_keys=True) == json.dumps(expected, sort_keys=True)
+    assert _types(got) == _types(expected)
+
+
+def _types(value):
+    if isinstance(value, dict):
+        return {key: _types(item) for key, item in value.items()}
+    if isinstance(value, list):
+        return [_types(item) for item in value]
+    return type(value)

@@ -112,3 +112,29 @@ def test_a_value_too_long_for_its_column_is_refused_not_cut(postgres):
     with pytest.raises(DataError), transaction.atomic():
         rows_update([test], ["reported"])
     assert Test.objects.get(pk=test.pk).reported != "9" * 40
+
+
+def test_values_of_other_types_are_prepared_as_bulk_create_prepares_them(postgres):
+    """The plain values go as they are; anything else (a number as text for a key, a choice
+    member, a local time from another zone) takes Django's own preparation, so both paths
+    store the same rows."""
+    import datetime as dt
+    import warnings
+
+    from analyses.models import TestState
+
+    by = UserFactory()
+    elsewhere = dt.datetime(2026, 3, 1, 9, 30, tzinfo=dt.timezone(dt.timedelta(hours=5)))
+
+    def odd(code: str) -> Product:
+        return Product(code=code, name=TestState.ASSIGNED, oil_type="", description="", created_by_id=str(by.pk),
+                       created_at=elsewhere)
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # no naive-datetime warning either way
+        rows_insert([odd("RW-COPY")])
+        Product.objects.bulk_create([odd("RW-BULK")])
+    copied, bulk = (Product.objects.values().get(code=code) for code in ("RW-COPY", "RW-BULK"))
+    assert {k: v for k, v in copied.items() if k not in ("id", "code")} == {k: v for k, v in bulk.items() if k not in ("id", "code")}
+    assert copied["name"] == "assigned" and type(copied["name"]) is str
+    assert copied["created_by_id"] == by.pk and copied["created_at"] == elsewhere
