@@ -251,11 +251,19 @@ def trace_save(result: Result, trace: Trace) -> None:
 
 
 def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
-    """``trace_save`` for many inserted results at once: one insert."""
-    rows_insert(
-        [
+    """``trace_save`` for many inserted results at once: one insert. Each result then holds
+    its instrument uses as ``prefetch_related`` would leave them, so showing the results
+    reads nothing more."""
+    uses = [
+        (result, [
             ResultInstrument(result=result, instrument=u.instrument, calibration_id=u.calibration_id, routine_check_id=u.check_id)
-            for result, trace in entered
             for u in trace.uses
-        ]
-    )
+        ])
+        for result, trace in entered
+    ]
+    rows_insert([row for _, rows in uses for row in rows])
+    for result, rows in uses:
+        known = result.instrument_uses.all()
+        # what prefetch_related_objects sets (Django has no public call for rows already in hand)
+        known._result_cache, known._prefetch_done = rows, True
+        result._prefetched_objects_cache = {**getattr(result, "_prefetched_objects_cache", {}), "instrument_uses": known}

@@ -148,3 +148,5 @@ def test_bulk_entry_over_http_runs_the_same_number_of_queries_for_4_and_for_40_r
         # the token's last use is written at most once a while: not part of entering results
         counts.append([q["sql"][:150] for q in captured.captured_queries if "analyses_apitoken" not in q["sql"]])
     assert len(counts[0]) == len(counts[1]), "\n".join(counts[0]) + "\n----\n" + "\n".join(counts[1])
+    # the answer shows the instrument uses just written, without reading them back
+    assert not any(q.startswith("SELECT") and '"analyses_resultinstrument"' in q for q in counts[1]), counts[1]
