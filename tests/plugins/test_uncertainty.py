@@ -300,3 +300,21 @@ def test_lab_duplicates_give_the_pooled_repeatability():
 @pytest.mark.parametrize("number, written", [(0.55, "0.55"), (1.1027, "1.2"), (3 * 0.1, "0.30"), (0.0, "0")])
 def test_expanded_uncertainty_is_two_significant_digits_rounded_up(number, written):
     assert str(two_significant_up(number)) == written
+
+
+def test_combine_gives_what_the_uncertainties_package_propagates():
+    """u_c and each |c| u by the ``uncertainties`` package's own first-order propagation of
+    y = sum(c_i dx_i) with independent dx_i (a c = 0 term included)."""
+    from plugins.uncertainty import _Term, combine
+
+    terms = [_Term("a", "g", 20.0, 0.0002, -0.0651, ""), _Term("b", "mL", 1.3, 0.0093, 2.8055, ""),
+             _Term("c", "mL", 0.05, 0.0093, -2.8055, ""), _Term("d", "mL", 0.0, 0.01, 0.0, ""),
+             _Term(REPEATABILITY, "mg/g", 0.0, 0.0214, 1.0, "")]
+    deviations = [ufloat(0.0, t.u, tag=t.name) for t in terms]
+    y = sum((t.sensitivity * d for t, d in zip(terms, deviations)), start=0.0)
+    by_library = y.error_components()
+
+    combined, contributions = combine(terms)
+
+    assert combined == pytest.approx(y.std_dev, rel=1e-12)
+    assert contributions == pytest.approx([abs(by_library.get(d, 0.0)) for d in deviations], rel=1e-12)
