@@ -84,6 +84,20 @@ def review_queue(*, exclude_entered_by=None, today: dt.date | None = None) -> Qu
     return queryset.order_by("priority", "due_on", "id")
 
 
+def review_queue_count(user) -> int:
+    """How many tests ``review_queue(exclude_entered_by=user)`` holds: the tests awaiting
+    review, less those of them that hold a current result of ``user``'s. The queue's own count
+    checked every waiting test against the user's results (25 ms for 3,750 tests at 100,000
+    samples, issue 12); this reads the waiting tests' index once and the user's own results,
+    which for a reviewer who enters none are none."""
+    waiting = Test.objects.filter(state=TestState.RESULT_ENTERED).count()
+    theirs = (
+        Result.objects.filter(entered_by=user, status=ResultStatus.CURRENT, test__state=TestState.RESULT_ENTERED)
+        .values("test_id").distinct().count()
+    )
+    return waiting - theirs
+
+
 def test_list(
     *,
     sample=None,

@@ -20,7 +20,7 @@ from analyses.api.views.common import PagedListView, validated
 from analyses.errors import NotFound
 from analyses.models import Result, Test
 from analyses.selectors.results import result_history
-from analyses.selectors.tests import my_queue, review_queue, test_list, with_usernames, work_queue
+from analyses.selectors.tests import my_queue, review_queue, review_queue_count, test_list, with_usernames, work_queue
 from analyses.selectors.uncertainty import with_mean_expanded_rows, with_mean_uncertainty
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_accept, test_send_back
@@ -129,6 +129,9 @@ class ReviewQueueView(PagedListView):
         if self.is_schema_view:
             return Test.objects.none()
         return _rows(review_queue(exclude_entered_by=self.request.user))
+
+    def row_count(self) -> int | None:
+        return review_queue_count(self.request.user)
 
 
 class TestAssignView(APIView):

@@ -6,7 +6,7 @@ import datetime as dt
 import pytest
 
 from analyses.models import Priority, SampleState, TestState
-from analyses.selectors.tests import my_queue, review_queue, work_queue
+from analyses.selectors.tests import my_queue, review_queue, review_queue_count, work_queue
 from analyses.selectors import tests as test_selectors
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.review import test_send_back
@@ -69,6 +69,25 @@ def test_a_test_sent_back_and_re_entered_by_another_analyst_is_in_the_first_ones
     # four-eyes looks at the current results only (analyst2's), so analyst may review
     assert [t.pk for t in review_queue(exclude_entered_by=analyst)] == [av.pk]
     assert list(review_queue(exclude_entered_by=analyst2)) == []
+
+
+def test_the_review_queue_count_is_the_number_of_tests_in_it_for_each_reviewer(users, assigned_tests):
+    """review_queue_count subtracts the tests a user entered from all the waiting ones; it must
+    count what the queue lists, for users with none, some and all of the waiting tests, and
+    after a send-back has made one user's results no longer current."""
+    analyst, analyst2, qa = users["analyst"], users["analyst2"], users["qa"]
+    av = next(t for t in assigned_tests if t.method_code == "av")
+    pv = next(t for t in assigned_tests if t.method_code == "pv")
+    others = TestFactory.create_batch(3, state=TestState.RESULT_ENTERED)  # waiting, entered by nobody here
+    enter_duplicates(analyst, av, AV_LOW, AV_LOW_TWIN)
+    test_send_back(users["manager"], av, reason="burette not rinsed")
+    test_assign_bulk(users["manager"], [av, pv], assignee=analyst2)
+    enter_duplicates(analyst2, av, AV_LOW, AV_LOW_TWIN)  # analyst's results on av are no longer current
+
+    for user, expected in ((analyst, 4), (analyst2, 3), (qa, 4)):
+        assert review_queue(exclude_entered_by=user).count() == expected
+        assert review_queue_count(user) == expected, user.username
+    assert {t.pk for t in review_queue(exclude_entered_by=analyst2)} == {t.pk for t in others}
 
 
 def test_queues_take_a_fixed_number_of_queries(users, django_assert_num_queries):
