@@ -85,17 +85,13 @@ def review_queue(*, exclude_entered_by=None, today: dt.date | None = None) -> Qu
 
 
 def review_queue_count(user) -> int:
-    """How many tests ``review_queue(exclude_entered_by=user)`` holds: the tests awaiting
-    review, less those of them that hold a current result of ``user``'s. The queue's own count
-    checked every waiting test against the user's results (25 ms for 3,750 tests at 100,000
-    samples, issue 12); this reads the waiting tests' index once and the user's own results,
-    which for a reviewer who enters none are none."""
-    waiting = Test.objects.filter(state=TestState.RESULT_ENTERED).count()
-    theirs = (
-        Result.objects.filter(entered_by=user, status=ResultStatus.CURRENT, test__state=TestState.RESULT_ENTERED)
-        .values("test_id").distinct().count()
-    )
-    return waiting - theirs
+    """How many tests ``review_queue(exclude_entered_by=user)`` holds, counted without what
+    only its page needs: no annotations, and no repeat of the test's state inside the four-eyes
+    check (it steers the page's plan; in a count it makes every waiting test with a result of
+    the user's cost a second probe). About a quarter faster than counting the queue itself at
+    100,000 samples (issue 12)."""
+    mine = Result.objects.filter(test=OuterRef("pk"), status=ResultStatus.CURRENT, entered_by=user)
+    return Test.objects.filter(state=TestState.RESULT_ENTERED).exclude(Exists(mine)).count()
 
 
 def test_list(

@@ -317,6 +317,7 @@ class _Batch:
         test, the mean's budget and verdict (``uncertainty.result_uncertainty_record`` for
         one result)."""
         sources: dict[str, Any] = {}
+        entry_of = {id(entry.result): entry for entry in self.new}
         for entry in self.new:
             code = entry.plugin.code
             if code not in sources:
@@ -328,15 +329,15 @@ class _Batch:
             entry.result.verdict = test_verdict(Decimal(entry.result.value_exact), entry.test, entry.budget.expanded)
             if entry.aggregate is None:
                 continue
-            budgets = [self._budget_dict(r) for r in entry.current]
+            budgets = [self._budget_dict(r, entry_of) for r in entry.current]
             if any(b is None for b in budgets):
                 continue
             entry.mean = mean_budget(budgets)
             entry.aggregate["verdict"] = test_verdict(Decimal(entry.aggregate["value_exact"]), entry.test, entry.mean.expanded)
 
-    def _budget_dict(self, result: Result) -> dict[str, Any] | None:
+    def _budget_dict(self, result: Result, entry_of: dict[int, _NewEntry]) -> dict[str, Any] | None:
         if result.pk is None:  # entered in this batch
-            entry = next(e for e in self.new if e.result is result)
+            entry = entry_of[id(result)]
             return None if entry.budget is None else entry.budget.as_dict()
         return stored_budget_dict(result)
 

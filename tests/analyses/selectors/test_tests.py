@@ -72,9 +72,9 @@ def test_a_test_sent_back_and_re_entered_by_another_analyst_is_in_the_first_ones
 
 
 def test_the_review_queue_count_is_the_number_of_tests_in_it_for_each_reviewer(users, assigned_tests):
-    """review_queue_count subtracts the tests a user entered from all the waiting ones; it must
-    count what the queue lists, for users with none, some and all of the waiting tests, and
-    after a send-back has made one user's results no longer current."""
+    """review_queue_count is a query of its own; it must count what the queue lists, for users
+    with none and some of the waiting tests, and after a send-back has made one user's results
+    no longer current."""
     analyst, analyst2, qa = users["analyst"], users["analyst2"], users["qa"]
     av = next(t for t in assigned_tests if t.method_code == "av")
     pv = next(t for t in assigned_tests if t.method_code == "pv")
