@@ -7,6 +7,8 @@ knowingly, and visibly in the database's log (DEVELOPERS.md, "Lifting the audit 
 """
 from django.db import migrations
 
+from analyses.migration_operations import PostgreSQLOnly  # runs on PostgreSQL only (SQLite: no plpgsql)
+
 FORWARD = """
 CREATE FUNCTION audit_entry_refuse_change() RETURNS trigger LANGUAGE plpgsql AS $$
 BEGIN
@@ -50,18 +52,6 @@ DROP FUNCTION IF EXISTS audit_head_move_forward();
 DROP TRIGGER IF EXISTS audit_entry_append_only ON analyses_auditentry;
 DROP FUNCTION IF EXISTS audit_entry_refuse_change();
 """
-
-
-class PostgreSQLOnly(migrations.RunSQL):
-    """RunSQL that runs on PostgreSQL and does nothing elsewhere (SQLite: no plpgsql)."""
-
-    def database_forwards(self, app_label, schema_editor, from_state, to_state):
-        if schema_editor.connection.vendor == "postgresql":
-            super().database_forwards(app_label, schema_editor, from_state, to_state)
-
-    def database_backwards(self, app_label, schema_editor, from_state, to_state):
-        if schema_editor.connection.vendor == "postgresql":
-            super().database_backwards(app_label, schema_editor, from_state, to_state)
 
 
 class Migration(migrations.Migration):

@@ -3,6 +3,8 @@
 from django.conf import settings
 from django.db import migrations, models
 
+from analyses.migration_operations import PostgreSQLOnly  # runs on PostgreSQL only (SQLite counts the rows)
+
 # The number of tests, kept by the database (PostgreSQL only) so that the unfiltered tests list
 # pages without COUNT(*) over the whole table (35 ms at 300,000 tests). Exact: the triggers
 # run in the writing transaction, so a reader sees the count of exactly the rows it sees.
@@ -51,18 +53,6 @@ DROP TRIGGER IF EXISTS test_row_count_insert ON analyses_test;
 DROP FUNCTION IF EXISTS row_count_keep();
 DROP TABLE IF EXISTS analyses_rowcount;
 """
-
-
-class PostgreSQLOnly(migrations.RunSQL):
-    """RunSQL that runs on PostgreSQL and does nothing elsewhere (SQLite counts the rows)."""
-
-    def database_forwards(self, app_label, schema_editor, from_state, to_state):
-        if schema_editor.connection.vendor == "postgresql":
-            super().database_forwards(app_label, schema_editor, from_state, to_state)
-
-    def database_backwards(self, app_label, schema_editor, from_state, to_state):
-        if schema_editor.connection.vendor == "postgresql":
-            super().database_backwards(app_label, schema_editor, from_state, to_state)
 
 
 class Migration(migrations.Migration):
