@@ -5,7 +5,8 @@ with COPY. Django's ``bulk_create`` prepares every value through its SQL compile
 long statement that psycopg parses in Python each time: for a batch of 100 results (the results,
 their budgets and instrument uses, and some 350 audit entries) that was half of result entry's
 time (issue 12, ``manage.py ingest_benchmark``). COPY sends the same values, each prepared by its
-field as Django would, without a statement to build or parse.
+field as Django would (a plain value of a plain field, an int for a key or a str for a text, is
+sent as it is: Django would return it unchanged), without a statement to build or parse.
 
 ``rows_update`` writes many rows, each with its own values, in one statement. Django's ``bulk_update`` writes ``SET field = CASE WHEN id = 1 THEN … WHEN id = 2 THEN … END``
 for every field, and builds an expression object per row and field: for 100 tests and 8
