@@ -252,8 +252,8 @@ def trace_save(result: Result, trace: Trace) -> None:
 
 def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
     """``trace_save`` for many inserted results at once: one insert. Each result then holds
-    its instrument uses as ``prefetch_related`` would leave them, so showing the results
-    reads nothing more."""
+    its instrument uses as ``prefetch_related`` would leave them (in the model's order, by
+    instrument), so showing the results reads nothing more."""
     uses = [
         (result, [
             ResultInstrument(result=result, instrument=u.instrument, calibration_id=u.calibration_id, routine_check_id=u.check_id)
@@ -263,6 +263,7 @@ def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
     ]
     rows_insert([row for _, rows in uses for row in rows])
     for result, rows in uses:
+        rows.sort(key=lambda row: row.instrument_id)  # ResultInstrument.Meta.ordering, as a read gives them
         known = result.instrument_uses.all()
         # what prefetch_related_objects sets (Django has no public call for rows already in hand)
         known._result_cache, known._prefetch_done = rows, True

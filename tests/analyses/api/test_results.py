@@ -28,6 +28,25 @@ def test_the_same_idempotency_key_twice_records_one_result(lab, clients):
     assert Result.objects.filter(test=av_test).count() == 2
 
 
+def test_the_answer_lists_the_instruments_as_a_read_of_the_result_does_whatever_order_they_were_named_in(lab, clients):
+    """The entry's answer holds the instrument uses it has just written; it must show them as
+    the result's own page and a replay do (by instrument), not in the order the request named them."""
+    from analyses.models import Instrument
+
+    av_test, _ = lab.assigned("analyst")
+    named = list(reversed(AV_TRACE["instruments"]))
+    by_id = list(Instrument.objects.filter(asset_id__in=named).order_by("pk").values_list("asset_id", flat=True))
+    assert named != by_id  # the request names them against the order a read gives
+    body = {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE, "instruments": named}
+
+    entered = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-9-row-1")
+    assert entered.status_code == 201, entered.content
+    assert [use["asset_id"] for use in entered.json()["instruments"]] == by_id
+    assert clients["analyst"].get(f"/api/results/{entered.json()['id']}/").json() == entered.json()
+    replay = clients["analyst"].post("/api/results/", body, format="json", HTTP_IDEMPOTENCY_KEY="tab-9-row-1")
+    assert replay.json() == entered.json()
+
+
 def test_without_a_key_a_repeat_is_a_new_replicate_and_then_a_conflict(lab, clients):
     av_test, _ = lab.assigned("analyst")
     body = {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}
