@@ -25,6 +25,7 @@ from functools import lru_cache
 from typing import Any
 
 from django.db import connections, models, router
+from django.utils import timezone
 
 from analyses.models.immutable import AppendOnlyQuerySet, ImmutableRowError
 
@@ -91,7 +92,7 @@ def _db_value(field: models.Field) -> Callable[[models.Model, Any], Any]:
         # an aware datetime goes as it is; a naive one takes Django's path (and its warning)
         def aware_as_is(obj: models.Model, connection: Any) -> Any:
             value = getattr(obj, attname)
-            if value is None or (type(value) is dt.datetime and value.tzinfo is not None):
+            if value is None or (type(value) is dt.datetime and timezone.is_aware(value)):
                 return value
             return prepared(obj, connection)
 

@@ -134,6 +134,8 @@ class _Term:
 
 def combine(terms: Sequence[_Term]) -> tuple[float, list[float]]:
     """u_c and each term's contribution |ci| u(xi), for independent inputs (GUM 5.1.2)."""
+    if not terms:
+        raise ValueError("a budget needs at least one term: no input has an uncertainty and the method no repeatability")
     contributions = [abs(term.sensitivity * term.u) for term in terms]
     return math.hypot(*contributions), contributions
 

@@ -16,7 +16,7 @@ from django.db import connection, transaction
 from django.test import RequestFactory
 
 from analyses.audit import GENESIS_HASH, audit_append, audit_chain_verify, json_safe
-from analyses.models import AuditAction, AuditEntry, ImmutableRowError, Product, TestState
+from analyses.models import AuditAction, AuditEntry, ImmutableRowError, Priority, Product, TestState
 from analyses.services.audit_anchors import audit_anchor_write
 from analyses.services.samples import sample_hold
 from tests.analyses.audit_setup import delete_last, move_head, tamper
@@ -199,10 +199,16 @@ def test_the_migration_gives_an_existing_chain_its_head(received_sample):
     assert audit_chain_verify().ok
 
 
+class _FloatKind(float):
+    """A float subclass, as a library might hand one over."""
+
+
 _plain_leaves = st.one_of(
     st.none(), st.booleans(), st.integers(), st.floats(allow_nan=True, allow_infinity=True), st.text(max_size=8),
     st.decimals(allow_nan=False, allow_infinity=False), st.datetimes(timezones=st.just(dt.UTC)), st.dates(), st.uuids(),
     st.sampled_from([AuditAction.CREATE, TestState.ASSIGNED]),  # str enums: plain strings once stored
+    st.sampled_from([Priority.URGENT, Priority.LOW]),  # int enums: plain ints once stored
+    st.floats(allow_nan=False).map(_FloatKind),  # a float subclass
 )
 _values = st.recursive(
     _plain_leaves,
@@ -210,6 +216,7 @@ _values = st.recursive(
         st.lists(inner, max_size=4), st.tuples(inner, inner),
         st.dictionaries(st.text(max_size=4), inner, max_size=4),
         st.dictionaries(st.integers(), inner, max_size=3),  # keys that JSON turns into strings
+        st.dictionaries(st.sampled_from([AuditAction.CREATE, TestState.ASSIGNED]), inner, max_size=2),  # str-enum keys
     ),
     max_leaves=12,
 )
@@ -232,7 +239,7 @@ def test_json_safe_gives_what_a_json_round_trip_gives(value):
 
 def _types(value):
     if isinstance(value, dict):
-        return {key: _types(item) for key, item in value.items()}
+        return {(type(key), key): _types(item) for key, item in value.items()}
     if isinstance(value, list):
         return [_types(item) for item in value]
     return type(value)

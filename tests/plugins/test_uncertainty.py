@@ -318,3 +318,11 @@ def test_combine_gives_what_the_uncertainties_package_propagates():
 
     assert combined == pytest.approx(y.std_dev, rel=1e-12)
     assert contributions == pytest.approx([abs(by_library.get(d, 0.0)) for d in deviations], rel=1e-12)
+
+
+def test_a_budget_without_terms_is_refused_not_zero():
+    """No input with an uncertainty and no repeatability: there is no budget, not u_c = 0."""
+    from plugins.uncertainty import combine
+
+    with pytest.raises(ValueError, match="at least one term"):
+        combine([])
