@@ -70,7 +70,7 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
 # pre_save reads the attribute and get_db_prep_save returns it as it is. Any other value, and
 # every other field (JSON, decimals, dates, custom fields), goes through Django's preparation.
 _SENT_AS_IS: dict[type[models.Field], type] = {
-    models.AutoField: int, models.BigAutoField: int, models.IntegerField: int, models.BigIntegerField: int,
+    models.IntegerField: int, models.BigIntegerField: int,
     models.SmallIntegerField: int, models.PositiveIntegerField: int, models.PositiveSmallIntegerField: int,
     models.PositiveBigIntegerField: int, models.ForeignKey: int, models.OneToOneField: int,
     models.CharField: str, models.TextField: str, models.BooleanField: bool, models.FloatField: float,

@@ -1,6 +1,7 @@
 """Page-numbered lists whose page size the client may choose (up to a bound)."""
 from collections.abc import Callable
 
+from django.db.models import QuerySet
 from rest_framework.pagination import PageNumberPagination
 
 from analyses.selectors.counts import list_count
@@ -17,18 +18,17 @@ class RowsOf:
     queryset because Django keeps in a COUNT(*) every join its lookups made (test to sample,
     lot, product, people...), which made counting 300,000 tests several times slower."""
 
-    def __init__(self, queryset, lookups: list[str], count: Callable[[], int | None] | None = None):
+    def __init__(self, queryset, lookups: list[str], count: Callable[[QuerySet], int] = list_count):
         self.queryset = queryset
         self.rows = queryset.prefetch_related(None).values(*lookups)
-        self._count = count  # the list's own count, where it has one faster than COUNT(*); None: COUNT(*)
+        self._count = count  # how the list counts its queryset (its view's ``row_count``)
 
     @property
     def ordered(self) -> bool:  # the paginator warns on an unordered list, as for a queryset
         return self.queryset.ordered
 
     def count(self) -> int:
-        counted = self._count() if self._count is not None else None
-        return list_count(self.queryset) if counted is None else counted
+        return self._count(self.queryset)
 
     def __len__(self) -> int:
         return self.count()

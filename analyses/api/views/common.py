@@ -4,6 +4,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import Any
 
+from django.db.models import QuerySet
 from rest_framework import serializers
 from rest_framework.generics import ListAPIView
 from rest_framework.request import Request
@@ -11,6 +12,7 @@ from rest_framework.response import Response
 
 from analyses.api.pagination import PageWithSize, RowsOf
 from analyses.api.serializers.rows import RowSerializer
+from analyses.selectors.counts import list_count
 
 
 def validated(serializer_class: type[serializers.Serializer], request: Request) -> dict[str, Any]:
@@ -30,11 +32,10 @@ class PagedListView(ListAPIView):
     # page is then read and rendered as rows, not model instances (see serializers/rows.py).
     rows_loader: Callable[[list[dict[str, Any]]], None] | None = None
 
-    def row_count(self) -> int | None:
-        # a list on the row path whose selector counts it faster than COUNT(*) over its
-        # queryset answers here, counting exactly the rows its filtered queryset holds
-        # (called only when the page is counted); None: COUNT(*)
-        return None
+    def row_count(self, queryset: QuerySet) -> int:
+        # how a list on the row path counts its filtered queryset (only when a page is counted);
+        # a view whose selector counts faster overrides it, counting exactly the same rows
+        return list_count(queryset)
 
     def list(self, request: Request, *args, **kwargs) -> Response:
         serializer_class = self.get_serializer_class()

@@ -130,8 +130,8 @@ class ReviewQueueView(PagedListView):
             return Test.objects.none()
         return _rows(review_queue(exclude_entered_by=self.request.user))
 
-    def row_count(self) -> int | None:
-        return review_queue_count(self.request.user)
+    def row_count(self, queryset) -> int:
+        return review_queue_count(self.request.user)  # the same rows as the queue's queryset, counted faster
 
 
 class TestAssignView(APIView):
