@@ -8,7 +8,9 @@ sample out again:
 
 - every source has a standing mean (not invalidated, not cancelled): the derived test gets one
   result from those means, exactly as written, entered by whoever completed the last source,
-  and waits for review; a new source mean supersedes that result with a new version;
+  and waits for review; a new source mean, or a source budget that changed under the same mean
+  (a replicate corrected to the same reading on other instruments), supersedes that result
+  with a new version;
 - a source mean was cleared: the derived result is invalidated, the test's mean cleared, and the
   test waits (pending) for the sources again.
 
@@ -20,9 +22,9 @@ from __future__ import annotations
 from collections.abc import Iterable
 from decimal import Decimal
 
-from analyses.audit import audit_append, created
+from analyses.audit import audit_append, created, json_safe
 from analyses.errors import Conflict
-from analyses.models import AuditAction, Result, ResultStatus, Test, TestState, TestUncertainty
+from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Test, TestState, TestUncertainty
 from analyses.services.access import Actor
 from analyses.services.result_trace import Trace
 from plugins.contract import MethodPlugin
@@ -79,7 +81,11 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
         feeds = {name: sources.get((test.sample_id, code)) for name, code in plugin.derived_from.items()}
         if all(feeds.values()):
             inputs = {name: str(Decimal(source.value_exact)) for name, source in feeds.items()}
-            if current is not None and current.inputs == inputs:
+            # the sources' budgets carry over, so a source corrected to the same mean with
+            # other instruments changes this result's budget, and perhaps its verdict
+            means = {name: (source, stored_means.get(source.pk)) for name, source in feeds.items()}
+            carried = SourceMeansBudget(budget_source(plugin), means)
+            if current is not None and current.inputs == inputs and _budget_unchanged(current, carried):
                 continue
             trace = Trace()
             outcome = method_outcome(plugin, test, inputs, trace)
@@ -94,8 +100,7 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             audit_append(actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS), reason=why,
                          lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
             # its budget, the sources' budgets carried over, and the verdict by the line's rule
-            means = {name: (source, stored_means.get(source.pk)) for name, source in feeds.items()}
-            result_uncertainty_record(result, aggregate, source=SourceMeansBudget(budget_source(plugin), means))
+            result_uncertainty_record(result, aggregate, source=carried)
             set_test_aggregate(actor, test, aggregate, reason=why)
             if test.state != TestState.RESULT_ENTERED:
                 _move(actor, test, TestState.RESULT_ENTERED, why)
@@ -109,6 +114,15 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             set_test_aggregate(actor, test, None, reason=why)
             _move(actor, test, TestState.PENDING, why)
             test.save()
+
+
+def _budget_unchanged(result: Result, carried) -> bool:
+    """Whether ``result``'s stored budget is the one ``carried`` (its sources' budgets now) gives."""
+    from analyses.services.uncertainty import budget_of
+
+    budget = budget_of(result, source=carried)
+    stored = ResultUncertainty.objects.filter(result=result).values_list("budget", flat=True).first()
+    return (None if budget is None else json_safe(budget.as_dict())) == stored
 
 
 def _stored_mean_budgets(tests: Iterable[Test]) -> dict[int, TestUncertainty]:

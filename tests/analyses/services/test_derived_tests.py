@@ -114,3 +114,43 @@ def test_totox_budget_carries_over_the_source_means_budgets(users, tests_):
     assert terms["anisidine_value"]["u"] == pytest.approx(anv.combined) and f"anv test {tests_['anv'].pk}" in terms["anisidine_value"]["basis"]
     # not the 1 % defaults the method falls back on without stored budgets
     assert terms["peroxide_value"]["u"] != pytest.approx(0.0502)
+
+
+def test_totox_follows_a_source_budget_that_changed_while_its_mean_did_not(users, tests_):
+    """A PV replicate corrected to the same reading on a coarser burette keeps the PV mean
+    (5.02) but widens its budget; TOTOX takes the new budget in a new version."""
+    from uncertainties import ufloat
+
+    from analyses.models import ResultUncertainty, TestUncertainty
+    from analyses.services.results import result_correct
+    from tests.factories import usable_instrument
+
+    _enter_sources(users, tests_)
+    first = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
+    narrow = TestUncertainty.objects.get(test=tests_["pv"]).combined
+    # invented: a burette whose calibration allows ten times the bench burette's tolerance
+    usable_instrument("BUR-COARSE", "burette", by=users["manager"], tolerance="0.3")
+    replicate = Result.objects.get(test=tests_["pv"], replicate=1, status=ResultStatus.CURRENT)
+    result_correct(users["analyst"], replicate, inputs=PV_LOW, reason="read again on the coarse burette",
+                   titrant_lot=PV_TRACE["titrant_lot"], instruments=["BAL-BENCH", "BUR-COARSE"])
+    pv = TestUncertainty.objects.get(test=tests_["pv"])
+    assert Decimal(_fresh(tests_["pv"]).value_exact) == Decimal("5.02") and pv.combined > narrow  # same mean, wider budget
+
+    totox = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
+    assert totox.version == first.version + 1 and totox.supersedes_id == first.pk
+    assert totox.inputs == first.inputs and "read again on the coarse burette" in totox.correction_reason
+    anv = TestUncertainty.objects.get(test=tests_["anv"])
+    # GUM 5.1.2 for 2 PV + AnV, worked by the uncertainties package (PyPI) from the new PV u_c
+    expected = (2 * ufloat(5.02, pv.combined) + ufloat(3.5, anv.combined)).std_dev
+    assert ResultUncertainty.objects.get(result=totox).combined == pytest.approx(expected, rel=1e-9)
+    assert TestUncertainty.objects.get(test=tests_["totox"]).combined == pytest.approx(expected, rel=1e-9)
+
+
+def test_totox_is_left_as_it_is_when_its_sources_did_not_change(users, tests_):
+    from analyses.services.derived_tests import derived_tests_refresh
+
+    _enter_sources(users, tests_)
+    first = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
+    derived_tests_refresh(users["analyst"], [_fresh(tests_["pv"]), _fresh(tests_["anv"])], reason="nothing changed")
+    assert list(Result.objects.filter(test=tests_["totox"]).values_list("pk", flat=True)) == [first.pk]
+    assert Result.objects.get(pk=first.pk).status == ResultStatus.CURRENT
