@@ -35,14 +35,11 @@ def _lookup(serializer: serializers.ModelSerializer, field: serializers.Field) -
     attrs = field.source_attrs
     for position, attr in enumerate(attrs):
         try:
-            model_field = model._meta.get_field(attr)
+            model_field = model._meta.get_field(attr)  # a key's attname too ("sample_id" gives the key)
         except FieldDoesNotExist:
-            model_field = next((f for f in model._meta.concrete_fields if f.attname == attr), None)
-            if model_field is None or position != len(attrs) - 1:
-                raise ImproperlyConfigured(
-                    f"{type(serializer).__name__}.{field.field_name}: {field.source!r} is not a column a row can give"
-                ) from None
-            break
+            raise ImproperlyConfigured(
+                f"{type(serializer).__name__}.{field.field_name}: {field.source!r} is not a column a row can give"
+            ) from None
         last = position == len(attrs) - 1
         if last:
             if not model_field.concrete or model_field.many_to_many or model_field.one_to_many:

@@ -69,7 +69,7 @@ class TestSerializer(RowSerializer):
         read_only_fields = fields
 
     # what the row methods read; mean_uncertainty is put on the row by the list's selector
-    row_extra_lookups = ("is_overdue", "due_on", "state", "sample__state", "sample__state_reason", *MEAN_UNCERTAINTY_LOOKUPS)
+    row_extra_lookups = ("is_overdue", "sample__state", "sample__state_reason", *MEAN_UNCERTAINTY_LOOKUPS)
     # people by subquery, not two joins of the user table (selectors.tests.with_usernames)
     row_columns = {"assignee": "assignee_username", "reviewed_by": "reviewed_by_username"}
 
@@ -92,11 +92,7 @@ class TestSerializer(RowSerializer):
         return row["mean_uncertainty"]
 
     def row_is_overdue(self, row: Row) -> bool:
-        annotated = row.get("is_overdue")
-        if annotated is not None:
-            return bool(annotated)
-        held = row["sample__state"] == SampleState.ON_HOLD
-        return row["state"] in OPEN_TEST_STATES and row["due_on"] < timezone.localdate() and not held
+        return bool(row["is_overdue"])  # every list of tests is annotated (selectors/tests.py)
 
     def row_hold_reason(self, row: Row) -> str | None:
         return row["sample__state_reason"] if row["sample__state"] == SampleState.ON_HOLD else None

@@ -119,3 +119,18 @@ class _MethodWithoutRow(RowSerializer):
 def test_a_field_a_row_cannot_give_exactly_is_refused(serializer_class):
     with pytest.raises(ImproperlyConfigured):
         serializer_class.row_lookups()
+
+
+class _KeyByAttname(RowSerializer):
+    lot_key = serializers.IntegerField(source="lot_id", read_only=True)
+
+    class Meta:
+        model = Sample
+        fields = ["id", "lot_key"]
+
+
+def test_a_key_named_by_its_attname_is_read_as_its_column(varied_tests):
+    assert _KeyByAttname.row_lookups() == ["id", "lot_id"]
+    instances = list(Sample.objects.order_by("pk"))
+    rows = list(Sample.objects.order_by("pk").values(*_KeyByAttname.row_lookups()))
+    assert _KeyByAttname(rows, many=True).data == _KeyByAttname(instances, many=True).data
