@@ -24,6 +24,7 @@ from analyses.models import AuditAction, AuditChainHead, AuditEntry
 from analyses.row_writes import rows_insert
 
 GENESIS_HASH = "0" * 64
+_ACTIONS = frozenset(AuditAction.values)
 
 
 def json_safe(value: Any) -> Any:
@@ -32,15 +33,19 @@ def json_safe(value: Any) -> Any:
     they are; anything else makes that round trip on its own. The round trip of every value
     was a fifth of appending an audit entry (issue 12)."""
     kind = type(value)
-    if kind is str or kind is int or kind is bool or value is None:
+    if kind in _LEAVES or value is None:
         return value
     if kind is float and math.isfinite(value):
         return value
+    # a plain leaf is kept without a call of its own: the calls were most of the time
     if kind is dict and all(type(key) is str for key in value):
-        return {key: json_safe(item) for key, item in value.items()}
+        return {key: item if type(item) in _LEAVES or item is None else json_safe(item) for key, item in value.items()}
     if kind is list or kind is tuple:
-        return [json_safe(item) for item in value]
+        return [item if type(item) in _LEAVES or item is None else json_safe(item) for item in value]
     return json.loads(json.dumps(value, cls=DjangoJSONEncoder))
+
+
+_LEAVES = frozenset({str, int, bool})  # exactly these types; a subclass (an enum) takes the round trip
 
 
 def canonical_content(
@@ -148,7 +153,7 @@ def audit_append_many(entries: Sequence[PendingEntry], *, bulk: bool = True) -> 
     The same chain as ``audit_append`` called for each in turn, in three queries instead of
     three per entry. Must run inside the caller's transaction."""
     for pending in entries:
-        if pending.action not in AuditAction.values:
+        if pending.action not in _ACTIONS:
             raise ValueError(f"unknown audit action {pending.action!r}")
     if not transaction.get_connection().in_atomic_block:
         raise RuntimeError("audit_append must run inside transaction.atomic()")
