@@ -588,9 +588,10 @@ class MethodPlugin:
                 return None
 
         with localcontext(exact_context()):
-            up, down, here = at(x + step), at(x - step), at(x)
+            up, down = at(x + step), at(x - step)
             if up is not None and down is not None:
                 return float((up - down) / (2 * step))
+            here = at(x)  # a one-sided difference, only where one side is out of the formula's range
             if up is not None and here is not None:
                 return float((up - here) / step)
             if down is not None and here is not None:

@@ -15,6 +15,7 @@ from hypothesis import strategies as st
 
 from plugins.acid import AcidValue
 from plugins.contract import (
+    MethodInputError,
     MethodPlugin,
     QuantityInput,
     WorkedExample,
@@ -188,3 +189,43 @@ def test_property_exact_limit_always_passes(titre_hundredths, concentration, lim
     for comparison in ("absolute", "rounding"):
         assert verdict_for(result.judged, minimum=None, maximum=limit, comparison=comparison) == "pass"
         assert verdict_for(result.judged, minimum=limit, maximum=None, comparison=comparison) == "pass"
+
+
+
+class _RootOnOneToThree(MethodPlugin):
+    """A test plugin: y = sqrt(x - 1), defined only for 1 <= x <= 3, so that a step of the
+    differences leaves the formula's domain at either end."""
+
+    code = "edgeroot"
+    title = "Edge root"
+    version = "1"
+    standards = ("none (test plugin)",)
+    inputs = (QuantityInput("sample_mass", "g", "Test portion", minimum=0.0),)
+    result_unit = "g"
+    decimals = 4
+    examples = (WorkedExample({"sample_mass": "2"}, expected=1.0, source="sqrt(1) = 1"),)
+
+    def compute(self, values):
+        x = values["sample_mass"]
+        if not 1 <= x <= 3:
+            raise MethodInputError("sample_mass", "outside the formula's domain")
+        return (x - 1).sqrt()
+
+
+@pytest.mark.parametrize(
+    "x, expected",
+    [
+        # d/dx sqrt(x - 1) = 1 / (2 sqrt(x - 1)) (calculus): 1 / (2 sqrt 0.5) inside the domain
+        ("1.5", 0.7071067811865476),
+        # at x = 3 the step up leaves the domain: the backward difference, 1 / (2 sqrt 2)
+        ("3", 0.3535533905932738),
+        # at x = 1 the step down leaves it: the forward difference over the step h = 1e-6 is
+        # sqrt(h) / h = 1000 (the derivative itself is unbounded there)
+        ("1", 1000.0),
+    ],
+    ids=["central", "backward", "forward"],
+)
+def test_a_sensitivity_takes_a_one_sided_difference_where_a_step_leaves_the_domain(x, expected):
+    plugin = _RootOnOneToThree()
+    coefficients = plugin.sensitivities(plugin.validate({"sample_mass": x}))
+    assert coefficients["sample_mass"] == pytest.approx(expected, rel=1e-5)
