@@ -243,3 +243,17 @@ def _types(value):
     if isinstance(value, list):
         return [_types(item) for item in value]
     return type(value)
+
+
+def test_awkward_text_in_a_bulk_append_is_stored_as_hashed(received_sample):
+    """Tabs, newlines, quotes, backslashes and non-ASCII text go through COPY (rows_insert):
+    what the database keeps must read back as the same values, and the chain must verify."""
+    from analyses.audit import PendingEntry, audit_append_many
+    from analyses.models import AuditEntry
+
+    awkward = {"note": [None, 'tab\\there "quoted" back\\\\slash\nnew line, µ ± ß, 😀'], "n": [1, 2.5e-7], "nested": [{}, {"k": [True, None]}]}
+    with transaction.atomic():
+        [entry] = audit_append_many([PendingEntry(None, AuditAction.CHANGE, received_sample, awkward, reason="ünïcode")])
+    stored = AuditEntry.objects.get(pk=entry.pk)
+    assert stored.changes == awkward == entry.changes and stored.reason == "ünïcode"
+    assert audit_chain_verify().ok
