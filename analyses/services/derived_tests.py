@@ -97,10 +97,11 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
                 current.save(update_fields=["status"])
                 result.version, result.supersedes, result.correction_reason = current.version + 1, current, why
             result.save(force_insert=True)
+            # its budget, the sources' budgets carried over, and the verdict by the line's rule;
+            # then its audit entry, which records the verdict so decided (as an entry's does)
+            result_uncertainty_record(result, aggregate, source=carried)
             audit_append(actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS), reason=why,
                          lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
-            # its budget, the sources' budgets carried over, and the verdict by the line's rule
-            result_uncertainty_record(result, aggregate, source=carried)
             set_test_aggregate(actor, test, aggregate, reason=why)
             if test.state != TestState.RESULT_ENTERED:
                 _move(actor, test, TestState.RESULT_ENTERED, why)
@@ -164,12 +165,12 @@ def derived_review_refusal(test: Test, *, sending_back: bool) -> Conflict | None
     return None
 
 
-def derived_entry_refusal(test: Test) -> Conflict | None:
-    """A derived test takes no entry by hand."""
+def derived_entry_refusal(test: Test, *, correcting: bool = False) -> Conflict | None:
+    """A derived test takes no entry, and no correction, by hand."""
     plugin = derived_methods().get(test.method_code)
     if plugin is None:
         return None
-    return Conflict(
-        f"test {test.pk} ({test.method_code}) is worked out from the sample's "
-        f"{' and '.join(plugin.derived_from.values())} results; it is not entered"
-    )
+    sources = " and ".join(plugin.derived_from.values())
+    if correcting:
+        return Conflict(f"test {test.pk} ({test.method_code}) is worked out from the sample's {sources} results; correct those instead")
+    return Conflict(f"test {test.pk} ({test.method_code}) is worked out from the sample's {sources} results; it is not entered")

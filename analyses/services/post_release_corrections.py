@@ -71,12 +71,13 @@ from analyses.services.result_trace import Trace, refuse_typed_titrant, trace_of
 from analyses.services.results import (
     AGGREGATE_FIELDS,
     check_may_enter,
-    exact_value,
     lock_test_row,
     method_outcome,
     new_result_fields,
     plugin_of_test,
+    refuse_derived_correction,
     replicate_aggregate,
+    replicate_values_with,
     result_created_changes,
     set_test_aggregate,
 )
@@ -129,7 +130,7 @@ def _apply(entered_by: Actor, actor: Actor, test: Test, old: Result, inputs: Map
     old.save(update_fields=["status", "status_reason"])
     refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
     audit_append(actor, AuditAction.TRANSITION, old, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]}, reason=reason, **refs)
-    values = [exact_value(r) for r in test.results.filter(status=ResultStatus.CURRENT)] + [outcome.judged]
+    values = replicate_values_with(test, old.replicate, outcome.judged)
     aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if len(values) == test.replicates else None
     fields = new_result_fields(entered_by, test, inputs, outcome, aggregate, trace)
     fields["entered_at"] = entered_at  # when the analyst entered the corrected data
@@ -170,6 +171,7 @@ def post_release_correction_propose(
     with transaction.atomic():
         lot, test, old = _locked(pk)
         _check_correctable(old, test, lot)
+        refuse_derived_correction(test)
         check_may_enter(actor, test)
         open_one = old.post_release_corrections.filter(state=CorrectionState.PROPOSED).first()
         if open_one is not None:

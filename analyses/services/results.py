@@ -176,10 +176,28 @@ def check_workable(test: Test) -> None:
     sample_require_workable(test.sample)
 
 
+def refuse_derived_correction(test: Test) -> None:
+    """A derived result (TOTOX) follows its sources; it is never corrected by hand."""
+    from analyses.services.derived_tests import derived_entry_refusal  # it builds on this module
+
+    refusal = derived_entry_refusal(test, correcting=True)
+    if refusal is not None:
+        raise refusal
+
+
 def exact_value(result: Result) -> Decimal:
     """The value a result is judged on: its exact decimal value, or for a row stored before
     exact values were kept, its float through the documented 15-digit guard."""
     return Decimal(result.value_exact) if result.value_exact else float_as_decimal(result.value)
+
+
+def replicate_values_with(test: Test, replicate: int, value: Decimal) -> list[Decimal]:
+    """The values of the test's current replicates in replicate order, with ``value`` as
+    replicate ``replicate`` (a correction's, its old result already superseded): the order an
+    entry of the same readings gives the mean's duplicate check."""
+    values = {r.replicate: exact_value(r) for r in test.results.filter(status=ResultStatus.CURRENT)}
+    values[replicate] = value
+    return [values[number] for number in sorted(values)]
 
 
 def replicate_aggregate(plugin: MethodPlugin, test: Test, values: list[Decimal], unit: str) -> dict[str, Any]:
@@ -447,6 +465,7 @@ def result_correct_once(
         old = fetch(Result, pk, lock=True)
         if old.status != ResultStatus.CURRENT:
             raise Conflict(f"result {old.pk} is {old.status}; only a current result can be corrected")
+        refuse_derived_correction(test)
         check_may_enter(actor, test)
         if test.state not in (*WORKABLE_TEST_STATES, TestState.RESULT_ENTERED):
             raise Conflict(f"test {test.pk} is {test.state}; its results can no longer be corrected")
@@ -471,8 +490,7 @@ def result_correct_once(
             actor, AuditAction.TRANSITION, old, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]},
             reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
         )
-        others = [exact_value(r) for r in test.results.filter(status=ResultStatus.CURRENT)]
-        values = others + [outcome.judged]
+        values = replicate_values_with(test, old.replicate, outcome.judged)
         complete = len(values) == test.replicates
         aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if complete else None
         correction = Result(

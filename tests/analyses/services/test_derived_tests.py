@@ -154,3 +154,52 @@ def test_totox_is_left_as_it_is_when_its_sources_did_not_change(users, tests_):
     derived_tests_refresh(users["analyst"], [_fresh(tests_["pv"]), _fresh(tests_["anv"])], reason="nothing changed")
     assert list(Result.objects.filter(test=tests_["totox"]).values_list("pk", flat=True)) == [first.pk]
     assert Result.objects.get(pk=first.pk).status == ResultStatus.CURRENT
+
+
+def test_a_totox_result_is_never_corrected_by_hand(users, tests_):
+    from analyses.services.results import result_correct
+
+    test_assign_bulk(users["manager"], [tests_["totox"]], assignee=users["analyst"])
+    _enter_sources(users, tests_)
+    current = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
+    with pytest.raises(Conflict, match="worked out from the sample's pv and anv results; correct those instead"):
+        result_correct(users["analyst"], current, inputs={"peroxide_value": "1", "anisidine_value": "1"}, reason="hand edit")
+    assert Decimal(_fresh(tests_["totox"]).value_exact) == Decimal("13.54")
+
+
+def test_the_audit_of_a_totox_result_records_the_verdict_its_line_decided(users):
+    """A guard band on the TOTOX line turns 13.54 with its U into out-of-specification against
+    a maximum of 13.6 (the limit is invented for the test); the result's audit entry must
+    record that verdict, not the simple comparison's pass."""
+    from analyses.models import AuditEntry
+
+    product = ProductFactory(code="TGB", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
+    draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
+        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"},
+        {"method": "totox", "maximum": "13.6", "decision_rule": "guard_band"},
+    ])
+    specification_approve(users["qa"], draft)
+    lot = lot_create(users["manager"], code="TGB-1", product=product, origin="production")
+    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TGB-1-A"), condition="sealed", storage_place="A")
+    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
+    test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
+    _enter_sources(users, tests)
+    result = Result.objects.get(test=tests["totox"], status=ResultStatus.CURRENT)
+    assert result.verdict == "oos"
+    [entry] = AuditEntry.objects.filter(object_type="analyses.result", object_id=str(result.pk), action="create")
+    assert entry.changes["verdict"] == [None, result.verdict]
+
+
+def test_a_released_totox_takes_no_post_release_correction(users, tests_):
+    from analyses.services.lots import lot_release
+    from analyses.services.post_release_corrections import post_release_correction_propose
+    from tests.factories import SIGNING_PASSWORD
+
+    test_assign_bulk(users["manager"], [tests_["totox"]], assignee=users["analyst"])
+    _enter_sources(users, tests_)
+    for code in ("pv", "anv", "totox"):
+        test_accept(users["analyst2"], _fresh(tests_[code]))
+    lot_release(users["qa"], _fresh(tests_["pv"]).sample.lot, password=SIGNING_PASSWORD)
+    current = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
+    with pytest.raises(Conflict, match="correct those instead"):
+        post_release_correction_propose(users["analyst"], current, inputs={"peroxide_value": "1", "anisidine_value": "1"}, reason="x")

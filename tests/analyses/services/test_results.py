@@ -246,6 +246,17 @@ def test_a_correction_is_a_new_version_and_the_old_one_stays(users, av):
     ]
 
 
+def test_a_corrected_first_replicate_keeps_its_place_in_the_duplicate_check(users, av):
+    """Correcting replicate 1 gives the mean's duplicate check the values in replicate order, as
+    entering the same readings does: 0.350625 then 0.35904 (ISO 660 formula, lab_setup)."""
+    analyst = users["analyst"]
+    first = result_record(analyst, av, inputs=AV_LOW_TWIN, **AV_TRACE)
+    result_record(analyst, av, inputs=AV_LOW_TWIN, **AV_TRACE)
+    result_correct(analyst, first, inputs=AV_LOW, reason="titre misread: 1.30 not 1.33")
+    av.refresh_from_db()
+    assert [str(v) for v in av.duplicate_check["values"]] == ["0.350625", "0.35904"]
+
+
 def test_a_correction_key_replays_only_the_same_correction(users, av):
     analyst = users["analyst"]
     first = result_record(analyst, av, inputs=AV_LOW, **AV_TRACE)
