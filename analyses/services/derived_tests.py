@@ -117,6 +117,28 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             test.save()
 
 
+def accepted_derived_tests_of(test: Test) -> list[Test]:
+    """The accepted derived tests of ``test``'s sample that take ``test``'s method (locked)."""
+    codes = [code for code, plugin in derived_methods().items() if test.method_code in plugin.derived_from.values()]
+    if not codes:
+        return []
+    return list(
+        Test.objects.select_for_update().select_related("sample", "specification_line")
+        .filter(sample_id=test.sample_id, method_code__in=codes, state=TestState.ACCEPTED).order_by("pk")
+    )
+
+
+def standing_sources_of(test: Test) -> list[Test]:
+    """For a derived test, the sample's tests its sources stand on now (locked); else none."""
+    plugin = derived_methods().get(test.method_code)
+    if plugin is None:
+        return []
+    codes = set(plugin.derived_from.values())
+    standing = _standing_sources({test.sample_id}, codes, {})
+    ids = sorted(source.pk for source in standing.values())
+    return list(Test.objects.select_for_update().select_related("sample", "specification_line").filter(pk__in=ids).order_by("pk"))
+
+
 def _budget_unchanged(result: Result, carried) -> bool:
     """Whether ``result``'s stored budget is the one ``carried`` (its sources' budgets now) gives."""
     from analyses.services.uncertainty import budget_of

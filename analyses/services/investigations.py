@@ -6,7 +6,10 @@ confirmed  the result stands: the lot is rejected (its open samples rejected, op
 lab_error  the accepted test is invalidated with its results (kept, marked invalidated),
            and a retest is created: a NEW pending test on the same sample and
            specification line, with ``retest_of`` pointing at the invalidated one, for the
-           manager to assign. The sample returns to in_testing.
+           manager to assign. The sample returns to in_testing. A derived test (TOTOX) is
+           retested with the tests of its sources, and an accepted derived test worked out
+           from the invalidated one is retested with it: its retest is worked out again once
+           its sources' retests have their means.
 
 On a released lot, ``confirmed`` is refused (it would change nothing); such an
 investigation closes with ``no_action`` or ``hold_notice`` (``services/post_release.py``).
@@ -36,7 +39,7 @@ from analyses.models import (
 from analyses.services.access import Actor, fetch, require_permission, required_text
 from analyses.services.certificates import lot_specification_versions
 from analyses.services.cross_checks import cross_checks_refresh_partners
-from analyses.services.derived_tests import derived_tests_refresh
+from analyses.services.derived_tests import accepted_derived_tests_of, derived_tests_refresh, standing_sources_of
 from analyses.services.lots import lot_reject_locked
 from analyses.services.post_release import (
     POST_RELEASE_CONCLUSIONS,
@@ -50,7 +53,13 @@ from analyses.services.samples import TEST_FIELDS
 from analyses.services.transitions import FINAL_SAMPLE_STATES, lot_takes_work, record_test_move, sample_sync
 
 
-def _retest(actor: Actor, test: Test, findings: str) -> Test:
+def _retest(actor: Actor, test: Test, findings: str, cascaded: list[tuple[Test, Test]], *, with_sources: bool = True) -> Test:
+    """Invalidate ``test`` and its results and create its retest. A derived test (TOTOX) found
+    in lab error is nothing but its sources, so their standing tests are retested with it
+    (``with_sources``); an accepted derived test worked out from ``test`` is retested too, as it
+    stands on invalidated results, but not its other sources. Each such (test, retest) pair is
+    added to ``cascaded``. A derived retest is worked out again once its sources stand again
+    (services/derived_tests.py)."""
     for result in test.results.select_for_update().filter(status=ResultStatus.CURRENT):
         result.status = ResultStatus.INVALIDATED
         result.status_reason = f"lab error: {findings}"
@@ -64,6 +73,9 @@ def _retest(actor: Actor, test: Test, findings: str) -> Test:
     # an invalidated result is no partner of a cross-check any more (services/cross_checks.py)
     cross_checks_refresh_partners(actor, test, reason=f"test {test.pk} invalidated (lab error)")
     derived_tests_refresh(actor, [test], reason=f"test {test.pk} invalidated (lab error)")
+    for derived in accepted_derived_tests_of(test):
+        why = f"worked out from {test.method_code} test {test.pk}, invalidated: {findings}"
+        cascaded.append((derived, _retest_with_investigations(actor, derived, why, cascaded, with_sources=False)))
     retest = Test.objects.create(
         sample=test.sample,
         specification_line=test.specification_line,
@@ -78,6 +90,22 @@ def _retest(actor: Actor, test: Test, findings: str) -> Test:
         actor, AuditAction.CREATE, retest, created(retest, TEST_FIELDS),
         reason=f"retest of test {test.pk} after lab error", lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
     )
+    for source in standing_sources_of(test) if with_sources else ():
+        why = f"{test.method_code} test {test.pk} is worked out from it: {findings}"
+        cascaded.append((source, _retest_with_investigations(actor, source, why, cascaded)))
+    return retest
+
+
+def _retest_with_investigations(actor: Actor, test: Test, findings: str, cascaded: list[tuple[Test, Test]], **options) -> Test:
+    """``_retest`` of a test retested along with another, closing its own open investigations
+    (an OOS it showed) as lab errors for the same reason: they would otherwise block release."""
+    retest = _retest(actor, test, findings, cascaded, **options)
+    for investigation in Investigation.objects.select_for_update().filter(test=test, state=InvestigationState.OPEN).order_by("pk"):
+        investigation.test = test
+        investigation_record_close(
+            actor, investigation, conclusion=Conclusion.LAB_ERROR, findings=findings, retest=retest,
+            effect=f"test {test.pk} invalidated; retest {retest.pk} created on sample {test.sample.label}",
+        )
     return retest
 
 
@@ -130,9 +158,12 @@ def investigation_close(
             if test.sample.state in FINAL_SAMPLE_STATES:
                 raise Conflict(f"sample {test.sample.label} is {test.sample.state}; a retest is no longer possible")
             Test.objects.select_for_update().get(pk=test.pk)
-            retest = _retest(actor, test, findings)
+            cascaded: list[tuple[Test, Test]] = []
+            retest = _retest(actor, test, findings, cascaded)
         if retest is not None:
             effect = f"test {test.pk} invalidated; retest {retest.pk} created on sample {test.sample.label}"
+            if cascaded:
+                effect += "; with it " + ", ".join(f"{old.method_code} test {old.pk} (retest {new.pk})" for old, new in cascaded)
         elif lot.state == LotState.OPEN:
             effect = f"lot {lot.code} is now rejected"
         else:  # a lot rejected meanwhile: the conclusion is recorded, the lot is as it was

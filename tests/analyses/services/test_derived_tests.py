@@ -203,3 +203,79 @@ def test_a_released_totox_takes_no_post_release_correction(users, tests_):
     current = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
     with pytest.raises(Conflict, match="correct those instead"):
         post_release_correction_propose(users["analyst"], current, inputs={"peroxide_value": "1", "anisidine_value": "1"}, reason="x")
+
+
+# PV by AOCS Cd 8b-90 (lab_setup formula): (30.05 - 0.05) x 0.002 x 1000 / 5.0 = 12.0 and
+# (30.15 - 0.05) x ... = 12.04, mean 12.02: above the Codex refined-oil limit of 10 meq/kg
+PV_HIGH = {"sample_mass": "5.0", "sample_volume": "30.05", "blank_volume": "0.05"}
+PV_HIGH_TWIN = {"sample_mass": "5.0", "sample_volume": "30.15", "blank_volume": "0.05"}
+
+
+def _accept_all(users, tests):
+    for code in ("pv", "anv", "totox"):
+        test_accept(users["analyst2"], _fresh(tests[code]))
+
+
+def test_a_source_found_in_lab_error_takes_the_accepted_totox_with_it(users, tests_):
+    """PV 12.02 is OOS; QA finds a lab error. The accepted TOTOX (2 x 12.02 + 3.5 = 27.54) stood
+    on the invalidated PV: it is retested too, and its retest is worked out from the PV retest
+    (2 x 5.02 + 3.5 = 13.54)."""
+    from analyses.models import Conclusion, Investigation
+    from analyses.services.investigations import investigation_close
+
+    for inputs in (PV_HIGH, PV_HIGH_TWIN):
+        result_record(users["analyst"], tests_["pv"], inputs=inputs, **PV_TRACE)
+    for _ in range(2):
+        result_record(users["analyst"], tests_["anv"], **entry("anv", ANV_INPUTS))
+    assert Decimal(_fresh(tests_["totox"]).value_exact) == Decimal("27.54")
+    _accept_all(users, tests_)
+    closed = investigation_close(users["qa"], Investigation.objects.get(test=tests_["pv"]), conclusion=Conclusion.LAB_ERROR,
+                                 findings="burette misread")
+    old_totox = _fresh(tests_["totox"])
+    assert old_totox.state == TestState.INVALIDATED
+    assert Result.objects.get(test=old_totox).status == ResultStatus.INVALIDATED
+    totox_retest = Test.objects.get(retest_of=old_totox)
+    assert totox_retest.state == TestState.PENDING and f"totox test {old_totox.pk} (retest {totox_retest.pk})" in closed.effect
+    # TOTOX 27.54 was out of its maximum of 26 too: its investigation closes with the PV's
+    totox_investigation = Investigation.objects.get(test=old_totox)
+    assert totox_investigation.conclusion == Conclusion.LAB_ERROR and totox_investigation.retest == totox_retest
+    assert f"pv test {tests_['pv'].pk}, invalidated: burette misread" in totox_investigation.findings
+
+    pv_retest = Test.objects.get(retest_of=tests_["pv"])
+    test_assign_bulk(users["manager"], [pv_retest], assignee=users["analyst"])
+    for inputs in (PV_LOW, PV_LOW_TWIN):
+        result_record(users["analyst"], pv_retest, inputs=inputs, **PV_TRACE)
+    totox_retest = _fresh(totox_retest)
+    assert totox_retest.state == TestState.RESULT_ENTERED and Decimal(totox_retest.value_exact) == Decimal("13.54")
+    assert Decimal(_fresh(tests_["anv"]).value_exact) == Decimal("3.5") and _fresh(tests_["anv"]).state == TestState.ACCEPTED
+    assert not Investigation.objects.filter(test__sample=pv_retest.sample, state="open").exists()
+
+
+def test_a_totox_found_in_lab_error_is_retested_with_its_sources(users):
+    """TOTOX 13.54 above an invented maximum of 10 opens an investigation; a lab error in TOTOX
+    is one in the PV or AnV it is worked out from, so both are retested with it, and the TOTOX
+    retest is worked out from their retests instead of waiting forever."""
+    from analyses.models import Conclusion, Investigation
+    from analyses.services.investigations import investigation_close
+
+    product = ProductFactory(code="TLE", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
+    draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
+        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"}, {"method": "totox", "maximum": "10"},
+    ])
+    specification_approve(users["qa"], draft)
+    lot = lot_create(users["manager"], code="TLE-1", product=product, origin="production")
+    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TLE-1-A"), condition="sealed", storage_place="A")
+    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
+    test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
+    _enter_sources(users, tests)
+    _accept_all(users, tests)
+    investigation_close(users["qa"], Investigation.objects.get(test=tests["totox"]), conclusion=Conclusion.LAB_ERROR,
+                        findings="anisidine reagent found contaminated")
+    assert {code: _fresh(tests[code]).state for code in tests} == {code: TestState.INVALIDATED for code in tests}
+    retests = {code: Test.objects.get(retest_of=tests[code]) for code in tests}
+    assert all(retest.state == TestState.PENDING for retest in retests.values())
+
+    test_assign_bulk(users["manager"], [retests["pv"], retests["anv"]], assignee=users["analyst"])
+    _enter_sources(users, retests)
+    totox = _fresh(retests["totox"])
+    assert totox.state == TestState.RESULT_ENTERED and Decimal(totox.value_exact) == Decimal("13.54")
