@@ -53,9 +53,11 @@ def _standing_sources(sample_ids: set[int], codes: set[str], given: dict[int, Te
     return latest
 
 
-def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -> None:
-    """Work out again the derived tests fed by ``tests`` (whose means were just set or cleared).
-    Runs inside the caller's transaction."""
+def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str, accepted: bool = False) -> list[Test]:
+    """Work out again the derived tests fed by ``tests`` (whose means were just set or cleared);
+    the derived tests given a new result. With ``accepted``, the accepted ones instead (a source
+    corrected after release, approved by QA: they stay accepted with their new result). Runs
+    inside the caller's transaction."""
     from analyses.services.results import RESULT_FIELDS, method_outcome, new_result_fields, replicate_aggregate, set_test_aggregate
     from analyses.services.uncertainty import SourceMeansBudget, budget_source, result_uncertainty_record
 
@@ -63,16 +65,17 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
     feeding = {code for plugin in methods.values() for code in plugin.derived_from.values()}
     given = {test.pk: test for test in tests if test.method_code in feeding}
     if not given:
-        return
+        return []
     sample_ids = {test.sample_id for test in given.values()}
     derived = list(
         Test.objects.select_for_update()
         .select_related("sample__lot__product", "specification_line")
-        .filter(sample_id__in=sample_ids, method_code__in=methods, state__in=FOLLOWING)
+        .filter(sample_id__in=sample_ids, method_code__in=methods, state__in=(TestState.ACCEPTED,) if accepted else FOLLOWING)
         .order_by("pk")
     )
     if not derived:
-        return
+        return []
+    renewed = []
     sources = _standing_sources(sample_ids, feeding, given)
     stored_means = _stored_mean_budgets(sources.values())
     for test in derived:
@@ -103,10 +106,11 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             audit_append(actor, AuditAction.CREATE, result, created(result, RESULT_FIELDS), reason=why,
                          lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
             set_test_aggregate(actor, test, aggregate, reason=why)
-            if test.state != TestState.RESULT_ENTERED:
+            if test.state not in (TestState.RESULT_ENTERED, TestState.ACCEPTED):
                 _move(actor, test, TestState.RESULT_ENTERED, why)
             test.save()
-        elif current is not None:
+            renewed.append(test)
+        elif current is not None and not accepted:
             why = f"a source mean was withdrawn: {reason}"
             current.status, current.status_reason = ResultStatus.INVALIDATED, why
             current.save(update_fields=["status", "status_reason"])
@@ -115,6 +119,7 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str) -
             set_test_aggregate(actor, test, None, reason=why)
             _move(actor, test, TestState.PENDING, why)
             test.save()
+    return renewed
 
 
 def accepted_derived_tests_of(test: Test) -> list[Test]:

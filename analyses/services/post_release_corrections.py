@@ -27,6 +27,10 @@ correction puts out of specification is applied (the certificate already lists s
 as "outside the limits but not release-critical") and opens an OOS investigation on the lot,
 as at acceptance.
 
+An accepted derived test worked out from the corrected one (TOTOX from PV and AnV) gets its new
+result in the same transaction, stays accepted, and is held to the same two refusals; the
+reissued certificate shows it.
+
 The correction keeps what the result was measured with (titrant lot, standardisation,
 instruments): after release it corrects what was written down or worked out, not a new
 measurement, which would be a new test.
@@ -66,6 +70,7 @@ from analyses.services.access import (
     required_text,
 )
 from analyses.services.certificates import certificate_reissue_locked
+from analyses.services.derived_tests import derived_tests_refresh
 from analyses.services.release import RELEASE_KINDS
 from analyses.services.result_trace import Trace, refuse_typed_titrant, trace_of, trace_save
 from analyses.services.results import (
@@ -93,6 +98,7 @@ INVESTIGATION_FIELDS = ("lot", "test", "state")
 class Applied:
     correction: Result
     test: Test
+    derived: list[Test]  # accepted tests worked out from it (TOTOX), with their new results
 
 
 def _check_correctable(result: Result, test: Test, lot: Lot) -> None:
@@ -139,10 +145,13 @@ def _apply(entered_by: Actor, actor: Actor, test: Test, old: Result, inputs: Map
     trace_save(correction, trace)
     result_uncertainty_record(correction, aggregate)  # its budget; the verdicts by the line's decision rule
     audit_append(actor, AuditAction.CREATE, correction, result_created_changes(correction, trace), reason=reason, **refs)
+    derived: list[Test] = []
     if aggregate is not None:
-        set_test_aggregate(actor, test, aggregate, reason=f"result {old.pk} corrected after release: {reason}")
+        why = f"result {old.pk} corrected after release: {reason}"
+        set_test_aggregate(actor, test, aggregate, reason=why)
         test.save(update_fields=list(AGGREGATE_FIELDS))
-    return Applied(correction, test)
+        derived = derived_tests_refresh(actor, [test], reason=why, accepted=True)
+    return Applied(correction, test, derived)
 
 
 def _locked(result_id: int) -> tuple[Lot, Test, Result]:
@@ -266,8 +275,9 @@ def post_release_correction_approve(
         _check_correctable(old, test, lot)
         _four_eyes(actor, proposal)
         applied = _apply(proposal.proposed_by, actor, test, old, proposal.inputs, proposal.reason, proposal.proposed_at)
-        _refuse_unacceptable(applied.test, proposal)
-        _open_investigation(actor, applied.test)
+        for corrected in (applied.test, *applied.derived):
+            _refuse_unacceptable(corrected, proposal)
+            _open_investigation(actor, corrected)
         replaced = lot.certificates.order_by("-version").first()
         certificate = certificate_reissue_locked(actor, lot, reason=f"{REISSUE_REASON}: {proposal.reason}")
         meaning = (

@@ -279,3 +279,60 @@ def test_a_totox_found_in_lab_error_is_retested_with_its_sources(users):
     _enter_sources(users, retests)
     totox = _fresh(retests["totox"])
     assert totox.state == TestState.RESULT_ENTERED and Decimal(totox.value_exact) == Decimal("13.54")
+
+
+def test_a_source_corrected_after_release_reissues_the_certificate_with_the_new_totox(users, tests_):
+    """PV replicate 1 corrected after release from 12.5 mL to 13.0 mL: PV (13.0 - 0.05) x 0.002 x
+    1000 / 5.0 = 5.18, mean (5.18 + 5.06) / 2 = 5.12 (AOCS Cd 8b-90 formula, lab_setup), so TOTOX
+    = 2 x 5.12 + 3.5 = 13.74, reported 13.7 (definition, shared/references.md)."""
+    from analyses.models import Certificate
+    from analyses.services.lots import lot_release
+    from analyses.services.post_release_corrections import post_release_correction_approve, post_release_correction_propose
+    from tests.factories import SIGNING_PASSWORD
+
+    _enter_sources(users, tests_)
+    _accept_all(users, tests_)
+    lot = _fresh(tests_["pv"]).sample.lot
+    lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
+    first = Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT)
+    replicate = Result.objects.get(test=tests_["pv"], replicate=1, status=ResultStatus.CURRENT)
+    proposal = post_release_correction_propose(
+        users["analyst"], replicate, inputs={**PV_LOW, "sample_volume": "13.0"}, reason="titre misread: 13.0 not 12.5"
+    )
+    assert Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT) == first  # the preview was rolled back
+    post_release_correction_approve(users["qa"], proposal, password=SIGNING_PASSWORD)
+
+    totox = _fresh(tests_["totox"])
+    assert totox.state == TestState.ACCEPTED and Decimal(totox.value_exact) == Decimal("13.74") and totox.reported == "13.7"
+    renewed = Result.objects.get(test=totox, status=ResultStatus.CURRENT)
+    assert renewed.supersedes == first and "corrected after release" in renewed.correction_reason
+    certificate = Certificate.objects.filter(lot=lot).order_by("-version").first()
+    shown = {row["method"]: row["reported"] for row in certificate.content["results"]}
+    assert certificate.version == 2 and shown["pv"] == "5.1" and shown["totox"] == "13.7"
+
+
+def test_a_correction_after_release_that_puts_a_critical_totox_out_is_refused(users):
+    """TOTOX 2 x 5.12 + 3.5 = 13.74 against an invented release-critical maximum of 13.6: the
+    correction of the PV would make the certificate state a conformity that no longer holds."""
+    from analyses.errors import Conflict as Refused
+    from analyses.services.lots import lot_release
+    from analyses.services.post_release_corrections import post_release_correction_approve, post_release_correction_propose
+    from tests.factories import SIGNING_PASSWORD
+
+    product = ProductFactory(code="TPR", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
+    draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
+        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"}, {"method": "totox", "maximum": "13.6"},
+    ])
+    specification_approve(users["qa"], draft)
+    lot = lot_create(users["manager"], code="TPR-1", product=product, origin="production")
+    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TPR-1-A"), condition="sealed", storage_place="A")
+    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
+    test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
+    _enter_sources(users, tests)
+    _accept_all(users, tests)
+    lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
+    replicate = Result.objects.get(test=tests["pv"], replicate=1, status=ResultStatus.CURRENT)
+    proposal = post_release_correction_propose(users["analyst"], replicate, inputs={**PV_LOW, "sample_volume": "13.0"}, reason="typo")
+    with pytest.raises(Refused, match="totox result 13.7 .* is out of specification"):
+        post_release_correction_approve(users["qa"], proposal, password=SIGNING_PASSWORD)
+    assert Decimal(_fresh(tests["totox"]).value_exact) == Decimal("13.54") and Decimal(_fresh(tests["pv"]).value_exact) == Decimal("5.02")
