@@ -17,17 +17,20 @@ if TYPE_CHECKING:
 
 # pandas, numpy and the statistics are imported inside the functions: the URLconf imports this module.
 
-RESULT_COLUMNS = ["test_id", "method_code", "value", "condition_id", "temperature_c", "light", "lot", "months", "pull_id"]
+RESULT_COLUMNS = [
+    "test_id", "method_code", "value", "condition_id", "temperature_c", "light", "lot", "months", "pull_id", "value_exact",
+]
 
 
 def study_results(study: StabilityStudy) -> pd.DataFrame:
-    """Accepted results of the study's pulls, one row per test."""
+    """Accepted results of the study's pulls, one row per test (``value`` for the fits,
+    ``value_exact`` for judging against the limits)."""
     import pandas as pd
 
     rows = Test.objects.filter(sample__pull_point__study=study, state=TestState.ACCEPTED, value__isnull=False).values_list(
         "id", "method_code", "value", "sample__pull_point__condition_id", "sample__pull_point__condition__temperature_c",
         "sample__pull_point__condition__light", "sample__pull_point__lot__code", "sample__pull_point__elapsed_months",
-        "sample__pull_point__id",
+        "sample__pull_point__id", "value_exact",
     )
     return pd.DataFrame.from_records(list(rows), columns=RESULT_COLUMNS)
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict
+from decimal import Decimal
 from typing import TYPE_CHECKING, Any
 
 from analyses.errors import InvalidInput
@@ -28,11 +29,13 @@ if TYPE_CHECKING:
 # functions: the URLconf imports this module through the stability services.
 
 
-def _beyond(value: float, attribute) -> bool:
-    """Whether a pull result is beyond the attribute's limits, decided in decimal arithmetic
-    (both through the documented 15-digit guard), so a result at the limit is at it."""
-    return (attribute.maximum is not None and float_as_decimal(value) > float_as_decimal(attribute.maximum)) or (
-        attribute.minimum is not None and float_as_decimal(value) < float_as_decimal(attribute.minimum)
+def _beyond(value_exact: str, value: float, attribute) -> bool:
+    """Whether a pull result is beyond the attribute's limits, decided in decimal arithmetic on
+    the value its test is judged on (``pull_judging.test_verdict``): its exact decimal, or for a
+    test stored before exact values were kept, its float through the documented 15-digit guard."""
+    exact = Decimal(value_exact) if value_exact else float_as_decimal(value)
+    return (attribute.maximum is not None and exact > float_as_decimal(attribute.maximum)) or (
+        attribute.minimum is not None and exact < float_as_decimal(attribute.minimum)
     )
 
 
@@ -185,7 +188,7 @@ def study_evaluation(study: StabilityStudy) -> tuple[dict[str, Any], list[AlertD
                 method_code=attribute.method_code, product_id=study.product_id, study_id=study.pk,
             ))
         for row in rows.itertuples(index=False):
-            if _beyond(row.value, attribute):
+            if _beyond(row.value_exact, row.value, attribute):
                 drafts.append(AlertDraft(
                     source=AlertSource.STABILITY, rule="pull_out_of_limit", series_key=f"stability:{study.code}",
                     episode_key=f"stability:{study.code}|pull_out_of_limit|test{row.test_id}",

@@ -81,3 +81,25 @@ def test_a_failed_pull_does_not_block_the_release_of_an_open_lot(users, lot, ass
     test = enter_duplicates(users["analyst"], av_pull(users, lot, maximum=0.6), AV_HIGH, AV_HIGH_TWIN)
     test_accept(users["analyst2"], test)
     assert released(users, lot, assigned_tests).state == LotState.RELEASED
+
+
+def test_the_evaluation_judges_a_pull_on_the_exact_value_its_verdict_used(users, lot):
+    """A titre of 1.3000000000000000001 mL gives AV 0.3506250000000000000280..., whose float is
+    0.350625 exactly the study's limit (lab_setup's ISO 660 formula, worked by hand). The
+    pull's verdict is decided on the exact value: beyond the limit; the evaluation must agree,
+    not find the float at the limit."""
+    from decimal import Decimal
+
+    from analyses.selectors.stability import study_results
+    from analyses.services.stability_evaluation import _beyond
+    from plugins.contract import float_as_decimal
+
+    just_above = {**AV_LOW, "sample_volume": "1.3000000000000000001"}
+    test = enter_duplicates(users["analyst"], av_pull(users, lot, maximum=0.350625), just_above, just_above)
+    assert test.verdict == Verdict.OUT_OF_SPECIFICATION
+    test_accept(users["analyst2"], test)
+    pull = PullPoint.objects.select_related("study").get(sample_id=test.sample_id)
+    [row] = list(study_results(pull.study).itertuples(index=False))
+    attribute = pull.study.attributes.get(method_code="av")
+    assert Decimal(row.value_exact) > Decimal("0.350625") and float_as_decimal(row.value) == Decimal("0.350625")
+    assert _beyond(row.value_exact, row.value, attribute)
