@@ -89,6 +89,13 @@ class ResultSerializer(serializers.ModelSerializer):
             "titrant_uncertainty", "instruments", "components", "input_warnings",
         ]
         read_only_fields = fields
+        extra_kwargs = {
+            "duplicate_check": {
+                "help_text": "The replicates' duplicate check as it stood when this result completed its test, kept "
+                "with the result; null for a result that did not complete it. A later correction of another "
+                "replicate leaves it as it was: the test's own duplicate_check is the current one."
+            },
+        }
 
     @extend_schema_field(serializers.ListField(child=serializers.CharField()))
     def get_input_warnings(self, result: Result) -> list[str]:
