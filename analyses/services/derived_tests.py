@@ -53,11 +53,14 @@ def _standing_sources(sample_ids: set[int], codes: set[str], given: dict[int, Te
     return latest
 
 
-def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str, accepted: bool = False) -> list[Test]:
+def derived_tests_refresh(
+    actor: Actor, tests: Iterable[Test], *, reason: str, accepted: bool = False, entered_by: Actor | None = None
+) -> list[Test]:
     """Work out again the derived tests fed by ``tests`` (whose means were just set or cleared);
     the derived tests given a new result. With ``accepted``, the accepted ones instead (a source
-    corrected after release, approved by QA: they stay accepted with their new result). Runs
-    inside the caller's transaction."""
+    corrected after release, approved by QA: they stay accepted with their new result). A new
+    result is entered by ``entered_by`` (default ``actor``: whoever completed the source), and
+    every change is audited under ``actor``. Runs inside the caller's transaction."""
     from analyses.services.results import RESULT_FIELDS, method_outcome, new_result_fields, replicate_aggregate, set_test_aggregate
     from analyses.services.uncertainty import SourceMeansBudget, budget_source, result_uncertainty_record
 
@@ -94,10 +97,12 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str, a
             outcome = method_outcome(plugin, test, inputs, trace)
             aggregate = replicate_aggregate(plugin, test, [outcome.judged], outcome.unit)
             why = f"worked out from {', '.join(f'{source.method_code} test {source.pk}' for source in feeds.values())}: {reason}"
-            result = Result(replicate=1, **new_result_fields(actor, test, inputs, outcome, aggregate, trace))
+            result = Result(replicate=1, **new_result_fields(entered_by or actor, test, inputs, outcome, aggregate, trace))
             if current is not None:
-                current.status = ResultStatus.SUPERSEDED
-                current.save(update_fields=["status"])
+                current.status, current.status_reason = ResultStatus.SUPERSEDED, why
+                current.save(update_fields=["status", "status_reason"])
+                audit_append(actor, AuditAction.TRANSITION, current, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]},
+                             reason=why, lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
                 result.version, result.supersedes, result.correction_reason = current.version + 1, current, why
             result.save(force_insert=True)
             # its budget, the sources' budgets carried over, and the verdict by the line's rule;
@@ -123,25 +128,43 @@ def derived_tests_refresh(actor: Actor, tests: Iterable[Test], *, reason: str, a
 
 
 def accepted_derived_tests_of(test: Test) -> list[Test]:
-    """The accepted derived tests of ``test``'s sample that take ``test``'s method (locked)."""
-    codes = [code for code, plugin in derived_methods().items() if test.method_code in plugin.derived_from.values()]
+    """The accepted derived tests of ``test``'s sample whose current result was worked out from
+    ``test``'s mean (locked)."""
+    if not test.value_exact:
+        return []
+    inputs_of = {
+        code: [name for name, source in plugin.derived_from.items() if source == test.method_code]
+        for code, plugin in derived_methods().items()
+    }
+    codes = [code for code, names in inputs_of.items() if names]
     if not codes:
         return []
-    return list(
-        Test.objects.select_for_update().select_related("sample", "specification_line")
+    mean = str(Decimal(test.value_exact))
+    candidates = (
+        Test.objects.select_for_update(of=("self",)).select_related("sample", "specification_line")
         .filter(sample_id=test.sample_id, method_code__in=codes, state=TestState.ACCEPTED).order_by("pk")
     )
+    found = []
+    for derived in candidates:
+        current = derived.results.filter(status=ResultStatus.CURRENT).first()
+        if current is not None and any(current.inputs.get(name) == mean for name in inputs_of[derived.method_code]):
+            found.append(derived)
+    return found
 
 
 def standing_sources_of(test: Test) -> list[Test]:
-    """For a derived test, the sample's tests its sources stand on now (locked); else none."""
+    """For a derived test, the accepted tests of the sample its sources stand on now (locked);
+    else none. A derived test is accepted only after them, so a TOTOX under investigation has
+    them all."""
     plugin = derived_methods().get(test.method_code)
     if plugin is None:
         return []
     codes = set(plugin.derived_from.values())
     standing = _standing_sources({test.sample_id}, codes, {})
-    ids = sorted(source.pk for source in standing.values())
-    return list(Test.objects.select_for_update().select_related("sample", "specification_line").filter(pk__in=ids).order_by("pk"))
+    ids = sorted(source.pk for source in standing.values() if source.state == TestState.ACCEPTED)
+    return list(
+        Test.objects.select_for_update(of=("self",)).select_related("sample", "specification_line").filter(pk__in=ids).order_by("pk")
+    )
 
 
 def _budget_unchanged(result: Result, carried) -> bool:

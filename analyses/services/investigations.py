@@ -53,13 +53,16 @@ from analyses.services.samples import TEST_FIELDS
 from analyses.services.transitions import FINAL_SAMPLE_STATES, lot_takes_work, record_test_move, sample_sync
 
 
-def _retest(actor: Actor, test: Test, findings: str, cascaded: list[tuple[Test, Test]], *, with_sources: bool = True) -> Test:
-    """Invalidate ``test`` and its results and create its retest. A derived test (TOTOX) found
-    in lab error is nothing but its sources, so their standing tests are retested with it
-    (``with_sources``); an accepted derived test worked out from ``test`` is retested too, as it
-    stands on invalidated results, but not its other sources. Each such (test, retest) pair is
-    added to ``cascaded``. A derived retest is worked out again once its sources stand again
-    (services/derived_tests.py)."""
+def _retest(
+    actor: Actor, test: Test, findings: str, cascaded: list[tuple[Test, Test]], *, cause: int, with_sources: bool = True
+) -> Test:
+    """Invalidate ``test`` and its results and create its retest, for investigation ``cause``.
+    A derived test (TOTOX) found in lab error is nothing but its sources, so their accepted
+    tests are retested with it (``with_sources``; ``investigation_close`` has made sure none has
+    an open investigation of its own); an accepted derived test worked out from ``test`` is
+    retested too, as it stands on invalidated results, but not its other sources. Each such
+    (test, retest) pair is added to ``cascaded``. A derived retest is worked out again once its
+    sources stand again (services/derived_tests.py)."""
     for result in test.results.select_for_update().filter(status=ResultStatus.CURRENT):
         result.status = ResultStatus.INVALIDATED
         result.status_reason = f"lab error: {findings}"
@@ -74,8 +77,8 @@ def _retest(actor: Actor, test: Test, findings: str, cascaded: list[tuple[Test, 
     cross_checks_refresh_partners(actor, test, reason=f"test {test.pk} invalidated (lab error)")
     derived_tests_refresh(actor, [test], reason=f"test {test.pk} invalidated (lab error)")
     for derived in accepted_derived_tests_of(test):
-        why = f"worked out from {test.method_code} test {test.pk}, invalidated: {findings}"
-        cascaded.append((derived, _retest_with_investigations(actor, derived, why, cascaded, with_sources=False)))
+        why = f"worked out from {test.method_code} test {test.pk}, found in lab error by investigation {cause}: {findings}"
+        cascaded.append((derived, _retest_with_investigations(actor, derived, why, cascaded, cause=cause, with_sources=False)))
     retest = Test.objects.create(
         sample=test.sample,
         specification_line=test.specification_line,
@@ -91,9 +94,23 @@ def _retest(actor: Actor, test: Test, findings: str, cascaded: list[tuple[Test, 
         reason=f"retest of test {test.pk} after lab error", lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
     )
     for source in standing_sources_of(test) if with_sources else ():
-        why = f"{test.method_code} test {test.pk} is worked out from it: {findings}"
-        cascaded.append((source, _retest_with_investigations(actor, source, why, cascaded)))
+        why = f"{test.method_code} test {test.pk}, worked out from it, found in lab error by investigation {cause}: {findings}"
+        cascaded.append((source, _retest(actor, source, why, cascaded, cause=cause)))
     return retest
+
+
+def _sources_under_investigation(test: Test) -> Conflict | None:
+    """A lab error in a derived test retests its sources' tests: refused while one of them has
+    an open investigation of its own, which QA concludes first (a lab error there retests the
+    derived test with it)."""
+    sources = standing_sources_of(test)
+    waiting = Investigation.objects.filter(test__in=sources, state=InvestigationState.OPEN).select_related("test").order_by("pk")
+    for investigation in waiting:
+        return Conflict(
+            f"{investigation.test.method_code} test {investigation.test_id}, which {test.method_code} test {test.pk} is worked "
+            f"out from, has its own open investigation {investigation.pk}; conclude that one first"
+        )
+    return None
 
 
 def _retest_with_investigations(actor: Actor, test: Test, findings: str, cascaded: list[tuple[Test, Test]], **options) -> Test:
@@ -158,12 +175,16 @@ def investigation_close(
             if test.sample.state in FINAL_SAMPLE_STATES:
                 raise Conflict(f"sample {test.sample.label} is {test.sample.state}; a retest is no longer possible")
             Test.objects.select_for_update().get(pk=test.pk)
+            refusal = _sources_under_investigation(test)
+            if refusal is not None:
+                raise refusal
             cascaded: list[tuple[Test, Test]] = []
-            retest = _retest(actor, test, findings, cascaded)
+            retest = _retest(actor, test, findings, cascaded, cause=investigation.pk)
         if retest is not None:
             effect = f"test {test.pk} invalidated; retest {retest.pk} created on sample {test.sample.label}"
             if cascaded:
-                effect += "; with it " + ", ".join(f"{old.method_code} test {old.pk} (retest {new.pk})" for old, new in cascaded)
+                with_it = sorted(cascaded, key=lambda pair: pair[0].pk)
+                effect += "; with it " + ", ".join(f"{old.method_code} test {old.pk} (retest {new.pk})" for old, new in with_it)
         elif lot.state == LotState.OPEN:
             effect = f"lot {lot.code} is now rejected"
         else:  # a lot rejected meanwhile: the conclusion is recorded, the lot is as it was

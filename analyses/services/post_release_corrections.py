@@ -150,7 +150,7 @@ def _apply(entered_by: Actor, actor: Actor, test: Test, old: Result, inputs: Map
         why = f"result {old.pk} corrected after release: {reason}"
         set_test_aggregate(actor, test, aggregate, reason=why)
         test.save(update_fields=list(AGGREGATE_FIELDS))
-        derived = derived_tests_refresh(actor, [test], reason=why, accepted=True)
+        derived = derived_tests_refresh(actor, [test], reason=why, accepted=True, entered_by=entered_by)
     return Applied(correction, test, derived)
 
 

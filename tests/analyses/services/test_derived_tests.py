@@ -239,7 +239,7 @@ def test_a_source_found_in_lab_error_takes_the_accepted_totox_with_it(users, tes
     # TOTOX 27.54 was out of its maximum of 26 too: its investigation closes with the PV's
     totox_investigation = Investigation.objects.get(test=old_totox)
     assert totox_investigation.conclusion == Conclusion.LAB_ERROR and totox_investigation.retest == totox_retest
-    assert f"pv test {tests_['pv'].pk}, invalidated: burette misread" in totox_investigation.findings
+    assert f"pv test {tests_['pv'].pk}, found in lab error by investigation {closed.pk}: burette misread" in totox_investigation.findings
 
     pv_retest = Test.objects.get(retest_of=tests_["pv"])
     test_assign_bulk(users["manager"], [pv_retest], assignee=users["analyst"])
@@ -285,7 +285,7 @@ def test_a_source_corrected_after_release_reissues_the_certificate_with_the_new_
     """PV replicate 1 corrected after release from 12.5 mL to 13.0 mL: PV (13.0 - 0.05) x 0.002 x
     1000 / 5.0 = 5.18, mean (5.18 + 5.06) / 2 = 5.12 (AOCS Cd 8b-90 formula, lab_setup), so TOTOX
     = 2 x 5.12 + 3.5 = 13.74, reported 13.7 (definition, shared/references.md)."""
-    from analyses.models import Certificate
+    from analyses.models import AuditEntry, Certificate
     from analyses.services.lots import lot_release
     from analyses.services.post_release_corrections import post_release_correction_approve, post_release_correction_propose
     from tests.factories import SIGNING_PASSWORD
@@ -306,6 +306,13 @@ def test_a_source_corrected_after_release_reissues_the_certificate_with_the_new_
     assert totox.state == TestState.ACCEPTED and Decimal(totox.value_exact) == Decimal("13.74") and totox.reported == "13.7"
     renewed = Result.objects.get(test=totox, status=ResultStatus.CURRENT)
     assert renewed.supersedes == first and "corrected after release" in renewed.correction_reason
+    # worked out from the data the analyst corrected, not entered by QA; every change audited under QA
+    assert renewed.entered_by == users["analyst"]
+    first.refresh_from_db()
+    assert first.status == ResultStatus.SUPERSEDED and "corrected after release" in first.status_reason
+    superseded = AuditEntry.objects.get(object_type="analyses.result", object_id=str(first.pk), action="transition")
+    assert superseded.changes == {"status": ["current", "superseded"]} and superseded.actor == users["qa"]
+    assert AuditEntry.objects.get(object_type="analyses.result", object_id=str(renewed.pk), action="create").actor == users["qa"]
     certificate = Certificate.objects.filter(lot=lot).order_by("-version").first()
     shown = {row["method"]: row["reported"] for row in certificate.content["results"]}
     assert certificate.version == 2 and shown["pv"] == "5.1" and shown["totox"] == "13.7"
@@ -336,3 +343,23 @@ def test_a_correction_after_release_that_puts_a_critical_totox_out_is_refused(us
     with pytest.raises(Refused, match="totox result 13.7 .* is out of specification"):
         post_release_correction_approve(users["qa"], proposal, password=SIGNING_PASSWORD)
     assert Decimal(_fresh(tests["totox"]).value_exact) == Decimal("13.54") and Decimal(_fresh(tests["pv"]).value_exact) == Decimal("5.02")
+
+
+def test_a_totox_lab_error_waits_for_a_sources_own_investigation(users, tests_):
+    """PV 12.02 is out of specification with its own investigation; QA may not conclude a lab
+    error on the TOTOX (2 x 12.02 + 3.5 = 27.54, above 26) that would throw the PV out with it:
+    the PV's investigation is concluded first. Nothing is written."""
+    from analyses.models import Conclusion, Investigation
+    from analyses.services.investigations import investigation_close
+
+    for inputs in (PV_HIGH, PV_HIGH_TWIN):
+        result_record(users["analyst"], tests_["pv"], inputs=inputs, **PV_TRACE)
+    for _ in range(2):
+        result_record(users["analyst"], tests_["anv"], **entry("anv", ANV_INPUTS))
+    _accept_all(users, tests_)
+    pv_investigation = Investigation.objects.get(test=tests_["pv"])
+    with pytest.raises(Conflict, match=f"has its own open investigation {pv_investigation.pk}; conclude that one first"):
+        investigation_close(users["qa"], Investigation.objects.get(test=tests_["totox"]), conclusion=Conclusion.LAB_ERROR,
+                            findings="x")
+    assert {code: _fresh(tests_[code]).state for code in tests_} == {code: TestState.ACCEPTED for code in tests_}
+    assert Investigation.objects.filter(state="open").count() == 2
