@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass
+from decimal import Decimal
 from typing import TYPE_CHECKING, Any
 
 from django.db.models import QuerySet
@@ -80,6 +81,7 @@ def attribute_changes(
             out[condition_id] = significant_change(
                 subset["months"], subset["value"], subset["lot"].tolist(), initial,
                 minimum=attribute.minimum, maximum=attribute.maximum, amount=attribute.significant_change,
+                exact=[Decimal(text) if text else None for text in subset["value_exact"]],
             )
     return out
 

@@ -35,6 +35,7 @@ from __future__ import annotations
 
 from collections.abc import Hashable, Sequence
 from dataclasses import dataclass, field
+from decimal import Decimal
 from typing import Literal
 
 import numpy as np
@@ -129,25 +130,30 @@ def significant_change(
     minimum: float | None,
     maximum: float | None,
     amount: float | None,
+    exact: Sequence[Decimal | None] | None = None,
 ) -> SignificantChange:
     """For an edible oil: a result beyond the acceptance limits (Q1A(R2), "failure to meet
     its specification", found), or a change from the lot's initial value larger than the
     study's ``amount`` for the attribute (the oil's counterpart of Q1A's "5 % change in
-    assay"; either direction). Results at the initial time itself do not count."""
+    assay"; either direction). Results at the initial time itself do not count. ``exact``:
+    each value as its test is judged on (its exact decimal), where known, for the limits."""
     t, y = finite_vector(times, "times", 1), finite_vector(values, "values", 1)
     same_length("values", y, len(t))
     lot = [str(x) for x in lots]
     same_length("lots", np.asarray(lot, dtype=object), len(t))
+    judged = list(exact) if exact is not None else [None] * len(t)
+    same_length("exact values", np.asarray(judged, dtype=object), len(t))
     if amount is not None and not amount > 0:
         raise InvalidInput.for_field("significant_change", "must be above 0")
     found: list[tuple[float, str]] = []
-    for ti, yi, li in sorted(zip(t, y, lot)):
+    for ti, yi, li, ei in sorted(zip(t, y, lot, judged), key=lambda row: row[:3]):
         start, start_value = initial.get(li, (0.0, None))
         if ti <= start:
             continue
-        # decided in decimal arithmetic through the documented 15-digit guard: a result at a
-        # limit, or a change of exactly the amount, is not beyond it
-        value = float_as_decimal(yi)
+        # decided in decimal arithmetic, on the exact value where known, else through the
+        # documented 15-digit guard: a result at a limit, or a change of exactly the amount,
+        # is not beyond it
+        value = ei if ei is not None else float_as_decimal(yi)
         if maximum is not None and value > float_as_decimal(maximum):
             found.append((ti, f"lot {li} at {ti:g} months: {yi:.4g} is above the limit {maximum:g}"))
         elif minimum is not None and value < float_as_decimal(minimum):

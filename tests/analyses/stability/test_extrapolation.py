@@ -221,3 +221,18 @@ def test_a_change_of_exactly_the_amount_or_a_result_at_the_limit_is_not_signific
     assert not change_at([4.3, 5.0, 6.0, 7.3, 7.3]).found
     # PV 10.000000000000002 is 4.97 x 0.01 x 1000 / 4.97 in floats; exactly the limit 10 on paper
     assert not change_at([1.0, 2.0, 3.0, 4.0, 10.000000000000002], amount=None).found
+
+
+def test_a_result_beyond_the_limit_only_past_fifteen_digits_counts_when_its_exact_value_is_given():
+    """PV 10.0000000000000000001 (an exact value a pull's verdict is decided on) has the float
+    10.0, at the limit: beyond it on the exact value, not on the float alone."""
+    from decimal import Decimal
+
+    values = [1.0, 1.8, 2.9, 3.9, 10.0]
+    lots = ["N1"] * len(MONTHS)
+    initial = initial_values(MONTHS, values, lots)
+    exact = [None, None, None, None, Decimal("10.0000000000000000001")]
+    on_float = significant_change(MONTHS, values, lots, initial, minimum=None, maximum=PV_LIMIT, amount=None)
+    on_exact = significant_change(MONTHS, values, lots, initial, minimum=None, maximum=PV_LIMIT, amount=None, exact=exact)
+    assert not on_float.found
+    assert (on_exact.found, on_exact.first_months) == (True, 6.0) and "above the limit 10" in on_exact.reasons[0]
