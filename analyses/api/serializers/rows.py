@@ -41,6 +41,10 @@ def _lookup(serializer: serializers.ModelSerializer, field: serializers.Field) -
                 f"{type(serializer).__name__}.{field.field_name}: {field.source!r} is not a column a row can give"
             ) from None
         last = position == len(attrs) - 1
+        if attr != model_field.name and not last:  # a key's attname is a number: nothing to cross
+            raise ImproperlyConfigured(
+                f"{type(serializer).__name__}.{field.field_name}: {field.source!r} is not a column a row can give"
+            )
         if last:
             if not model_field.concrete or model_field.many_to_many or model_field.one_to_many:
                 raise ImproperlyConfigured(f"{type(serializer).__name__}.{field.field_name}: {field.source!r} is not a column")

@@ -115,7 +115,16 @@ class _MethodWithoutRow(RowSerializer):
         return sample.label.upper()
 
 
-@pytest.mark.parametrize("serializer_class", [_CrossesANullableRelation, _ReadsAProperty, _MethodWithoutRow])
+class _CrossesAnAttname(RowSerializer):
+    # "lot_id" is the key's number: an instance has no lot_id.code to read
+    lot_code = serializers.CharField(source="lot_id.code", read_only=True)
+
+    class Meta:
+        model = Sample
+        fields = ["id", "lot_code"]
+
+
+@pytest.mark.parametrize("serializer_class", [_CrossesANullableRelation, _ReadsAProperty, _MethodWithoutRow, _CrossesAnAttname])
 def test_a_field_a_row_cannot_give_exactly_is_refused(serializer_class):
     with pytest.raises(ImproperlyConfigured):
         serializer_class.row_lookups()
