@@ -30,6 +30,11 @@ class PostReleaseCorrection(models.Model):
     verdict = models.CharField(
         max_length=8, blank=True, help_text="the test's verdict with the correction, by the line's decision rule"
     )
+    derived = models.JSONField(
+        default=list, blank=True,
+        help_text="the accepted tests worked out from this one (TOTOX) with the correction: "
+        '[{"test", "method_code", "reported", "unit", "verdict"}]',
+    )
     state = models.CharField(max_length=10, choices=CorrectionState.choices, default=CorrectionState.PROPOSED)
     proposed_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+")
     proposed_at = models.DateTimeField()

@@ -29,7 +29,7 @@ as at acceptance.
 
 An accepted derived test worked out from the corrected one (TOTOX from PV and AnV) gets its new
 result in the same transaction, stays accepted, and is held to the same two refusals; the
-reissued certificate shows it.
+proposal's preview shows it (``derived``), and the reissued certificate does.
 
 The correction keeps what the result was measured with (titrant lot, standardisation,
 instruments): after release it corrects what was written down or worked out, not a new
@@ -89,7 +89,7 @@ from analyses.services.results import (
 from analyses.services.signatures import signature_confirm
 from analyses.services.uncertainty import result_uncertainty_record
 
-CORRECTION_FIELDS = ("lot", "result", "inputs", "reason", "reported", "unit", "mean_reported", "verdict", "state")
+CORRECTION_FIELDS = ("lot", "result", "inputs", "reason", "reported", "unit", "mean_reported", "verdict", "derived", "state")
 REISSUE_REASON = "result correction"
 INVESTIGATION_FIELDS = ("lot", "test", "state")
 
@@ -192,6 +192,10 @@ def post_release_correction_propose(
                 "unit": applied.correction.unit,
                 "mean_reported": applied.test.reported,
                 "verdict": applied.test.verdict,
+                "derived": [
+                    {"test": t.pk, "method_code": t.method_code, "reported": t.reported, "unit": t.unit, "verdict": t.verdict}
+                    for t in applied.derived
+                ],
             }
             transaction.set_rollback(True)
         old.refresh_from_db()

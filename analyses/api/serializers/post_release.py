@@ -11,6 +11,16 @@ from analyses.models import CorrectionState, PostReleaseCorrection, Verdict
 CorrectionStateField = enum_field_class("PostReleaseCorrectionStateEnum", CorrectionState.choices)
 
 
+class DerivedPreviewSerializer(serializers.Serializer):
+    """An accepted test worked out from the corrected one (TOTOX), as the correction would leave it."""
+
+    test = serializers.IntegerField()
+    method_code = serializers.CharField()
+    reported = serializers.CharField()
+    unit = serializers.CharField()
+    verdict = VerdictField(choices=Verdict.choices)
+
+
 class PostReleaseCorrectionSerializer(serializers.ModelSerializer):
     """A correction of a released lot's result: the corrected raw inputs, what they give, and
     QA's decision; once applied, the new version of the result and the certificate reissued."""
@@ -30,6 +40,11 @@ class PostReleaseCorrectionSerializer(serializers.ModelSerializer):
         choices=Verdict.choices, read_only=True, allow_null=True,
         help_text="The test's verdict with the correction, by its line's decision rule",
     )
+    derived = DerivedPreviewSerializer(
+        many=True, read_only=True,
+        help_text="The accepted tests worked out from this one (TOTOX from PV and AnV) as the correction leaves them; "
+        "held to the same refusals at approval",
+    )
     state = CorrectionStateField(choices=CorrectionState.choices, read_only=True)
     proposed_by = username_field("proposed_by")
     decided_by = username_field("decided_by")
@@ -42,7 +57,7 @@ class PostReleaseCorrectionSerializer(serializers.ModelSerializer):
         model = PostReleaseCorrection
         fields = [
             "id", "lot", "lot_code", "result", "test", "method_code", "replicate", "inputs", "reason", "reported_before",
-            "reported", "unit", "mean_reported", "verdict", "state", "proposed_by", "proposed_at", "decided_by",
+            "reported", "unit", "mean_reported", "verdict", "derived", "state", "proposed_by", "proposed_at", "decided_by",
             "decided_at", "decision_note", "correction", "certificate",
         ]
         read_only_fields = fields

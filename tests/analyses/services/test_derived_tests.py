@@ -300,6 +300,11 @@ def test_a_source_corrected_after_release_reissues_the_certificate_with_the_new_
         users["analyst"], replicate, inputs={**PV_LOW, "sample_volume": "13.0"}, reason="titre misread: 13.0 not 12.5"
     )
     assert Result.objects.get(test=tests_["totox"], status=ResultStatus.CURRENT) == first  # the preview was rolled back
+    # the proposal shows QA what the TOTOX would become, as the API gives it
+    from analyses.api.serializers.post_release import PostReleaseCorrectionSerializer
+
+    expected = [{"test": tests_["totox"].pk, "method_code": "totox", "reported": "13.7", "unit": first.unit, "verdict": "pass"}]
+    assert proposal.derived == expected and PostReleaseCorrectionSerializer(proposal).data["derived"] == expected
     post_release_correction_approve(users["qa"], proposal, password=SIGNING_PASSWORD)
 
     totox = _fresh(tests_["totox"])
