@@ -458,6 +458,12 @@ def float_as_decimal(value: float) -> Decimal:
     return Decimal(f"{float(value):.{FLOAT_DIGITS}g}")
 
 
+def stored_exact(exact: str, value: float) -> Decimal:
+    """A stored result as it is judged: its exact decimal text, or for a row stored before
+    exact values were kept (``exact`` empty), its float through :func:`float_as_decimal`."""
+    return Decimal(exact) if exact else float_as_decimal(value)
+
+
 def round_half_even(value: Decimal | float, decimals: int) -> Decimal:
     """ASTM E29 rounding: half to even (so 21.45 -> 21.4 at 1 place).
 

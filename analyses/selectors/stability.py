@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass
-from decimal import Decimal
 from typing import TYPE_CHECKING, Any
 
 from django.db.models import QuerySet
@@ -10,6 +9,7 @@ from django.db.models import QuerySet
 from analyses.errors import InvalidInput, NotFound
 from analyses.models import PullPoint, StabilityStudy, StudyAttribute, Test, TestState
 from analyses.selectors.series_names import method_names
+from plugins.contract import stored_exact
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -81,7 +81,7 @@ def attribute_changes(
             out[condition_id] = significant_change(
                 subset["months"], subset["value"], subset["lot"].tolist(), initial,
                 minimum=attribute.minimum, maximum=attribute.maximum, amount=attribute.significant_change,
-                exact=[Decimal(text) if text else None for text in subset["value_exact"]],
+                exact=[stored_exact(text, value) for text, value in zip(subset["value_exact"], subset["value"])],
             )
     return out
 

@@ -61,7 +61,9 @@ def derived_tests_refresh(
     corrected after release, approved by QA: they stay accepted with their new result). A new
     result is entered by ``entered_by`` (default ``actor``: whoever completed the source), and
     every change is audited under ``actor``. Runs inside the caller's transaction."""
-    from analyses.services.results import RESULT_FIELDS, method_outcome, new_result_fields, replicate_aggregate, set_test_aggregate
+    from analyses.services.results import (
+        RESULT_FIELDS, method_outcome, new_result_fields, replicate_aggregate, result_retire, set_test_aggregate,
+    )
     from analyses.services.uncertainty import SourceMeansBudget, budget_source, result_uncertainty_record
 
     methods = derived_methods()
@@ -99,10 +101,7 @@ def derived_tests_refresh(
             why = f"worked out from {', '.join(f'{source.method_code} test {source.pk}' for source in feeds.values())}: {reason}"
             result = Result(replicate=1, **new_result_fields(entered_by or actor, test, inputs, outcome, aggregate, trace))
             if current is not None:
-                current.status, current.status_reason = ResultStatus.SUPERSEDED, why
-                current.save(update_fields=["status", "status_reason"])
-                audit_append(actor, AuditAction.TRANSITION, current, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]},
-                             reason=why, lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
+                result_retire(actor, current, ResultStatus.SUPERSEDED, reason=why, test=test)
                 result.version, result.supersedes, result.correction_reason = current.version + 1, current, why
             result.save(force_insert=True)
             # its budget, the sources' budgets carried over, and the verdict by the line's rule;
@@ -117,10 +116,7 @@ def derived_tests_refresh(
             renewed.append(test)
         elif current is not None and not accepted:
             why = f"a source mean was withdrawn: {reason}"
-            current.status, current.status_reason = ResultStatus.INVALIDATED, why
-            current.save(update_fields=["status", "status_reason"])
-            audit_append(actor, AuditAction.TRANSITION, current, {"status": [ResultStatus.CURRENT, ResultStatus.INVALIDATED]},
-                         reason=why, lot_ref=test.sample.lot_id, sample_ref=test.sample_id)
+            result_retire(actor, current, ResultStatus.INVALIDATED, reason=why, test=test)
             set_test_aggregate(actor, test, None, reason=why)
             _move(actor, test, TestState.PENDING, why)
             test.save()
@@ -221,6 +217,5 @@ def derived_entry_refusal(test: Test, *, correcting: bool = False) -> Conflict |
     if plugin is None:
         return None
     sources = " and ".join(plugin.derived_from.values())
-    if correcting:
-        return Conflict(f"test {test.pk} ({test.method_code}) is worked out from the sample's {sources} results; correct those instead")
-    return Conflict(f"test {test.pk} ({test.method_code}) is worked out from the sample's {sources} results; it is not entered")
+    worked_out = f"test {test.pk} ({test.method_code}) is worked out from the sample's {sources} results"
+    return Conflict(f"{worked_out}; correct those instead" if correcting else f"{worked_out}; it is not entered")

@@ -84,6 +84,7 @@ from analyses.services.results import (
     replicate_aggregate,
     replicate_values_with,
     result_created_changes,
+    result_retire,
     set_test_aggregate,
 )
 from analyses.services.signatures import signature_confirm
@@ -131,11 +132,8 @@ def _apply(entered_by: Actor, actor: Actor, test: Test, old: Result, inputs: Map
     plugin = plugin_of_test(test)
     trace = _kept_trace(test, old, inputs)
     outcome = method_outcome(plugin, test, inputs, trace)
-    old.status = ResultStatus.SUPERSEDED
-    old.status_reason = reason
-    old.save(update_fields=["status", "status_reason"])
+    result_retire(actor, old, ResultStatus.SUPERSEDED, reason=reason, test=test)
     refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
-    audit_append(actor, AuditAction.TRANSITION, old, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]}, reason=reason, **refs)
     values = replicate_values_with(test, old.replicate, outcome.judged)
     aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if len(values) == test.replicates else None
     fields = new_result_fields(entered_by, test, inputs, outcome, aggregate, trace)

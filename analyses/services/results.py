@@ -67,8 +67,8 @@ from plugins.contract import (
     MethodPlugin,
     MethodResult,
     exact_context,
-    float_as_decimal,
     split_parameter,
+    stored_exact,
 )
 from plugins.registry import UnknownMethod, get_registry
 
@@ -176,6 +176,17 @@ def check_workable(test: Test) -> None:
     sample_require_workable(test.sample)
 
 
+def result_retire(actor: Actor, result: Result, status: str, *, reason: str, test: Test) -> None:
+    """Take a current result of ``test`` out of use: superseded by a new version, or
+    invalidated; ``reason`` kept on it and audited."""
+    result.status, result.status_reason = status, reason
+    result.save(update_fields=["status", "status_reason"])
+    audit_append(
+        actor, AuditAction.TRANSITION, result, {"status": [ResultStatus.CURRENT, status]},
+        reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
+    )
+
+
 def refuse_derived_correction(test: Test) -> None:
     """A derived result (TOTOX) follows its sources; it is never corrected by hand."""
     from analyses.services.derived_tests import derived_entry_refusal  # it builds on this module
@@ -188,7 +199,7 @@ def refuse_derived_correction(test: Test) -> None:
 def exact_value(result: Result) -> Decimal:
     """The value a result is judged on: its exact decimal value, or for a row stored before
     exact values were kept, its float through the documented 15-digit guard."""
-    return Decimal(result.value_exact) if result.value_exact else float_as_decimal(result.value)
+    return stored_exact(result.value_exact, result.value)
 
 
 def replicate_values_with(test: Test, replicate: int, value: Decimal) -> list[Decimal]:
@@ -483,13 +494,7 @@ def result_correct_once(
                 now=timezone.now(),
             )
         outcome = method_outcome(plugin, test, inputs, trace)
-        old.status = ResultStatus.SUPERSEDED
-        old.status_reason = reason
-        old.save(update_fields=["status", "status_reason"])
-        audit_append(
-            actor, AuditAction.TRANSITION, old, {"status": [ResultStatus.CURRENT, ResultStatus.SUPERSEDED]},
-            reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
-        )
+        result_retire(actor, old, ResultStatus.SUPERSEDED, reason=reason, test=test)
         values = replicate_values_with(test, old.replicate, outcome.judged)
         complete = len(values) == test.replicates
         aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if complete else None

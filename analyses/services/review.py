@@ -19,7 +19,7 @@ from analyses.services.derived_tests import derived_review_refusal
 from analyses.services.follow_up import test_accepted_follow_up
 from analyses.services.post_release import post_release_investigation_open
 from analyses.services.pull_judging import pull_failure_alert, study_attribute_of
-from analyses.services.results import AGGREGATE_FIELDS, lock_test_row, set_test_aggregate
+from analyses.services.results import AGGREGATE_FIELDS, lock_test_row, result_retire, set_test_aggregate
 from analyses.services.transitions import record_test_move, sample_require_workable, sample_sync
 from labcore.metrics import OOS_OPENED, count_on_commit
 
@@ -93,13 +93,7 @@ def test_send_back(actor: Actor, test: Test | int, *, reason: str) -> Test:
         test = lock_test_row(test)
         _reviewable(actor, test, sending_back=True)
         for result in test.results.select_for_update().filter(status=ResultStatus.CURRENT):
-            result.status = ResultStatus.INVALIDATED
-            result.status_reason = reason
-            result.save(update_fields=["status", "status_reason"])
-            audit_append(
-                actor, AuditAction.TRANSITION, result, {"status": [ResultStatus.CURRENT, ResultStatus.INVALIDATED]},
-                reason=reason, lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
-            )
+            result_retire(actor, result, ResultStatus.INVALIDATED, reason=reason, test=test)
         set_test_aggregate(actor, test, None, reason=reason)
         record_test_move(actor, test, TestState.SENT_BACK, reason=reason)
         test.review_note = reason

@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict
-from decimal import Decimal
 from typing import TYPE_CHECKING, Any
 
 from analyses.errors import InvalidInput
@@ -18,7 +17,7 @@ from analyses.models import AlertSource, StabilityStudy
 from analyses.selectors.stability import study_extrapolation, study_results
 from analyses.services.alert_texts import stability_alert_message
 from analyses.services.alerts import AlertDraft
-from plugins.contract import float_as_decimal
+from plugins.contract import float_as_decimal, stored_exact
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -33,7 +32,7 @@ def _beyond(value_exact: str, value: float, attribute) -> bool:
     """Whether a pull result is beyond the attribute's limits, decided in decimal arithmetic on
     the value its test is judged on (``pull_judging.test_verdict``): its exact decimal, or for a
     test stored before exact values were kept, its float through the documented 15-digit guard."""
-    exact = Decimal(value_exact) if value_exact else float_as_decimal(value)
+    exact = stored_exact(value_exact, value)
     return (attribute.maximum is not None and exact > float_as_decimal(attribute.maximum)) or (
         attribute.minimum is not None and exact < float_as_decimal(attribute.minimum)
     )

@@ -34,14 +34,13 @@ def _lookup(serializer: serializers.ModelSerializer, field: serializers.Field) -
     model = serializer.Meta.model
     attrs = field.source_attrs
     for position, attr in enumerate(attrs):
+        last = position == len(attrs) - 1
         try:
             model_field = model._meta.get_field(attr)  # a key's attname too ("sample_id" gives the key)
         except FieldDoesNotExist:
-            raise ImproperlyConfigured(
-                f"{type(serializer).__name__}.{field.field_name}: {field.source!r} is not a column a row can give"
-            ) from None
-        last = position == len(attrs) - 1
-        if attr != model_field.name and not last:  # a key's attname is a number: nothing to cross
+            model_field = None
+        # nothing of that name, or a key's attname (a number) with more to cross after it
+        if model_field is None or (attr != model_field.name and not last):
             raise ImproperlyConfigured(
                 f"{type(serializer).__name__}.{field.field_name}: {field.source!r} is not a column a row can give"
             )
