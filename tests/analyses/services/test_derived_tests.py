@@ -28,13 +28,20 @@ ANV_INPUTS = {"sample_mass": "2.0", "absorbance_unreacted": "0.080", "absorbance
 
 @pytest.fixture
 def tests_(users):
-    product = ProductFactory(code="TOX", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
+    return _totox_sample(users, "TOX", {"method": "totox", "maximum": "26"})
+
+
+def _totox_sample(users, code: str, totox_line: dict) -> dict[str, Test]:
+    """A received sample of lot ``code``-1 of an invented refined rapeseed oil whose specification
+    has PV (Codex refined-oil default), AnV (at most 20) and ``totox_line``; its tests by method,
+    PV and AnV assigned to "analyst"."""
+    product = ProductFactory(code=code, name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
     draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
-        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"}, {"method": "totox", "maximum": "26"},
+        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"}, totox_line,
     ])
     specification_approve(users["qa"], draft)
-    lot = lot_create(users["manager"], code="TOX-1", product=product, origin="production")
-    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TOX-1-A"), condition="sealed", storage_place="A")
+    lot = lot_create(users["manager"], code=f"{code}-1", product=product, origin="production")
+    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label=f"{code}-1-A"), condition="sealed", storage_place="A")
     tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
     test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
     return tests
@@ -173,16 +180,7 @@ def test_the_audit_of_a_totox_result_records_the_verdict_its_line_decided(users)
     record that verdict, not the simple comparison's pass."""
     from analyses.models import AuditEntry
 
-    product = ProductFactory(code="TGB", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
-    draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
-        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"},
-        {"method": "totox", "maximum": "13.6", "decision_rule": "guard_band"},
-    ])
-    specification_approve(users["qa"], draft)
-    lot = lot_create(users["manager"], code="TGB-1", product=product, origin="production")
-    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TGB-1-A"), condition="sealed", storage_place="A")
-    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
-    test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
+    tests = _totox_sample(users, "TGB", {"method": "totox", "maximum": "13.6", "decision_rule": "guard_band"})
     _enter_sources(users, tests)
     result = Result.objects.get(test=tests["totox"], status=ResultStatus.CURRENT)
     assert result.verdict == "oos"
@@ -258,15 +256,7 @@ def test_a_totox_found_in_lab_error_is_retested_with_its_sources(users):
     from analyses.models import Conclusion, Investigation
     from analyses.services.investigations import investigation_close
 
-    product = ProductFactory(code="TLE", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
-    draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
-        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"}, {"method": "totox", "maximum": "10"},
-    ])
-    specification_approve(users["qa"], draft)
-    lot = lot_create(users["manager"], code="TLE-1", product=product, origin="production")
-    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TLE-1-A"), condition="sealed", storage_place="A")
-    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
-    test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
+    tests = _totox_sample(users, "TLE", {"method": "totox", "maximum": "10"})
     _enter_sources(users, tests)
     _accept_all(users, tests)
     investigation_close(users["qa"], Investigation.objects.get(test=tests["totox"]), conclusion=Conclusion.LAB_ERROR,
@@ -331,15 +321,8 @@ def test_a_correction_after_release_that_puts_a_critical_totox_out_is_refused(us
     from analyses.services.post_release_corrections import post_release_correction_approve, post_release_correction_propose
     from tests.factories import SIGNING_PASSWORD
 
-    product = ProductFactory(code="TPR", name="Refined rapeseed oil (invented)", oil_type="rapeseed", created_by=users["manager"])
-    draft = specification_create(users["manager"], product, effective_from="2020-01-01", lines=[
-        {"method": "pv", "codex_oil_type": "refined"}, {"method": "anv", "maximum": "20"}, {"method": "totox", "maximum": "13.6"},
-    ])
-    specification_approve(users["qa"], draft)
-    lot = lot_create(users["manager"], code="TPR-1", product=product, origin="production")
-    sample = sample_receive(users["manager"], sample_register(users["manager"], lot, label="TPR-1-A"), condition="sealed", storage_place="A")
-    tests = {t.method_code: t for t in Test.objects.filter(sample=sample)}
-    test_assign_bulk(users["manager"], [tests["pv"], tests["anv"]], assignee=users["analyst"])
+    tests = _totox_sample(users, "TPR", {"method": "totox", "maximum": "13.6"})
+    lot = tests["pv"].sample.lot
     _enter_sources(users, tests)
     _accept_all(users, tests)
     lot_release(users["qa"], lot, password=SIGNING_PASSWORD)
