@@ -17,11 +17,11 @@ from datetime import UTC, datetime
 from typing import Any
 
 from django.core.serializers.json import DjangoJSONEncoder
-from django.db import models, transaction
+from django.db import connections, models, router, transaction
 from django.utils import timezone
 
 from analyses.models import AuditAction, AuditChainHead, AuditEntry
-from analyses.row_writes import rows_insert
+from analyses.row_writes import rows_insert, values_copy
 
 GENESIS_HASH = "0" * 64
 _ACTIONS = frozenset(AuditAction.values)
@@ -62,21 +62,41 @@ def canonical_content(
     lot_ref: int | None,
     sample_ref: int | None,
 ) -> str:
-    """The entry's content as one canonical JSON text (sorted keys, no spaces, UTC time)."""
-    body = {
-        "sequence": sequence,
-        "at": at.astimezone(UTC).isoformat(timespec="microseconds"),
-        "actor_id": actor_id,
-        "actor_username": actor_username,
-        "action": action,
-        "object_type": object_type,
-        "object_id": str(object_id),
-        "changes": changes,
-        "reason": reason,
-        "lot_ref": lot_ref,
-        "sample_ref": sample_ref,
-    }
-    return json.dumps(body, sort_keys=True, separators=(",", ":"), ensure_ascii=False, allow_nan=False)
+    """The entry's content as one canonical JSON text (sorted keys, no spaces, UTC time):
+    ``json.dumps`` of the whole entry with ``sort_keys=True, separators=(",", ":"),
+    ensure_ascii=False, allow_nan=False``."""
+    return _content_text(
+        sequence, _canonical_time(at), actor_id, actor_username, action, object_type, str(object_id),
+        canonical_json(changes), reason, lot_ref, sample_ref,
+    )
+
+
+def canonical_json(value: Any) -> str:
+    """``value`` (plain JSON types) as canonical JSON text: sorted keys, no spaces."""
+    return json.dumps(value, sort_keys=True, separators=(",", ":"), ensure_ascii=False, allow_nan=False)
+
+
+def _canonical_time(at: datetime) -> str:
+    return at.astimezone(UTC).isoformat(timespec="microseconds")
+
+
+def _content_text(
+    sequence: int, at: str, actor_id: int | None, actor_username: str, action: str, object_type: str, object_id: str,
+    changes_json: str, reason: str, lot_ref: int | None, sample_ref: int | None,
+) -> str:
+    """The canonical text put together from its parts, the changes already as canonical JSON,
+    so that a writer that also stores that JSON encodes the changes once. The keys in sorted
+    order; each scalar encoded as ``json.dumps`` encodes it inside the whole."""
+    encode = _SCALAR.encode
+    return (
+        f'{{"action":{encode(action)},"actor_id":{encode(actor_id)},"actor_username":{encode(actor_username)},'
+        f'"at":{encode(at)},"changes":{changes_json},"lot_ref":{encode(lot_ref)},"object_id":{encode(object_id)},'
+        f'"object_type":{encode(object_type)},"reason":{encode(reason)},"sample_ref":{encode(sample_ref)},'
+        f'"sequence":{encode(sequence)}}}'
+    )
+
+
+_SCALAR = json.JSONEncoder(ensure_ascii=False, allow_nan=False)
 
 
 def chain_hash(previous_hash: str, content: str) -> str:
@@ -164,33 +184,60 @@ def audit_append_many(entries: Sequence[PendingEntry], *, bulk: bool = True) -> 
     # end, the next entry still points at the deleted one and the gap shows
     sequence, previous_hash = head.last_sequence, head.last_hash
     at = timezone.now()
-    rows = []
+    at_text = _canonical_time(at)
+    rows: list[tuple[Any, ...]] = []
+    texts: list[str] = []
     for pending in entries:
         sequence += 1
-        fields = {
-            "sequence": sequence,
-            "at": at,
-            "actor_id": getattr(pending.actor, "pk", None),
-            "actor_username": getattr(pending.actor, "username", "") or "",
-            "action": pending.action,
-            "object_type": pending.obj._meta.label_lower,
-            "object_id": str(pending.obj.pk),
-            "changes": json_safe(dict(pending.changes)),
-            "reason": pending.reason or "",
-            "lot_ref": pending.lot_ref,
-            "sample_ref": pending.sample_ref,
-        }
-        entry_hash = chain_hash(previous_hash, canonical_content(**fields))
-        rows.append(AuditEntry(previous_hash=previous_hash, entry_hash=entry_hash, **fields))
+        actor_id = getattr(pending.actor, "pk", None)
+        actor_username = getattr(pending.actor, "username", "") or ""
+        action, reason = str(pending.action), pending.reason or ""
+        object_type, object_id = pending.obj._meta.label_lower, str(pending.obj.pk)
+        changes = json_safe(dict(pending.changes))
+        changes_json = canonical_json(changes)
+        content = _content_text(
+            sequence, at_text, actor_id, actor_username, action, object_type, object_id, changes_json, reason,
+            pending.lot_ref, pending.sample_ref,
+        )
+        entry_hash = chain_hash(previous_hash, content)
+        rows.append((
+            sequence, at, actor_id, actor_username, action, object_type, object_id, changes, reason,
+            pending.lot_ref, pending.sample_ref, previous_hash, entry_hash,
+        ))
+        texts.append(changes_json)
         previous_hash = entry_hash
-    if bulk:
-        rows_insert(rows)
-    else:
-        for row in rows:
-            row.save()
+    appended = _entries_write(rows, texts, bulk=bulk)
     head.last_sequence, head.last_hash = sequence, previous_hash
     head.save(update_fields=["last_sequence", "last_hash"])
-    return rows
+    return appended
+
+
+# AuditEntry's fields (the id left out) in the order _entries_write takes their values
+_ENTRY_FIELDS = (
+    "sequence", "at", "actor_id", "actor_username", "action", "object_type", "object_id", "changes", "reason",
+    "lot_ref", "sample_ref", "previous_hash", "entry_hash",
+)
+_CHANGES = _ENTRY_FIELDS.index("changes")
+
+
+def _entries_write(rows: list[tuple[Any, ...]], changes_json: list[str], *, bulk: bool) -> list[AuditEntry]:
+    """Insert the entries, one tuple of values each in ``_ENTRY_FIELDS`` order, with their
+    changes as the canonical JSON text that was hashed; the entries as saved. On PostgreSQL a
+    bulk write streams the values with COPY, the changes as that very text: no model object
+    to prepare and no second encoding of the changes (issue 12)."""
+    alias = router.db_for_write(AuditEntry)
+    if bulk and connections[alias].vendor == "postgresql":
+        ids = values_copy(
+            AuditEntry, _ENTRY_FIELDS, [(*row[:_CHANGES], text, *row[_CHANGES + 1:]) for row, text in zip(rows, changes_json)]
+        )
+        return [AuditEntry.from_db(alias, ("id", *_ENTRY_FIELDS), (pk, *row)) for pk, row in zip(ids, rows)]
+    entries = [AuditEntry(**dict(zip(_ENTRY_FIELDS, row))) for row in rows]
+    if bulk:
+        rows_insert(entries)
+    else:
+        for entry in entries:
+            entry.save()
+    return entries
 
 
 @dataclass(frozen=True)

@@ -47,23 +47,35 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
         obj._prepare_related_fields_for_save(operation_name="rows_insert")  # as bulk_create does
     fields = [field for field in meta.concrete_fields if not field.primary_key]
     prepared = [_db_value(field) for field in fields]
+    ids = values_copy(model, [field.attname for field in fields], [[prepare(obj, connection) for prepare in prepared] for obj in objects])
+    for obj, pk in zip(objects, ids):
+        obj.pk = pk
+        obj._state.adding = False
+        obj._state.db = alias
+
+
+def values_copy(model: type[models.Model], attnames: Sequence[str], rows: Sequence[Sequence[Any]]) -> list[int]:
+    """PostgreSQL only: insert ``rows`` of ``model``, whose values (of the fields
+    ``attnames``, in that order, the id left out) are ready for the database as they are, as
+    Django's field preparation would leave them; a JSON column takes its JSON text. The new
+    rows' ids, in order. For a writer that has the values already, with no model objects to
+    build (the audit trail's entries: ``audit.audit_append_many``)."""
+    meta = model._meta
+    connection = connections[router.db_for_write(model)]
     quote = connection.ops.quote_name
-    columns = ", ".join(quote(field.column) for field in (meta.pk, *fields))
+    columns = ", ".join(quote(column) for column in (meta.pk.column, *(meta.get_field(name).column for name in attnames)))
     with connection.cursor() as cursor:
         cursor.execute(
             "SELECT nextval(pg_get_serial_sequence(%s, %s)) FROM generate_series(1, %s)",
-            [meta.db_table, meta.pk.column, len(objects)],
+            [meta.db_table, meta.pk.column, len(rows)],
         )
         ids = [row[0] for row in cursor.fetchall()]
         # psycopg's errors become Django's (IntegrityError for a duplicate key), as in bulk_create
         with connection.wrap_database_errors:
             with cursor.cursor.copy(f"COPY {quote(meta.db_table)} ({columns}) FROM STDIN") as copy:
-                for obj, pk in zip(objects, ids):
-                    copy.write_row([pk, *(prepare(obj, connection) for prepare in prepared)])
-    for obj, pk in zip(objects, ids):
-        obj.pk = pk
-        obj._state.adding = False
-        obj._state.db = alias
+                for pk, values in zip(ids, rows):
+                    copy.write_row([pk, *values])
+    return ids
 
 
 # Fields whose value of exactly this type (or None) Django sends to PostgreSQL unchanged: their

@@ -3,6 +3,7 @@ checked by ``manage.py audit_verify``; appends stay linear under concurrency on 
 from __future__ import annotations
 
 import datetime as dt
+import math
 import threading
 from importlib import import_module
 from io import StringIO
@@ -235,6 +236,52 @@ def test_json_safe_gives_what_a_json_round_trip_gives(value):
     got = json_safe(value)
     assert json.dumps(got, sort_keys=True) == json.dumps(expected, sort_keys=True)
     assert _types(got) == _types(expected)
+
+
+_texts = st.text(max_size=12)  # any Unicode: quotes, backslashes, control characters, emoji
+
+
+@given(
+    sequence=st.integers(min_value=0, max_value=2**63 - 1),
+    at=st.datetimes(timezones=st.sampled_from([dt.UTC, dt.timezone(dt.timedelta(hours=-5, minutes=-30))])),
+    actor_id=st.one_of(st.none(), st.integers(min_value=1)),
+    actor_username=_texts,
+    action=st.sampled_from([*AuditAction, "create"]),
+    object_type=_texts,
+    object_id=st.one_of(_texts, st.integers()),
+    changes=st.dictionaries(_texts, _values, max_size=4),
+    reason=_texts,
+    lot_ref=st.one_of(st.none(), st.integers()),
+    sample_ref=st.one_of(st.none(), st.integers()),
+)
+@settings(max_examples=300, deadline=None)
+def test_canonical_content_is_the_sorted_json_of_the_whole_entry(**fields):
+    """canonical_content puts the text together from its parts (the changes encoded once, for
+    the hash and for the row: issue 12); it must be exactly the plain definition, json.dumps
+    of the whole entry with sorted keys, no spaces, UTC time, as the chain was always hashed."""
+    import json
+
+    from analyses.audit import canonical_content
+
+    fields["changes"] = json_safe(fields["changes"])
+    if any(isinstance(v, float) and not math.isfinite(v) for v in _leaves(fields["changes"])):
+        with pytest.raises(ValueError):
+            canonical_content(**fields)
+        return
+    whole = {**fields, "at": fields["at"].astimezone(dt.UTC).isoformat(timespec="microseconds"), "object_id": str(fields["object_id"])}
+    expected = json.dumps(whole, sort_keys=True, separators=(",", ":"), ensure_ascii=False, allow_nan=False)
+    assert canonical_content(**fields) == expected
+
+
+def _leaves(value):
+    if isinstance(value, dict):
+        for item in value.values():
+            yield from _leaves(item)
+    elif isinstance(value, list):
+        for item in value:
+            yield from _leaves(item)
+    else:
+        yield value
 
 
 def _types(value):
