@@ -17,8 +17,14 @@ if os.environ.get("PROMETHEUS_MULTIPROC_DIR"):
     # each process writes its file there from its first metric on; a missing directory would stop it
     Path(os.environ["PROMETHEUS_MULTIPROC_DIR"]).mkdir(parents=True, exist_ok=True)
 
-RESULTS_ENTERED = Counter("oleotrace_results_entered", "Results (replicates) entered, corrections included")
-OOS_OPENED = Counter("oleotrace_oos_investigations_opened", "OOS investigations opened on an accepted result")
+RESULTS_ENTERED = Counter(
+    "oleotrace_results_entered",
+    "Results (replicates) entered, corrections (before and after release) included; derived results (TOTOX) are worked out, not entered, and not counted",
+)
+OOS_OPENED = Counter(
+    "oleotrace_oos_investigations_opened",
+    "OOS investigations opened: on acceptance, on a released lot, or after a correction after release",
+)
 ALERTS_RAISED = Counter("oleotrace_alerts_raised", "Alerts raised, one per rule episode", ["source"])
 ALERT_DELIVERIES = Counter(
     "oleotrace_alert_deliveries", "Alert delivery attempts by channel and outcome", ["channel", "outcome"]

@@ -21,7 +21,7 @@ from django.utils import timezone
 
 from analyses.audit import audit_append, created
 from analyses.errors import Conflict, DomainError, InvalidInput, NotAllowed
-from analyses.imports.layouts import INSTRUMENT_SEPARATOR, LAYOUT_ROLES, Role
+from analyses.imports.layouts import INSTRUMENT_SEPARATOR, LAYOUT_ROLES
 from analyses.imports.reading import FileProblem, Row, read_rows
 from analyses.models import AuditAction, ImportLayout, ImportMapping, ResultImport, Test
 from analyses.models.testing import WORKABLE_TEST_STATES

@@ -89,6 +89,7 @@ from analyses.services.results import (
 )
 from analyses.services.signatures import signature_confirm
 from analyses.services.uncertainty import result_uncertainty_record
+from labcore.metrics import OOS_OPENED, RESULTS_ENTERED, count_on_commit
 
 CORRECTION_FIELDS = ("lot", "result", "inputs", "reason", "reported", "unit", "mean_reported", "verdict", "derived", "state")
 REISSUE_REASON = "result correction"
@@ -140,6 +141,7 @@ def _apply(entered_by: Actor, actor: Actor, test: Test, old: Result, inputs: Map
     fields["entered_at"] = entered_at  # when the analyst entered the corrected data
     correction = Result(replicate=old.replicate, version=old.version + 1, supersedes=old, correction_reason=reason, **fields)
     correction.save(force_insert=True)
+    count_on_commit(RESULTS_ENTERED)  # a correction is entered data too (labcore/metrics.py)
     trace_save(correction, trace)
     result_uncertainty_record(correction, aggregate)  # its budget; the verdicts by the line's decision rule
     audit_append(actor, AuditAction.CREATE, correction, result_created_changes(correction, trace), reason=reason, **refs)
@@ -251,6 +253,7 @@ def _open_investigation(actor: Actor, test: Test) -> None:
             reason=f"{test.method_code} {test.reported} {test.unit} out of specification after a correction after release",
             lot_ref=test.sample.lot_id, sample_ref=test.sample_id,
         )
+        count_on_commit(OOS_OPENED)
 
 
 def post_release_correction_approve(

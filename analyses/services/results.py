@@ -58,7 +58,7 @@ from analyses.services.result_trace import (
     trace_of,
     trace_save,
 )
-from analyses.services.transitions import record_test_move, sample_require_workable
+from analyses.services.transitions import sample_require_workable
 from analyses.services.uncertainty import result_uncertainty_record
 from analyses.services.pull_judging import test_verdict
 from labcore.metrics import RESULTS_ENTERED, count_on_commit

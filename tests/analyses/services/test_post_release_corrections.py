@@ -258,6 +258,23 @@ def test_a_non_critical_result_out_of_specification_is_applied_stated_and_invest
     assert investigation.state == InvestigationState.OPEN and investigation.test == _av(lot)
 
 
+@pytest.mark.django_db(transaction=True)  # the counts wait for the commit
+def test_the_corrected_result_and_the_investigation_it_opens_are_counted_in_the_metrics(users):
+    lot = _released_near_the_limit(users, code="L-203", av_line={"release_critical": False})
+    results, oos = _metric("oleotrace_results_entered_total"), _metric("oleotrace_oos_investigations_opened_total")
+    proposal = post_release_correction_propose(users["analyst"], _first_replicate(lot), inputs=AV_OVER, reason="titre misread")
+    post_release_correction_approve(users["qa"], proposal, password=SIGNING_PASSWORD)
+    assert Investigation.objects.filter(lot=lot, state=InvestigationState.OPEN).count() == 1
+    assert _metric("oleotrace_results_entered_total") == results + 1
+    assert _metric("oleotrace_oos_investigations_opened_total") == oos + 1
+
+
+def _metric(name: str) -> float:
+    from prometheus_client import REGISTRY
+
+    return REGISTRY.get_sample_value(name) or 0.0
+
+
 def test_the_verdict_is_decided_again_by_the_lines_guard_band(users):
     """Guard band w = U (ILAC G8:09/2019): a mean inside the 0.6 limit by less than U is out of
     specification. (2.05 - 0.05) x 0.28050 = 0.561000 and (2.12 - 0.05) x 0.28050 = 0.580635 (mean
