@@ -218,6 +218,10 @@ _ENTRY_FIELDS = (
     "lot_ref", "sample_ref", "previous_hash", "entry_hash",
 )
 _CHANGES = _ENTRY_FIELDS.index("changes")
+# from_db takes values in the model's field order, and COPY names no column left out: a field
+# added to or moved in AuditEntry must be added or moved here too
+if ("id", *_ENTRY_FIELDS) != tuple(f.attname for f in AuditEntry._meta.concrete_fields):
+    raise RuntimeError("AuditEntry's fields changed: update analyses.audit._ENTRY_FIELDS to match them, in order")
 
 
 def _entries_write(rows: list[tuple[Any, ...]], changes_json: list[str], *, bulk: bool) -> list[AuditEntry]:

@@ -293,7 +293,7 @@ def _types(value):
 
 
 def test_awkward_text_in_a_bulk_append_is_stored_as_hashed(received_sample):
-    """Tabs, newlines, quotes, backslashes and non-ASCII text go through COPY (rows_insert):
+    """Tabs, newlines, quotes, backslashes and non-ASCII text go through COPY (values_copy):
     what the database keeps must read back as the same values, and the chain must verify."""
     from analyses.audit import PendingEntry, audit_append_many
     from analyses.models import AuditEntry

@@ -61,3 +61,25 @@ def test_a_mapping_is_named_by_its_name_even_when_it_looks_like_a_number(clients
     # schemathesis sent "0": a name that names no mapping is a 400 on mapping, never a 404
     response = _upload(clients["analyst"], GOOD, mapping=str(mapping_id))
     assert response.status_code == 400 and "mapping" in response.json()["fields"]
+
+
+def test_a_file_of_40_rows_runs_the_same_number_of_queries_as_one_of_4(postgres, lab, clients, mapping_id):
+    """An instrument file goes through the set-based bulk entry (issue 12): its size does not
+    change the number of queries. Each sample's rows are GOOD's, on a sample of its own."""
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    def rows(label: str) -> list[str]:
+        lab.assigned("analyst", label=label)
+        return [line.replace("L-100-A", label) for line in GOOD.decode().splitlines()[1:]]
+
+    small, large = _file(*rows("F-0")), _file(*[row for n in range(1, 11) for row in rows(f"F-{n}")])
+    counts = []
+    for number, content in enumerate((small, large)):
+        with CaptureQueriesContext(connection) as captured:
+            response = _upload(clients["analyst"], content, name=f"run-{number}.csv")
+        assert response.status_code == 201, response.json()
+        assert len(response.json()["results"]) == content.count(b"\n") - 1
+        # the token's last use is written at most once a while: not part of the import
+        counts.append([q["sql"][:150] for q in captured.captured_queries if "analyses_apitoken" not in q["sql"]])
+    assert len(counts[1]) == len(counts[0]), "\n".join(counts[0]) + "\n----\n" + "\n".join(counts[1])
