@@ -10,8 +10,12 @@ lock until it ends, so run it on a quiet database or a copy.
 
 The API is driven through DRF's APIClient with a real token, so authentication, parsing,
 validation, serialisation and the middleware all count. Entry goes through the services as a
-lab's client would: the bulk endpoint in batches of ``--batch``, then one POST per result on
-fresh tests, then ``Result.objects.bulk_create`` of the same rows on a third set of tests.
+lab's client would. Each of ``--rounds`` rounds takes fresh tests and runs: the bulk endpoint in
+batches of ``--batch``; right after it ``Result.objects.bulk_create`` of the same rows on another
+set of tests; one instrument file of the same readings through the import; one POST per result.
+The shared machine's speed drifts by half from one minute to the next, so the table gives each
+path's median over the rounds with the range, and takes the ratio to the raw insert within each
+round, where the two ran seconds apart.
 """
 from __future__ import annotations
 
@@ -21,8 +25,10 @@ import json
 import logging
 import math
 import os
+import statistics
 import time
 import uuid
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
@@ -84,19 +90,25 @@ class Command(BaseCommand):
     help = (
         "Time result entry: POST /api/results/bulk/ in batches, single POST /api/results/, and a raw "
         "bulk_create of the same rows, and one instrument file of them through POST /api/imports/; prints results/s, the ratio to the raw insert and the SQL queries "
-        "per request. Everything it writes is rolled back."
+        "per request, as the median of --rounds rounds. Everything it writes is rolled back."
     )
 
     def add_arguments(self, parser) -> None:
         parser.add_argument("--results", type=int, default=500, help="results per path (default 500: 250 tests x 2)")
         parser.add_argument("--batch", type=int, default=100, help="results per bulk request (default 100)")
+        parser.add_argument(
+            "--rounds", type=int, default=3,
+            help="times every path is run, on fresh tests each time (default 3); the table gives the median and the range",
+        )
 
-    def handle(self, *args, results: int, batch: int, **options) -> None:
+    def handle(self, *args, results: int, batch: int, rounds: int, **options) -> None:
         if results < 2:
             raise CommandError("--results must be at least 2")
         if not 1 <= batch <= 500:
             raise CommandError("--batch must be between 1 and 500 (the bulk endpoint's limit)")
-        rows: list[tuple[str, int, float, list[int]]] = []
+        if not 1 <= rounds <= 20:
+            raise CommandError("--rounds must be between 1 and 20")
+        measured: list[dict[str, Timing]] = []
         no_throttle = {**settings.REST_FRAMEWORK, "DEFAULT_THROTTLE_RATES": {"user": None, "anon": None}}
         access_log = logging.getLogger("labcore.access")  # one line per request would drown the progress
         level = access_log.level
@@ -104,119 +116,152 @@ class Command(BaseCommand):
         try:
             with override_settings(ALLOWED_HOSTS=["testserver"], REST_FRAMEWORK=no_throttle):
                 with transaction.atomic():
-                    rows = self._run(results, batch)
+                    measured = self._run(results, batch, rounds)
                     raise _Rollback
         except _Rollback:
             pass
         finally:
             access_log.setLevel(level)
-        self._report(rows, results, batch)
+        self._report(measured, results, batch)
 
     # --- the run ------------------------------------------------------------------------
-    def _run(self, count: int, batch: int) -> list[tuple[str, int, float, list[int]]]:
+    def _run(self, count: int, batch: int, rounds: int) -> list[dict[str, Timing]]:
         from rest_framework.test import APIClient
 
         tag = uuid.uuid4().hex[:8]
-        self._progress(f"seeding {count} results' worth of tests three times over (run {tag}, rolled back at the end)")
+        self._progress(f"seeding a lab (run {tag}, rolled back at the end); {rounds} round(s) of {count} results per path")
         users, trace = _seed_lab(tag)
-        tests_per_path = math.ceil(count / 2)
-        bulk_tests, single_tests, raw_tests = (_tests(users, tests_per_path) for _ in range(3))
         client = APIClient()
         client.credentials(HTTP_AUTHORIZATION=f"Token {token_issue(users['analyst']).secret}")
+        mapping = import_mapping_create(users["manager"], name=f"IB-{tag} titrator", layout="titrator", columns=IMPORT_COLUMNS,
+                                        default_instruments=trace["instruments"])
 
         # one request first, untimed: it loads what the first request loads, and writes the token's last use
         client.get("/api/methods/", secure=True)
         collector_settle()  # as labcore/wsgi.py settles a web worker once it is loaded
+        return [
+            self._round(number, rounds, users, trace, client, mapping.name, count, batch) for number in range(1, rounds + 1)
+        ]
+
+    def _round(self, number: int, rounds: int, users, trace, client, mapping: str, count: int, batch: int) -> dict[str, Timing]:
+        """Every path once, on fresh tests. The bulk API and the raw insert of the same rows run
+        one after the other, so that their ratio compares the machine in one state; the single
+        posts, the longest path, come last."""
+        where = f"round {number}/{rounds}"
+        tests_per_path = math.ceil(count / 2)
+        bulk_tests, single_tests, raw_tests = (_tests(users, tests_per_path) for _ in range(3))
+        labels = _import_tests(users, tests_per_path, prefix=f"R{number}")
+        timings: dict[str, Timing] = {}
+
         items = _items(bulk_tests, trace, count)
-        bulk_queries: list[int] = []
         entered: list[dict[str, Any]] = []
-        started = time.perf_counter()
+        timing = timings[BULK] = Timing()
         for first in range(0, count, batch):
-            with QueryCount() as captured:
+            with timing.request():
                 response = client.post("/api/results/bulk/", {"results": items[first:first + batch]}, format="json", secure=True)
             if response.status_code != 201:
                 raise CommandError(f"bulk entry answered {response.status_code}: {response.content[:500]!r}")
-            bulk_queries.append(captured.count)
             entered += response.json()
-            self._progress(f"bulk API: {len(entered)}/{count} results")
-        bulk_seconds = time.perf_counter() - started
+            self._progress(f"{where}: bulk API: {len(entered)}/{count} results")
 
-        single_queries: list[int] = []
-        started = time.perf_counter()
-        for number, item in enumerate(_items(single_tests, trace, count), start=1):
-            with QueryCount() as captured:
+        model_rows = _raw_rows(entered, raw_tests)
+        timing = timings[RAW] = Timing()
+        for first in range(0, count, batch):
+            with timing.request():
+                Result.objects.bulk_create(model_rows[first:first + batch])
+        self._progress(f"{where}: raw bulk_create: {count}/{count} rows")
+
+        # an instrument file (issue 11): the same readings as a titrator CSV, one file, one sample per test
+        csv = _titrator_csv(labels, trace["titrant_lot"], count)
+        timing = timings[IMPORT] = Timing()
+        with timing.request():
+            response = client.post("/api/imports/", {"file": SimpleUploadedFile(f"{labels[0]}.csv", csv, content_type="text/csv"),
+                                                     "mapping": mapping}, format="multipart", secure=True)
+        if response.status_code != 201:
+            raise CommandError(f"the file import answered {response.status_code}: {response.content[:500]!r}")
+        self._progress(f"{where}: file import: {len(response.json()['results'])}/{count} results from one CSV")
+
+        timing = timings[SINGLE] = Timing()
+        for done, item in enumerate(_items(single_tests, trace, count), start=1):
+            with timing.request():
                 response = client.post("/api/results/", item, format="json", secure=True)
             if response.status_code != 201:
                 raise CommandError(f"single entry answered {response.status_code}: {response.content[:500]!r}")
-            single_queries.append(captured.count)
-            if number % max(1, count // 5) == 0 or number == count:
-                self._progress(f"single posts: {number}/{count} results")
-        single_seconds = time.perf_counter() - started
-
-        model_rows = _raw_rows(entered, raw_tests)
-        raw_queries: list[int] = []
-        started = time.perf_counter()
-        for first in range(0, count, batch):
-            with QueryCount() as captured:
-                Result.objects.bulk_create(model_rows[first:first + batch])
-            raw_queries.append(captured.count)
-        raw_seconds = time.perf_counter() - started
-        self._progress(f"raw bulk_create: {count}/{count} rows")
-
-        # an instrument file (issue 11): the same readings as a titrator CSV, one file, one sample per test
-        labels = _import_tests(users, tests_per_path)
-        mapping = import_mapping_create(users["manager"], name=f"IB-{tag} titrator", layout="titrator", columns=IMPORT_COLUMNS,
-                                        default_instruments=trace["instruments"])
-        csv = _titrator_csv(labels, trace["titrant_lot"], count)
-        started = time.perf_counter()
-        with QueryCount() as captured:
-            response = client.post("/api/imports/", {"file": SimpleUploadedFile(f"IB-{tag}.csv", csv, content_type="text/csv"),
-                                                     "mapping": mapping.name}, format="multipart", secure=True)
-        import_seconds = time.perf_counter() - started
-        if response.status_code != 201:
-            raise CommandError(f"the file import answered {response.status_code}: {response.content[:500]!r}")
-        self._progress(f"file import: {len(response.json()['results'])}/{count} results from one CSV")
-        return [
-            ("raw Result.objects.bulk_create", count, raw_seconds, raw_queries),
-            (f"POST /api/results/bulk/, batches of {batch}", count, bulk_seconds, bulk_queries),
-            ("single POST /api/results/", count, single_seconds, single_queries),
-            ("POST /api/imports/, one CSV file", count, import_seconds, [captured.count]),
-        ]
+            if done % max(1, count // 5) == 0 or done == count:
+                self._progress(f"{where}: single posts: {done}/{count} results")
+        return timings
 
     def _progress(self, line: str) -> None:
         self.stderr.write(f"  {line}")
 
     # --- the figures --------------------------------------------------------------------
-    def _report(self, rows: list[tuple[str, int, float, list[int]]], count: int, batch: int) -> None:
-        raw_rate = count / rows[0][2] if rows and rows[0][2] > 0 else float("inf")
+    def _report(self, measured: list[dict[str, Timing]], count: int, batch: int) -> None:
+        """Per path: the median of the rounds' rates, and their range; the ratio to the raw
+        insert is taken in each round (the two ran one after the other) and its median shown."""
         header = ("Path", "Results", "Seconds", "Results/s", "x raw insert", "SQL queries per request")
+        names = {RAW: "raw Result.objects.bulk_create", BULK: f"POST /api/results/bulk/, batches of {batch}",
+                 SINGLE: "single POST /api/results/", IMPORT: "POST /api/imports/, one CSV file"}
+        rate: dict[str, list[float]] = {path: [timings[path].rate(count) for timings in measured] for path in names}
+        ratio: dict[str, list[float]] = {
+            path: [raw / mine for raw, mine in zip(rate[RAW], rate[path])] for path in names
+        }
         lines = []
-        for name, n, seconds, queries in rows:
-            rate = n / seconds if seconds > 0 else float("inf")
+        for path, name in names.items():
+            queries = [q for timings in measured for q in timings[path].queries]
             spread = f"{min(queries)}" if min(queries) == max(queries) else f"{min(queries)}-{max(queries)}"
-            lines.append((name, str(n), f"{seconds:.3f}", f"{rate:,.0f}", f"{raw_rate / rate:.1f}", spread))
+            seconds = statistics.median(timings[path].seconds for timings in measured)
+            times_raw = "1" if path == RAW else _median_and_range(ratio[path], "{:.1f}")
+            lines.append((name, str(count), f"{seconds:.3f}", _median_and_range(rate[path], "{:,.0f}"), times_raw, spread))
         widths = [max(len(str(cell)) for cell in column) for column in zip(header, *lines)]
         out = self.stdout
         load = ", ".join(f"{x:.1f}" for x in os.getloadavg()) if hasattr(os, "getloadavg") else "unknown"
         out.write(
-            f"Result entry on {connection.vendor} ({connection.settings_dict.get('NAME')}), {count} results per path; "
-            f"{os.cpu_count()} CPUs, load average {load}"
+            f"Result entry on {connection.vendor} ({connection.settings_dict.get('NAME')}), {count} results per path, "
+            f"{len(measured)} round(s): median (range); {os.cpu_count()} CPUs, load average {load}"
         )
         out.write("| " + " | ".join(h.ljust(w) for h, w in zip(header, widths)) + " |")
         out.write("|" + "|".join("-" * (w + 2) for w in widths) + "|")
         for line in lines:
             out.write("| " + " | ".join(cell.ljust(w) for cell, w in zip(line, widths)) + " |")
-        bulk = rows[1]
-        bulk_rate = bulk[1] / bulk[2] if bulk[2] > 0 else float("inf")
-        full = bulk[3][: count // batch]  # full batches only: the last one may be smaller
-        constant = len(set(full or bulk[3])) == 1
+        bulk_rate, bulk_ratio = statistics.median(rate[BULK]), statistics.median(ratio[BULK])
+        full = [q for timings in measured for q in timings[BULK].queries[: count // batch]]  # the last batch may be smaller
+        constant = len(set(full or measured[0][BULK].queries)) == 1
         out.write(
             f"Targets (issue 12): bulk API >= {TARGET_RATE:,} results/s: {'met' if bulk_rate >= TARGET_RATE else 'MISSED'} "
             f"({bulk_rate:,.0f}); within {TARGET_RATIO}x of the raw insert: "
-            f"{'met' if raw_rate / bulk_rate <= TARGET_RATIO else 'MISSED'} ({raw_rate / bulk_rate:.1f}x); "
-            f"queries per batch constant: {'yes' if constant else 'NO'} ({', '.join(map(str, bulk[3]))})"
+            f"{'met' if bulk_ratio <= TARGET_RATIO else 'MISSED'} ({bulk_ratio:.1f}x); "
+            f"queries per batch constant: {'yes' if constant else 'NO'} ({', '.join(map(str, measured[0][BULK].queries))})"
         )
         out.write("Nothing was kept: the run's rows were rolled back (commits are not timed).")
+
+
+RAW, BULK, SINGLE, IMPORT = "raw", "bulk", "single", "import"
+
+
+class Timing:
+    """One path in one round: the time its requests took, and the SQL queries of each."""
+
+    def __init__(self) -> None:
+        self.seconds = 0.0
+        self.queries: list[int] = []
+
+    @contextmanager
+    def request(self):
+        with QueryCount() as captured:
+            started = time.perf_counter()
+            yield
+            self.seconds += time.perf_counter() - started
+        self.queries.append(captured.count)
+
+    def rate(self, count: int) -> float:
+        return count / self.seconds if self.seconds > 0 else float("inf")
+
+
+def _median_and_range(values: list[float], form: str) -> str:
+    middle = form.format(statistics.median(values))
+    if len(values) == 1:
+        return middle
+    return f"{middle} ({form.format(min(values))}-{form.format(max(values))})"
 
 
 def _seed_lab(tag: str) -> tuple[dict[str, Any], dict[str, Any]]:
@@ -277,13 +322,13 @@ IMPORT_COLUMNS = {"sample": "Sample", "method": "Method", "titre": "Titre (mL)",
                   "sample_mass": "Portion (g)", "titrant_lot": "Titrant lot"}
 
 
-def _import_tests(users: dict[str, Any], count: int) -> list[str]:
+def _import_tests(users: dict[str, Any], count: int, *, prefix: str) -> list[str]:
     """``count`` received samples of the run's lot, one assigned acid-value test each (a file's
-    row names its test by sample and method); their labels."""
+    row names its test by sample and method), labelled with ``prefix``; their labels."""
     template_sample, template = users["sample"], users["template"]
     now = timezone.now()
     samples = Sample.objects.bulk_create([
-        Sample(lot=template_sample.lot, label=f"{template_sample.label}-F{number}", state=SampleState.IN_TESTING,
+        Sample(lot=template_sample.lot, label=f"{template_sample.label}-{prefix}-F{number}", state=SampleState.IN_TESTING,
                specification=template_sample.specification, registered_by=users["manager"], registered_at=now,
                received_by=users["manager"], received_at=now)
         for number in range(count)

@@ -15,7 +15,7 @@ pytestmark = pytest.mark.django_db
 def test_the_benchmark_prints_its_table_and_keeps_nothing():
     kept = (Result.objects.count(), Test.objects.count(), AuditEntry.objects.count(), Product.objects.count())
     out, err = StringIO(), StringIO()
-    call_command("ingest_benchmark", "--results", "6", "--batch", "4", stdout=out, stderr=err)
+    call_command("ingest_benchmark", "--results", "6", "--batch", "4", "--rounds", "2", stdout=out, stderr=err)
     text = out.getvalue()
     assert "| Path" in text
     for column in ("Results/s", "x raw insert", "SQL queries per request"):
@@ -24,6 +24,9 @@ def test_the_benchmark_prints_its_table_and_keeps_nothing():
                  "POST /api/imports/, one CSV file"):
         assert any(line.startswith(f"| {path}") for line in text.splitlines()), text
     assert "queries per batch constant: yes" in text
-    assert "bulk API: 6/6 results" in err.getvalue()  # progress lines
-    assert "file import: 6/6 results from one CSV" in err.getvalue()  # the instrument file's path (issue 11)
+    assert "2 round(s): median (range)" in text
+    for number in (1, 2):  # progress lines, every path in every round on fresh tests
+        assert f"round {number}/2: bulk API: 6/6 results" in err.getvalue()
+        assert f"round {number}/2: file import: 6/6 results from one CSV" in err.getvalue()  # the instrument file's path (issue 11)
+        assert f"round {number}/2: single posts: 6/6 results" in err.getvalue()
     assert (Result.objects.count(), Test.objects.count(), AuditEntry.objects.count(), Product.objects.count()) == kept
