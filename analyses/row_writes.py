@@ -58,9 +58,8 @@ def values_copy(model: type[models.Model], attnames: Sequence[str], rows: Sequen
     """PostgreSQL only: insert ``rows`` of ``model``, whose values (of the fields
     ``attnames``, in that order, the id left out) are ready for the database as they are, as
     Django's field preparation would leave them (a JSON column takes JSON text as well as
-psycopg's ``Jsonb``). The new
-    rows' ids, in order. For a writer that has the values already, with no model objects to
-    build (the audit trail's entries: ``audit.audit_append_many``)."""
+    psycopg's ``Jsonb``). The new rows' ids, in order. For a writer that has the values
+    already, with no model objects to build (the audit trail's entries: ``audit.audit_append_many``)."""
     meta = model._meta
     connection = connections[router.db_for_write(model)]
     quote = connection.ops.quote_name
