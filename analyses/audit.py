@@ -167,11 +167,15 @@ class PendingEntry:
     sample_ref: int | None = None
 
 
-def audit_append_many(entries: Sequence[PendingEntry], *, bulk: bool = True) -> list[AuditEntry]:
+def audit_append_many(
+    entries: Sequence[PendingEntry], *, bulk: bool = True, entries_back: bool = True
+) -> list[AuditEntry]:
     """Append ``entries`` in order under one lock of the chain head: each gets its own
     sequence and its own hash, chained on the one before, and the head is updated once.
     The same chain as ``audit_append`` called for each in turn, in three queries instead of
-    three per entry. Must run inside the caller's transaction."""
+    three per entry. Must run inside the caller's transaction. The entries as saved, unless
+    ``entries_back`` is False (a bulk writer that has no use for them: building them was a
+    sixth of a batch's audit append); then an empty list."""
     for pending in entries:
         if pending.action not in _ACTIONS:
             raise ValueError(f"unknown audit action {pending.action!r}")
@@ -206,7 +210,7 @@ def audit_append_many(entries: Sequence[PendingEntry], *, bulk: bool = True) -> 
         ))
         texts.append(changes_json)
         previous_hash = entry_hash
-    appended = _entries_write(rows, texts, bulk=bulk)
+    appended = _entries_write(rows, texts, bulk=bulk, entries_back=entries_back)
     head.last_sequence, head.last_hash = sequence, previous_hash
     head.save(update_fields=["last_sequence", "last_hash"])
     return appended
@@ -224,9 +228,12 @@ if ("id", *_ENTRY_FIELDS) != tuple(f.attname for f in AuditEntry._meta.concrete_
     raise RuntimeError("AuditEntry's fields changed: update analyses.audit._ENTRY_FIELDS to match them, in order")
 
 
-def _entries_write(rows: list[tuple[Any, ...]], changes_json: list[str], *, bulk: bool) -> list[AuditEntry]:
+def _entries_write(
+    rows: list[tuple[Any, ...]], changes_json: list[str], *, bulk: bool, entries_back: bool
+) -> list[AuditEntry]:
     """Insert the entries, one tuple of values each in ``_ENTRY_FIELDS`` order, with their
-    changes as the canonical JSON text that was hashed; the entries as saved. On PostgreSQL a
+    changes as the canonical JSON text that was hashed; the entries as saved (none unless
+    ``entries_back``, on the COPY path). On PostgreSQL a
     bulk write streams the values with COPY, the changes as that very text: no model object
     to prepare and no second encoding of the changes (issue 12)."""
     alias = router.db_for_write(AuditEntry)
@@ -234,6 +241,8 @@ def _entries_write(rows: list[tuple[Any, ...]], changes_json: list[str], *, bulk
         ids = values_copy(
             AuditEntry, _ENTRY_FIELDS, [(*row[:_CHANGES], text, *row[_CHANGES + 1:]) for row, text in zip(rows, changes_json)]
         )
+        if not entries_back:
+            return []
         return [AuditEntry.from_db(alias, ("id", *_ENTRY_FIELDS), (pk, *row)) for pk, row in zip(ids, rows)]
     entries = [AuditEntry(**dict(zip(_ENTRY_FIELDS, row))) for row in rows]
     if bulk:

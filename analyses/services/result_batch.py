@@ -300,7 +300,7 @@ class _Batch:
                 changes[entry.index]["review_warnings"] = [before, entry.test.review_warnings]
         if completed:
             rows_update([entry.test for entry in completed], ["state", *AGGREGATE_FIELDS])
-        audit_append_many(self._audit_entries(budgets, means, changes))
+        audit_append_many(self._audit_entries(budgets, means, changes), entries_back=False)
         # parameters worked out from these means (TOTOX from PV and AnV: services/derived_tests.py)
         derived_tests_refresh(self.actor, [entry.test for entry in completed], reason=MEAN_REASON)
         in_batch = {entry.test.pk for entry in completed}

@@ -304,3 +304,22 @@ def test_awkward_text_in_a_bulk_append_is_stored_as_hashed(received_sample):
     stored = AuditEntry.objects.get(pk=entry.pk)
     assert stored.changes == awkward == entry.changes and stored.reason == "ünïcode"
     assert audit_chain_verify().ok
+
+
+def test_a_bulk_append_that_wants_no_entries_back_writes_the_same_chain(received_sample):
+    """``entries_back=False`` (result entry's batches) skips building the saved entries; the
+    rows written, their sequence, hashes and head are those of an append that returns them."""
+    from analyses.audit import PendingEntry, audit_append_many
+    from analyses.models import AuditChainHead, AuditEntry
+
+    first_sequence = AuditChainHead.objects.get(id=1).last_sequence + 1
+    pending = [PendingEntry(None, AuditAction.CHANGE, received_sample, {"storage_place": ["", f"shelf {n}"]}) for n in range(3)]
+    with transaction.atomic():
+        assert audit_append_many(pending, entries_back=False) == []
+    stored = list(AuditEntry.objects.filter(sequence__gte=first_sequence).order_by("sequence"))
+    assert [e.sequence for e in stored] == [first_sequence, first_sequence + 1, first_sequence + 2]
+    assert [e.changes for e in stored] == [p.changes for p in pending]
+    assert [e.pk for e in stored] == sorted(e.pk for e in stored)  # ids in the order of the entries
+    head = AuditChainHead.objects.get(id=1)
+    assert (head.last_sequence, head.last_hash) == (stored[-1].sequence, stored[-1].entry_hash)
+    assert audit_chain_verify().ok
