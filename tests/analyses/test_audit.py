@@ -238,6 +238,26 @@ def test_json_safe_gives_what_a_json_round_trip_gives(value):
     assert _types(got) == _types(expected)
 
 
+@given(st.dictionaries(st.text(max_size=6), _values, max_size=4))
+@settings(max_examples=300, deadline=None)
+def test_changes_are_encoded_as_json_safe_then_canonical_json_would(changes):
+    """changes_encoded takes a short cut for changes that are plain already; whatever the
+    changes, it must give json_safe's values and canonical_json's text of them, or refuse
+    what canonical_json refuses (NaN and the infinities)."""
+    from analyses.audit import canonical_json, changes_encoded
+
+    expected_values = json_safe(dict(changes))
+    try:
+        expected = (expected_values, canonical_json(expected_values))
+    except ValueError:
+        with pytest.raises(ValueError):
+            changes_encoded(changes)
+        return
+    values, text = changes_encoded(changes)
+    assert text == expected[1]
+    assert _types(values) == _types(expected[0])
+
+
 _texts = st.text(max_size=12)  # any Unicode: quotes, backslashes, control characters, emoji
 
 
