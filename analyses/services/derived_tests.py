@@ -27,8 +27,8 @@ from analyses.errors import Conflict
 from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Test, TestState, TestUncertainty
 from analyses.services.access import Actor
 from analyses.services.result_trace import Trace
-from plugins.contract import MethodPlugin
-from plugins.registry import get_registry
+from plugins.contract import MethodPlugin, split_parameter
+from plugins.registry import UnknownMethod, get_registry
 
 # a derived test in one of these states follows its sources; an accepted one is final
 FOLLOWING = (TestState.PENDING, TestState.ASSIGNED, TestState.RESULT_ENTERED, TestState.SENT_BACK)
@@ -39,6 +39,18 @@ def derived_methods() -> dict[str, MethodPlugin]:
     """The registered derived methods by code."""
     registry = get_registry()
     return {code: registry.get(code) for code in registry.codes() if registry.get(code).derived_from}
+
+
+def _derived_method(code: str) -> MethodPlugin | None:
+    """``derived_methods().get(code)`` without building the whole dict: it is asked for every
+    entry of a batch."""
+    if split_parameter(code)[1]:  # a component of a profile is never a derived method's code
+        return None
+    try:
+        plugin = get_registry().get(code)
+    except UnknownMethod:
+        return None
+    return plugin if plugin.derived_from else None
 
 
 def _standing_sources(sample_ids: set[int], codes: set[str], given: dict[int, Test]) -> dict[tuple[int, str], Test]:
@@ -213,7 +225,7 @@ def derived_review_refusal(test: Test, *, sending_back: bool) -> Conflict | None
 
 def derived_entry_refusal(test: Test, *, correcting: bool = False) -> Conflict | None:
     """A derived test takes no entry, and no correction, by hand."""
-    plugin = derived_methods().get(test.method_code)
+    plugin = _derived_method(test.method_code)
     if plugin is None:
         return None
     sources = " and ".join(plugin.derived_from.values())
