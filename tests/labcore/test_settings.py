@@ -61,3 +61,39 @@ def test_the_defaults_ignore_forwarded_for_and_keep_tokens_30_days(tmp_path):
 def test_a_token_lifetime_that_is_not_positive_stops_the_start(tmp_path):
     done = _run(tmp_path, API_TOKEN_TTL_DAYS="0")
     assert done.returncode != 0 and "API_TOKEN_TTL_DAYS must be a positive number" in done.stderr
+
+
+PRINT_CONNECTIONS = """
+import json, django
+from django.conf import settings
+django.setup()
+database = settings.DATABASES["default"]
+print(json.dumps([database["ENGINE"], database["CONN_MAX_AGE"], database["CONN_HEALTH_CHECKS"]]))
+"""
+
+
+def _connections(tmp_path, **env: str) -> subprocess.CompletedProcess:
+    environment = {**os.environ, "DJANGO_SETTINGS_MODULE": "labcore.settings", "OLEOTRACE_VAR_DIR": str(tmp_path), **env}
+    if "DATABASE_CONN_MAX_AGE" not in env:
+        environment.pop("DATABASE_CONN_MAX_AGE", None)
+    return subprocess.run([sys.executable, "-c", PRINT_CONNECTIONS], cwd=ROOT, env=environment, capture_output=True, text=True, timeout=120)
+
+
+def test_postgresql_connections_are_kept_a_minute_and_checked_before_reuse(tmp_path):
+    # settings only: nothing connects, so no server is needed
+    done = _connections(tmp_path, DATABASE_URL="postgres://nobody@127.0.0.1:1/none")
+    assert done.returncode == 0, done.stderr
+    assert json.loads(done.stdout) == ["labcore.postgresql", 60, True]
+    done = _connections(tmp_path, DATABASE_URL="postgres://nobody@127.0.0.1:1/none", DATABASE_CONN_MAX_AGE="0")
+    assert json.loads(done.stdout)[1] == 0
+
+
+def test_the_demo_database_opens_a_connection_per_request(tmp_path):
+    done = _connections(tmp_path, DATABASE_URL="")
+    assert done.returncode == 0, done.stderr
+    assert json.loads(done.stdout)[:2] == ["django.db.backends.sqlite3", 0]
+
+
+def test_a_connection_age_that_is_not_a_whole_number_stops_the_start(tmp_path):
+    done = _connections(tmp_path, DATABASE_URL="postgres://nobody@127.0.0.1:1/none", DATABASE_CONN_MAX_AGE="1 minute")
+    assert done.returncode != 0 and "DATABASE_CONN_MAX_AGE must be a whole number of seconds" in done.stderr
