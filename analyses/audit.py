@@ -13,6 +13,7 @@ import json
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime
+from decimal import Decimal
 from typing import Any
 
 from django.core.serializers.json import DjangoJSONEncoder
@@ -76,21 +77,47 @@ def canonical_json(value: Any) -> str:
 
 
 def changes_encoded(changes: Mapping[str, Any]) -> tuple[dict[str, Any], str]:
-    """An entry's changes as plain JSON types and as canonical JSON text: what ``json_safe``
-    then ``canonical_json`` give. Changes that are plain already (most are: ``created`` and
-    ``snapshot`` give them so) are encoded as they are, and read back to check that nothing
-    was lost on the way (a key that was not a string, a tuple, a Decimal); only other
-    changes take ``json_safe``'s walk, which was a quarter of a batch's audit append (issue 12)."""
+    """An entry's changes as plain JSON types and as canonical JSON text, each number as
+    PostgreSQL's jsonb keeps it (``as_jsonb_keeps``): what ``json_safe``, then
+    ``as_jsonb_keeps``, then ``canonical_json`` give, so that the text hashed is the text
+    ``audit_verify`` makes again from the stored row. Changes that are plain already (most
+    are: ``created`` and ``snapshot`` give them so) are encoded as they are, and read back to
+    check that nothing was lost on the way (a key that was not a string, a tuple, a Decimal);
+    only other changes, or a text that may hold a number jsonb rewrites, take the walk, which
+    was a quarter of a batch's audit append (issue 12). Keys are ordered as str orders them;
+    a str subclass that orders itself otherwise is not supported (no service uses one)."""
     try:
         text = canonical_json(changes)
     except (TypeError, ValueError):
         pass
     else:
-        plain = json.loads(text)
-        if plain == changes:
-            return plain, text
-    plain = json_safe(dict(changes))
+        # a float jsonb rewrites is written "-0.0" or with "e+"; a string may hold them too,
+        # and then only costs the walk
+        if "e+" not in text and "-0.0" not in text:
+            plain = json.loads(text)
+            if plain == changes:
+                return plain, text
+    plain = as_jsonb_keeps(json_safe(dict(changes)))
     return plain, canonical_json(plain)
+
+
+def as_jsonb_keeps(value: Any) -> Any:
+    """``value`` (plain JSON types) with each float as PostgreSQL's jsonb gives it back: jsonb
+    keeps numbers as ``numeric``, which has no negative zero (-0.0 comes back 0.0) and prints
+    no exponent, so a float Python writes with one (1e+16 and up, all whole numbers) comes
+    back an integer. Anything else comes back as written."""
+    kind = type(value)
+    if kind is float:
+        if value == 0:
+            return 0.0
+        written = repr(value)
+        # the number as written, not the float's binary value: 1e+23 comes back 10**23
+        return int(Decimal(written)) if "e+" in written else value
+    if kind is dict:
+        return {key: as_jsonb_keeps(item) for key, item in value.items()}
+    if kind is list:
+        return [as_jsonb_keeps(item) for item in value]
+    return value
 
 
 def _canonical_time(at: datetime) -> str:
@@ -266,7 +293,7 @@ def _entries_write(
 ) -> list[AuditEntry]:
     """Insert the entries, one tuple of values each in ``_ENTRY_FIELDS`` order, with their
     changes as the canonical JSON text that was hashed; the entries as saved (none unless
-    ``entries_back``, on the COPY path). On PostgreSQL a
+    ``entries_back``). On PostgreSQL a
     bulk write streams the values with COPY, the changes as that very text: no model object
     to prepare and no second encoding of the changes (issue 12)."""
     alias = router.db_for_write(AuditEntry)
@@ -283,7 +310,7 @@ def _entries_write(
     else:
         for entry in entries:
             entry.save()
-    return entries
+    return entries if entries_back else []
 
 
 @dataclass(frozen=True)

@@ -238,15 +238,16 @@ def test_json_safe_gives_what_a_json_round_trip_gives(value):
     assert _types(got) == _types(expected)
 
 
-@given(st.dictionaries(st.text(max_size=6), _values, max_size=4))
+@given(st.dictionaries(st.one_of(st.text(max_size=6), st.integers()), _values, max_size=4))
 @settings(max_examples=300, deadline=None)
 def test_changes_are_encoded_as_json_safe_then_canonical_json_would(changes):
     """changes_encoded takes a short cut for changes that are plain already; whatever the
-    changes, it must give json_safe's values and canonical_json's text of them, or refuse
-    what canonical_json refuses (NaN and the infinities)."""
-    from analyses.audit import canonical_json, changes_encoded
+    changes, it must give json_safe's values with numbers as jsonb keeps them, and
+    canonical_json's text of those, or refuse what canonical_json refuses (NaN and the
+    infinities)."""
+    from analyses.audit import as_jsonb_keeps, canonical_json, changes_encoded
 
-    expected_values = json_safe(dict(changes))
+    expected_values = as_jsonb_keeps(json_safe(dict(changes)))
     try:
         expected = (expected_values, canonical_json(expected_values))
     except ValueError:
@@ -256,6 +257,38 @@ def test_changes_are_encoded_as_json_safe_then_canonical_json_would(changes):
     values, text = changes_encoded(changes)
     assert text == expected[1]
     assert _types(values) == _types(expected[0])
+
+
+def test_changes_in_a_mapping_that_is_not_a_dict_take_the_walk():
+    from types import MappingProxyType
+
+    from analyses.audit import changes_encoded
+
+    assert changes_encoded(MappingProxyType({"b": [None, (1, 2)], "a": [0, 1]})) == (
+        {"b": [None, [1, 2]], "a": [0, 1]}, '{"a":[0,1],"b":[null,[1,2]]}'
+    )
+
+
+@pytest.mark.parametrize("bulk", [True, False])
+def test_numbers_the_database_rewrites_are_hashed_as_it_keeps_them(received_sample, bulk):
+    """PostgreSQL's jsonb keeps numbers as numeric: no negative zero, no exponent, so -0.0
+    comes back 0.0 and 1e+16 comes back the integer 10000000000000000. An entry must be hashed
+    as the database keeps it, or audit_verify finds it changed (found by a review of 2026-12-03:
+    such entries failed to verify before)."""
+    from analyses.audit import PendingEntry, audit_append_many
+    from analyses.models import AuditEntry
+
+    awkward = {"zero": [-0.0, 0.0], "big": [1e16, 1.2345678901234567e16], "huge": [1e23, -1e300],
+               "small": [1e-7, 2.5e-300], "text": ["1e+16 and -0.0 as words", None]}
+    with transaction.atomic():
+        [entry] = audit_append_many([PendingEntry(None, AuditAction.CHANGE, received_sample, awkward)], bulk=bulk)
+    stored = AuditEntry.objects.get(pk=entry.pk)
+    # the numbers as written, not the floats' binary values (1e23 is 10**23 here)
+    assert stored.changes == entry.changes == {
+        "zero": [0.0, 0.0], "big": [10**16, 12345678901234568], "huge": [10**23, -(10**300)],
+        "small": [1e-7, 2.5e-300], "text": ["1e+16 and -0.0 as words", None],
+    }
+    assert audit_chain_verify().ok
 
 
 _texts = st.text(max_size=12)  # any Unicode: quotes, backslashes, control characters, emoji
