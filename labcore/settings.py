@@ -114,13 +114,14 @@ DATABASES = {
 if DATABASES["default"]["ENGINE"] == "django.db.backends.postgresql":
     # Django's backend, with bulk inserts as VALUES lists (labcore/postgresql/__init__.py says why)
     DATABASES["default"]["ENGINE"] = "labcore.postgresql"
-    # Each web worker and Celery child keeps its connection for DATABASE_CONN_MAX_AGE seconds
-    # (0: one connection per request, as Django's default), checked before it is reused. A new
-    # connection cost about 4.5 ms of every request on this machine's own PostgreSQL, more
-    # across a network. SQLite (the demo, under Django's development server, which starts a
-    # thread per request) keeps Django's default.
+    # Each web worker thread keeps its connection between requests: it is checked before each
+    # reuse and closed when a request ends DATABASE_CONN_MAX_AGE seconds after it was opened
+    # (0: one connection per request, Django's default). Opening one cost 7 to 15 ms of a
+    # request through gunicorn on this machine's own PostgreSQL (README, Run in production).
+    # Celery's Django fix-up closes connections around every task whatever this says. SQLite
+    # (the demo, under Django's development server) keeps Django's default.
     _conn_max_age = os.environ.get("DATABASE_CONN_MAX_AGE", "60").strip()
-    if not _conn_max_age.isdigit():
+    if not _conn_max_age.isdecimal():
         raise ImproperlyConfigured("DATABASE_CONN_MAX_AGE must be a whole number of seconds (0 or more)")
     DATABASES["default"]["CONN_MAX_AGE"] = int(_conn_max_age)
     DATABASES["default"]["CONN_HEALTH_CHECKS"] = True

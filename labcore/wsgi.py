@@ -14,3 +14,9 @@ from labcore.collector import collector_settle  # noqa: E402
 # URLconf (every view) here rather than in each worker's first request, then settle the collector
 get_resolver().url_patterns
 collector_settle()
+
+from django.db import connections  # noqa: E402
+
+# loading opens no connection today; were one opened, the workers forked from here would share
+# its socket now that connections are kept between requests (DATABASE_CONN_MAX_AGE)
+connections.close_all()
