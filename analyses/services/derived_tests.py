@@ -43,7 +43,7 @@ def derived_methods() -> dict[str, MethodPlugin]:
 
 def _derived_method(code: str) -> MethodPlugin | None:
     """``derived_methods().get(code)`` without building the whole dict: it is asked for every
-    entry of a batch."""
+    entry of a batch and every test reviewed."""
     if split_parameter(code)[1]:  # a component of a profile is never a derived method's code
         return None
     try:
@@ -164,7 +164,7 @@ def standing_sources_of(test: Test) -> list[Test]:
     """For a derived test, the accepted tests of the sample its sources stand on now (locked);
     else none. A derived test is accepted only after them, so a TOTOX under investigation has
     them all."""
-    plugin = derived_methods().get(test.method_code)
+    plugin = _derived_method(test.method_code)
     if plugin is None:
         return []
     codes = set(plugin.derived_from.values())
@@ -209,7 +209,7 @@ def _move(actor: Actor, test: Test, target: str, reason: str) -> None:
 def derived_review_refusal(test: Test, *, sending_back: bool) -> Conflict | None:
     """Why a derived test cannot be reviewed so now, or None: it is never sent back (its sources
     are), and it is accepted only after every source test is."""
-    plugin = derived_methods().get(test.method_code)
+    plugin = _derived_method(test.method_code)
     if plugin is None:
         return None
     sources = ", ".join(plugin.derived_from.values())
