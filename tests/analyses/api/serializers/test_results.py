@@ -1,0 +1,68 @@
+"""ResultSerializer writes its representation out by hand (issue 12: DRF's walk over the fields
+was a tenth of a bulk entry); it must give exactly what that walk gives, field for field and
+type for type, on results of every kind."""
+from __future__ import annotations
+
+import pytest
+from django.utils import timezone
+from rest_framework import serializers
+
+from analyses.api.serializers.results import ResultSerializer
+from analyses.models import Result, ResultInstrument, ResultStatus
+from analyses.selectors.api_results import result_rows
+from analyses.services.results import result_correct, result_record_bulk_once
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, PV_LOW, PV_TRACE
+from tests.factories import UserFactory
+
+pytestmark = pytest.mark.django_db
+
+
+def _walked(results: list[Result]) -> list[dict]:
+    """What DRF's ModelSerializer gives field by field, without the hand-written path."""
+    child = ResultSerializer()
+    return [serializers.ModelSerializer.to_representation(child, result) for result in results]
+
+
+def _assert_same(results: list[Result]) -> None:
+    shown = ResultSerializer(results, many=True).data
+    walked = _walked(results)
+    # repr tells a str from a str-valued enum, an int from a float, and the keys' order
+    assert repr(list(shown)) == repr(walked)
+    assert [list(row) for row in shown] == [list(ResultSerializer.Meta.fields)] * len(results)
+
+
+def test_results_just_entered_show_as_the_fields_would_show_them(lab, users):
+    av, pv = lab.assigned("analyst")
+    implausible = {**AV_LOW_TWIN, "sample_volume": "55.0"}  # beyond one filling of a 50 mL burette: an input warning
+    batch = result_record_bulk_once(users["analyst"], [
+        {"test": av.pk, "inputs": AV_LOW, **AV_TRACE},
+        {"test": av.pk, "inputs": implausible, **AV_TRACE},
+        {"test": pv.pk, "inputs": PV_LOW, **PV_TRACE},
+    ])
+    _assert_same(batch.results)  # the objects the service built, as the bulk view shows them
+    _assert_same(list(result_rows().filter(pk__in=[r.pk for r in batch.results])))  # read back
+    assert any(row["input_warnings"] for row in ResultSerializer(batch.results, many=True).data)
+    assert all(len(row["instruments"]) == 2 for row in ResultSerializer(batch.results, many=True).data)
+
+
+def test_corrected_invalidated_and_bare_results_show_as_the_fields_would_show_them(lab, users):
+    av, _ = lab.assigned("analyst")
+    [first] = result_record_bulk_once(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}]).results
+    fixed = result_correct(users["analyst"], first, inputs=AV_LOW_TWIN, reason="burette read at 1.33 mL")
+    # rows no entry writes today (invented): no titrant lot, no instruments, a profile's
+    # components, a method no longer registered, an invalidated status with its reason
+    bare = Result.objects.create(
+        test=av, replicate=2, inputs={"x": "1"}, value=0.35, value_exact="0.35", reported="0.35", unit="mg KOH/g",
+        method_code="gone", method_version="0.9", verdict="pass", entered_by=UserFactory(), entered_at=timezone.now(),
+        components={"C18:2": {"name": "C18:2", "exact": "52.1", "reported": "52.1", "unit": "%", "decimals": 1,
+                              "kind": "measured", "detected": True}},
+        status=ResultStatus.INVALIDATED, status_reason="sent back: lab error",
+    )
+    assert ResultInstrument.objects.filter(result=bare).count() == 0
+    rows = list(result_rows().filter(pk__in=[first.pk, fixed.pk, bare.pk]))
+    _assert_same(rows)
+    shown = {row["id"]: row for row in ResultSerializer(rows, many=True).data}
+    assert shown[fixed.pk]["supersedes"] == first.pk
+    assert shown[fixed.pk]["correction_reason"] == "burette read at 1.33 mL"
+    assert shown[bare.pk]["titrant_lot"] is None and shown[bare.pk]["instruments"] == []
+    assert shown[bare.pk]["status"] == "invalidated"
