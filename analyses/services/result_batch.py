@@ -59,6 +59,7 @@ from analyses.services.uncertainty import (
     entry_budget,
     stored_budget_dict,
     stored_budget_fields,
+    traced_source,
 )
 from analyses.services.pull_judging import test_verdict
 from labcore.metrics import RESULTS_ENTERED, count_on_commit
@@ -104,6 +105,8 @@ class _NewEntry:
     current: list[Result] = field(default_factory=list)
     budget: Budget | None = None
     mean: Budget | None = None
+    # the inputs as the plugin validated them to compute the result, for its budget
+    values: dict[str, Any] = field(default_factory=dict)
 
 
 def _test_id(ref: Any) -> int | None:
@@ -232,7 +235,7 @@ class _Batch:
             replicate=replicate, idempotency_key=key,
             **new_result_fields(self.actor, test, request.inputs, outcome, aggregate, trace),
         )
-        entry = _NewEntry(index, test, plugin, trace, result)
+        entry = _NewEntry(index, test, plugin, trace, result, values=outcome.inputs)
         current[replicate] = result
         if complete:
             entry.aggregate = aggregate
@@ -317,13 +320,15 @@ class _Batch:
         test, the mean's budget and verdict (``uncertainty.result_uncertainty_record`` for
         one result)."""
         sources: dict[str, Any] = {}
+        traced: dict[tuple, Any] = {}
         entry_of = {id(entry.result): entry for entry in self.new}
         for entry in self.new:
             code = entry.plugin.code
             if code not in sources:
                 sources[code] = budget_source(entry.plugin)
             uses = [(u.instrument, self.catalog.calibrations[u.calibration_id]) for u in entry.trace.uses]
-            entry.budget = entry_budget(entry.result, entry.plugin, sources[code], uses)
+            source = traced_source(sources[code], entry.result, uses, traced)
+            entry.budget = entry_budget(entry.result, entry.plugin, source, uses, values=entry.values)
             if entry.budget is None:
                 continue
             entry.result.verdict = test_verdict(Decimal(entry.result.value_exact), entry.test, entry.budget.expanded)

@@ -22,6 +22,7 @@ from analyses.models import (
 from analyses.services.assignments import test_assign_bulk
 from analyses.services.results import result_record, result_record_bulk, result_record_bulk_once
 from analyses.services.samples import sample_receive, sample_register
+from analyses.services.uncertainty import budget_of
 from labcore.metrics import RESULTS_ENTERED
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, INPUTS, PV_LOW, TRACE
 
@@ -124,6 +125,10 @@ def test_a_batch_writes_what_one_entry_at_a_time_writes_and_the_chain_verifies(u
         assert list(together.instrument_uses.values_list("instrument_id", "calibration_id")) == list(
             alone.instrument_uses.values_list("instrument_id", "calibration_id")
         )
+        # the budget kept at entry (from the inputs the plugin validated, its trace shared by the
+        # batch's results) is the one worked out afresh from the stored result
+        for result in (alone, together):
+            assert result.uncertainty.budget == budget_of(result).as_dict()
 
 
 def test_an_error_at_a_later_entry_writes_nothing(users, lot):
