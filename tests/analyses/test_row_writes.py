@@ -138,3 +138,40 @@ def test_values_of_other_types_are_prepared_as_bulk_create_prepares_them(postgre
     assert {k: v for k, v in copied.items() if k not in ("id", "code")} == {k: v for k, v in bulk.items() if k not in ("id", "code")}
     assert copied["name"] == "assigned" and type(copied["name"]) is str
     assert copied["created_by_id"] == by.pk and copied["created_at"] == elsewhere
+
+
+def test_json_is_stored_as_bulk_create_stores_it(postgres):
+    """JSON values through COPY: quotes, backslashes, control characters and other scripts kept,
+    numbers as jsonb keeps them, and SQL NULL kept apart from an expression's JSON null."""
+    from django.db.models import JSONField, Value
+
+    from analyses.models import Result
+
+    test, by, now = TestFactory(), UserFactory(), timezone.now()
+    tricky = {"note": 'a "q" \\ b\nnext\ttab', "µ": "½ — ü", "n": [1, 2.5, -0.0, 1e300, None, True], "nested": {"": {}}}
+    cases = [
+        {"inputs": tricky, "components": {}, "duplicate_check": None},  # SQL NULL
+        {"inputs": "a JSON string", "components": [1, "x"], "duplicate_check": {"passed": False}},
+        {"inputs": {}, "components": {}, "duplicate_check": Value(None, JSONField())},  # JSON null
+    ]
+
+    def rows(first: int) -> list[Result]:
+        return [
+            Result(test=test, replicate=first + n, value=0.35, value_exact="0.35", reported="0.35", unit="mg KOH/g",
+                   method_code="av", method_version="1", verdict="pass", entered_by=by, entered_at=now, **case)
+            for n, case in enumerate(cases)
+        ]
+
+    copied, bulk = rows(1), rows(11)
+    rows_insert(copied)
+    Result.objects.bulk_create(bulk)
+    fields = ("inputs", "components", "duplicate_check")
+    for mine, theirs in zip(copied, bulk):
+        assert Result.objects.values(*fields).get(pk=mine.pk) == Result.objects.values(*fields).get(pk=theirs.pk)
+    stored = Result.objects.values_list("inputs", flat=True).get(pk=copied[0].pk)
+    # the text as written; the numbers as jsonb keeps them (numeric: no -0.0, no exponent)
+    assert {key: stored[key] for key in ("note", "µ", "nested")} == {key: tricky[key] for key in ("note", "µ", "nested")}
+    assert stored["n"] == [1, 2.5, 0.0, 10**300, None, True]
+    # SQL NULL and JSON null stay apart, as bulk_create keeps them
+    null = set(Result.objects.filter(duplicate_check__isnull=True).values_list("pk", flat=True))
+    assert null == {copied[0].pk, bulk[0].pk}
