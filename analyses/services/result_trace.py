@@ -80,6 +80,9 @@ class TraceCatalog:
     standardisations: dict[int, Standardisation] = field(default_factory=dict)
     instruments: dict[int | str, Instrument] = field(default_factory=dict)
     calibrations: dict[int, Calibration] = field(default_factory=dict)
+    # the traces checked so far, by method and the lot and instruments as named
+    # (``trace_for_entry``): a batch's entries mostly name the same ones
+    traces: dict[tuple, Trace] = field(default_factory=dict)
 
     def lot(self, ref: int | str) -> ReagentLot | None:
         return self.lots_by_pk.get(ref) if isinstance(ref, int) else self.lots_by_code.get(ref)
@@ -212,8 +215,12 @@ def trace_for_entry(
 ) -> Trace:
     """The checked trace of a new entry, or the refusal. Runs before anything is written.
     With ``catalog`` (``trace_catalog`` of the batch) the lots and instruments are looked up
-    there, not read one by one."""
+    there, not read one by one, and a trace named again by a later entry of the batch for the
+    same method is the one checked before (the inputs are still checked for a typed titrant)."""
     refuse_typed_titrant(plugin, inputs)
+    key = _trace_key(plugin, titrant_lot, instruments) if catalog is not None else None
+    if key is not None and key in catalog.traces:
+        return catalog.traces[key]
     lot = standardisation = None
     if plugin.titrants:
         if titrant_lot in (None, ""):
@@ -221,7 +228,26 @@ def trace_for_entry(
         lot, standardisation = _lot(plugin, titrant_lot, now, catalog)
     elif titrant_lot not in (None, ""):
         raise InvalidInput.for_field("titrant_lot", f"method {plugin.code} uses no titrant")
-    return Trace(lot, standardisation, _instruments(plugin, instruments, now, catalog))
+    trace = Trace(lot, standardisation, _instruments(plugin, instruments, now, catalog))
+    if key is not None:
+        catalog.traces[key] = trace
+    return trace
+
+
+def _trace_key(plugin: MethodPlugin, titrant_lot: Any, instruments: Any) -> tuple | None:
+    """What a checked trace depends on, besides the batch's catalog and time: the method, and
+    the lot and instruments as named, each with its type (1 and True, or 5 and "5", are not
+    the same name); None for anything else, which is checked afresh."""
+    if titrant_lot is not None and type(titrant_lot) not in (int, str):
+        return None
+    named: Any = None
+    if isinstance(instruments, (list, tuple)):
+        if any(type(ref) not in (int, str) for ref in instruments):
+            return None
+        named = (type(instruments), tuple((type(ref), ref) for ref in instruments))
+    elif instruments is not None:
+        return None
+    return (plugin.code, type(titrant_lot), titrant_lot, named)
 
 
 def stored_inputs(result: Result) -> dict[str, Any]:

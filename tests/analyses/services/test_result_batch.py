@@ -178,3 +178,32 @@ def test_results_entered_are_counted_once_committed(users, lot, django_capture_o
     with django_capture_on_commit_callbacks(execute=True):
         result_record_bulk(users["analyst"], items)
     assert RESULTS_ENTERED._value.get() == before + len(items)
+
+
+
+def test_a_trace_named_again_in_a_batch_is_checked_under_its_own_name(users, lot, bench):
+    """Entries naming the same lot and instruments share the trace checked first; a name that
+    only equals an earlier one in Python (True and 1) is checked afresh."""
+    from analyses.services.result_trace import _trace_key
+    from plugins.registry import get_registry
+
+    av, pv = _assigned(users, lot, 1, "Q")
+    koh = bench["KOH-BENCH"]
+    batch = result_record_bulk_once(users["analyst"], [
+        {"test": av.pk, "inputs": AV_LOW, "titrant_lot": koh.pk, "instruments": AV_TRACE["instruments"]},
+        {"test": av.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},  # the same lot, by its code
+    ])
+    assert [r.reagent_lot_id for r in batch.results] == [koh.pk, koh.pk]
+    assert all(len(r.instrument_uses.all()) == 2 for r in batch.results)
+    before = _written()
+    pv_trace = TRACE["pv"]
+    for odd, field in (({"titrant_lot": True}, "results.1.titrant_lot"), ({"instruments": [True, "BUR-BENCH"]}, "results.1.instruments.0")):
+        items = [{"test": pv.pk, "inputs": PV_LOW, **pv_trace}, {"test": pv.pk, "inputs": PV_LOW, **pv_trace, **odd}]
+        with pytest.raises(InvalidInput) as caught:
+            result_record_bulk(users["analyst"], items)
+        assert list(caught.value.fields) == [field]
+    assert _written() == before
+    plugin = get_registry().get("av")
+    assert _trace_key(plugin, True, None) != _trace_key(plugin, 1, None)
+    assert _trace_key(plugin, 7, [True]) != _trace_key(plugin, 7, [1])
+    assert _trace_key(plugin, 7, [1.0]) is None  # checked afresh, and refused there
