@@ -109,7 +109,8 @@ class ResultSerializer(serializers.ModelSerializer):
         # of 100 results (issue 12). tests/analyses/api/serializers/test_results.py holds the
         # two equal, field for field, on results of every kind.
         fields = self.fields
-        lot, user = result.reagent_lot, result.entered_by
+        # a relation that is missing reads as None, as DRF's walk reads it
+        lot, user = getattr(result, "reagent_lot", None), getattr(result, "entered_by", None)
         return {
             "id": result.pk,
             "test": result.test_id,
@@ -118,30 +119,42 @@ class ResultSerializer(serializers.ModelSerializer):
             "status": fields["status"].to_representation(result.status),
             "inputs": result.inputs,
             "value": None if result.value is None else float(result.value),
-            "value_exact": str(result.value_exact),
-            "reported": str(result.reported),
-            "unit": str(result.unit),
-            "method_code": str(result.method_code),
-            "method_version": str(result.method_version),
-            "verdict": str(result.verdict),
+            "value_exact": _text(result.value_exact),
+            "reported": _text(result.reported),
+            "unit": _text(result.unit),
+            "method_code": _text(result.method_code),
+            "method_version": _text(result.method_version),
+            "verdict": _text(result.verdict),
             "duplicate_check": result.duplicate_check,
             "supersedes": result.supersedes_id,
-            "correction_reason": str(result.correction_reason),
-            "status_reason": str(result.status_reason),
-            "entered_by": None if user is None else str(user.username),
+            "correction_reason": _text(result.correction_reason),
+            "status_reason": _text(result.status_reason),
+            "entered_by": None if user is None else _text(user.username),
             "entered_at": fields["entered_at"].to_representation(result.entered_at),
-            "titrant_lot": None if lot is None else str(lot.code),
+            "titrant_lot": None if lot is None else _text(lot.code),
             "standardisation": result.standardisation_id,
-            "titrant_concentration": str(result.titrant_concentration),
-            "titrant_uncertainty": str(result.titrant_uncertainty),
-            "instruments": [
-                {"asset_id": str(use.instrument.asset_id), "kind": str(use.instrument.kind), "calibration": use.calibration_id,
-                 "check": use.routine_check_id}
-                for use in result.instrument_uses.all()
-            ],
+            "titrant_concentration": _text(result.titrant_concentration),
+            "titrant_uncertainty": _text(result.titrant_uncertainty),
+            "instruments": [_instrument_use(use) for use in result.instrument_uses.all()],
             "components": result.components,
-            "input_warnings": result_input_warnings(result),
+            "input_warnings": self.get_input_warnings(result),
         }
+
+
+def _text(value: Any) -> str | None:
+    """A text field as DRF's CharField shows it: None stays None, anything else is its str."""
+    return None if value is None else str(value)
+
+
+def _instrument_use(use: Any) -> dict[str, Any]:
+    """One instrument use as ``ResultInstrumentSerializer`` shows it (its instrument is never
+    missing: the key is not null, and DRF's walk would refuse one too)."""
+    return {
+        "asset_id": _text(use.instrument.asset_id),
+        "kind": _text(use.instrument.kind),
+        "calibration": use.calibration_id,
+        "check": use.routine_check_id,
+    }
 
 
 class ResultRecordSerializer(StrictSerializer):

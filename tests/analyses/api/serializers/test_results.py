@@ -66,3 +66,18 @@ def test_corrected_invalidated_and_bare_results_show_as_the_fields_would_show_th
     assert shown[fixed.pk]["correction_reason"] == "burette read at 1.33 mL"
     assert shown[bare.pk]["titrant_lot"] is None and shown[bare.pk]["instruments"] == []
     assert shown[bare.pk]["status"] == "invalidated"
+
+
+def test_values_and_relations_missing_in_memory_show_as_the_fields_would_show_them(lab, users):
+    """No stored row holds them (the columns are not null), but an object in hand may: None
+    stays None, and a missing user reads as None."""
+    av, _ = lab.assigned("analyst")
+    [result] = result_record_bulk_once(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}]).results
+    result.value = None
+    for name in ("value_exact", "reported", "verdict", "correction_reason", "titrant_concentration"):
+        setattr(result, name, None)
+    result.entered_by_id = None
+    result.entered_at = None
+    _assert_same([result])
+    [shown] = ResultSerializer([result], many=True).data
+    assert shown["entered_by"] is None and shown["value_exact"] is None and shown["entered_at"] is None
