@@ -21,7 +21,7 @@ result entered before uncertainty budgets were kept costs a few more when its te
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from decimal import Decimal
 from typing import Any
@@ -106,7 +106,7 @@ class _NewEntry:
     budget: Budget | None = None
     mean: Budget | None = None
     # the inputs as the plugin validated them to compute the result, for its budget
-    values: dict[str, Any] = field(default_factory=dict)
+    values: Mapping[str, Any] | None = None
 
 
 def _test_id(ref: Any) -> int | None:

@@ -218,7 +218,7 @@ def trace_for_entry(
     there, not read one by one, and a trace named again by a later entry of the batch for the
     same method is the one checked before (the inputs are still checked for a typed titrant)."""
     refuse_typed_titrant(plugin, inputs)
-    key = _trace_key(plugin, titrant_lot, instruments) if catalog is not None else None
+    key = _trace_key(plugin, titrant_lot, instruments, now) if catalog is not None else None
     if key is not None and key in catalog.traces:
         return catalog.traces[key]
     lot = standardisation = None
@@ -234,10 +234,10 @@ def trace_for_entry(
     return trace
 
 
-def _trace_key(plugin: MethodPlugin, titrant_lot: Any, instruments: Any) -> tuple | None:
-    """What a checked trace depends on, besides the batch's catalog and time: the method, and
-    the lot and instruments as named, each with its type (1 and True, or 5 and "5", are not
-    the same name); None for anything else, which is checked afresh."""
+def _trace_key(plugin: MethodPlugin, titrant_lot: Any, instruments: Any, now: dt.datetime) -> tuple | None:
+    """What a checked trace depends on, besides the catalog it was checked against: the plugin,
+    the time, and the lot and instruments as named, each with its type (1 and True, or 5 and
+    "5", are not the same name); None for anything else, which is checked afresh."""
     if titrant_lot is not None and type(titrant_lot) not in (int, str):
         return None
     named: Any = None
@@ -247,7 +247,7 @@ def _trace_key(plugin: MethodPlugin, titrant_lot: Any, instruments: Any) -> tupl
         named = (type(instruments), tuple((type(ref), ref) for ref in instruments))
     elif instruments is not None:
         return None
-    return (plugin.code, type(titrant_lot), titrant_lot, named)
+    return (plugin, now, type(titrant_lot), titrant_lot, named)
 
 
 def stored_inputs(result: Result) -> dict[str, Any]:

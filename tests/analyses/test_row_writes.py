@@ -1,6 +1,8 @@
 """rows_insert and rows_update: many rows of one model written at once."""
 from __future__ import annotations
 
+import math
+
 import pytest
 from django.db import IntegrityError, connection, transaction
 from django.utils import timezone
@@ -172,6 +174,8 @@ def test_json_is_stored_as_bulk_create_stores_it(postgres):
     # the text as written; the numbers as jsonb keeps them (numeric: no -0.0, no exponent)
     assert {key: stored[key] for key in ("note", "µ", "nested")} == {key: tricky[key] for key in ("note", "µ", "nested")}
     assert stored["n"] == [1, 2.5, 0.0, 10**300, None, True]
+    assert math.copysign(1, stored["n"][2]) == 1  # 0.0, not -0.0 (which == 0.0 too)
+    assert type(stored["n"][3]) is int
     # SQL NULL and JSON null stay apart, as bulk_create keeps them
     null = set(Result.objects.filter(duplicate_check__isnull=True).values_list("pk", flat=True))
     assert null == {copied[0].pk, bulk[0].pk}

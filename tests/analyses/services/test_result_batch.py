@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import pytest
 from django.db import connection
+from django.utils import timezone
 from django.test.utils import CaptureQueriesContext
 
 from analyses.audit import audit_chain_verify
@@ -24,6 +25,7 @@ from analyses.services.results import result_record, result_record_bulk, result_
 from analyses.services.samples import sample_receive, sample_register
 from analyses.services.uncertainty import budget_of
 from labcore.metrics import RESULTS_ENTERED
+from tests.factories import usable_instrument
 from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, INPUTS, PV_LOW, TRACE
 
 pytestmark = pytest.mark.django_db
@@ -181,29 +183,58 @@ def test_results_entered_are_counted_once_committed(users, lot, django_capture_o
 
 
 
-def test_a_trace_named_again_in_a_batch_is_checked_under_its_own_name(users, lot, bench):
+
+def test_a_trace_named_again_in_a_batch_is_checked_once_and_only_under_its_own_name(users, lot, bench, monkeypatch):
     """Entries naming the same lot and instruments share the trace checked first; a name that
-    only equals an earlier one in Python (True and 1) is checked afresh."""
+    only equals an earlier one in Python (True and 1) is checked afresh, and refused."""
+    from analyses.services import result_trace
     from analyses.services.result_trace import _trace_key
     from plugins.registry import get_registry
 
+    checked = []
+    real_lot = result_trace._lot
+    monkeypatch.setattr(result_trace, "_lot", lambda *args: checked.append(args[1]) or real_lot(*args))
     av, pv = _assigned(users, lot, 1, "Q")
     koh = bench["KOH-BENCH"]
+    by_pk = {"titrant_lot": koh.pk, "instruments": [bench["BAL-BENCH"].pk, bench["BUR-BENCH"].pk]}
     batch = result_record_bulk_once(users["analyst"], [
-        {"test": av.pk, "inputs": AV_LOW, "titrant_lot": koh.pk, "instruments": AV_TRACE["instruments"]},
-        {"test": av.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},  # the same lot, by its code
+        {"test": av.pk, "inputs": AV_LOW, **by_pk},
+        {"test": av.pk, "inputs": AV_LOW_TWIN, **by_pk},  # the same names: the trace checked above
     ])
+    assert checked == [koh.pk]
     assert [r.reagent_lot_id for r in batch.results] == [koh.pk, koh.pk]
-    assert all(len(r.instrument_uses.all()) == 2 for r in batch.results)
+    assert [[u.instrument_id for u in r.instrument_uses.all()] for r in batch.results] == [sorted(by_pk["instruments"])] * 2
     before = _written()
-    pv_trace = TRACE["pv"]
-    for odd, field in (({"titrant_lot": True}, "results.1.titrant_lot"), ({"instruments": [True, "BUR-BENCH"]}, "results.1.instruments.0")):
-        items = [{"test": pv.pk, "inputs": PV_LOW, **pv_trace}, {"test": pv.pk, "inputs": PV_LOW, **pv_trace, **odd}]
+    thio = bench["THIO-BENCH"]
+    pv_by_pk = {"titrant_lot": thio.pk, "instruments": [bench["BAL-BENCH"].pk, bench["BUR-BENCH"].pk]}
+    for odd, field in (({"titrant_lot": True}, "results.1.titrant_lot"), ({"instruments": [True, bench["BUR-BENCH"].pk]}, "results.1.instruments.0")):
+        items = [{"test": pv.pk, "inputs": PV_LOW, **pv_by_pk}, {"test": pv.pk, "inputs": PV_LOW, **pv_by_pk, **odd}]
         with pytest.raises(InvalidInput) as caught:
             result_record_bulk(users["analyst"], items)
         assert list(caught.value.fields) == [field]
     assert _written() == before
-    plugin = get_registry().get("av")
-    assert _trace_key(plugin, True, None) != _trace_key(plugin, 1, None)
-    assert _trace_key(plugin, 7, [True]) != _trace_key(plugin, 7, [1])
-    assert _trace_key(plugin, 7, [1.0]) is None  # checked afresh, and refused there
+    # the key tells the names apart by type, where Python's equality would not (True == 1)
+    plugin, now = get_registry().get("av"), timezone.now()
+    assert _trace_key(plugin, True, None, now) != _trace_key(plugin, 1, None, now)
+    assert _trace_key(plugin, 7, [True], now) != _trace_key(plugin, 7, [1], now)
+    assert _trace_key(plugin, 7, [1], now) != _trace_key(plugin, 7, (1,), now)
+    assert _trace_key(plugin, 7, [1.0], now) is None  # checked afresh, and refused there
+
+
+def test_results_measured_with_other_lots_and_instruments_keep_their_own_budgets(users, lot, bench):
+    """A batch's results share a traced budget source only when their lot and calibrations are
+    the same: each kept budget is the one worked out afresh from its stored result."""
+    other_burette = usable_instrument("BUR-OTHER", "burette", by=users["manager"], tolerance="0.05")
+    first, second = _assigned(users, lot, 2, "U")[0::2]  # two AV tests
+    batch = result_record_bulk_once(users["analyst"], [
+        {"test": first.pk, "inputs": AV_LOW, **AV_TRACE},
+        {"test": first.pk, "inputs": AV_LOW_TWIN, "titrant_lot": "NAOH-0.1-BENCH", "instruments": AV_TRACE["instruments"]},
+        {"test": second.pk, "inputs": AV_LOW, "titrant_lot": "KOH-BENCH", "instruments": ["BAL-BENCH", "BUR-OTHER"]},
+        {"test": second.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},
+    ])
+    bases = []
+    for result in Result.objects.filter(pk__in=[r.pk for r in batch.results]).order_by("pk"):
+        assert result.uncertainty.budget == budget_of(result).as_dict()
+        bases.append({t["name"]: t["basis"] for t in result.uncertainty.budget["terms"]})
+    assert "NAOH-0.1-BENCH" in bases[1]["titrant_concentration"] and "KOH-BENCH" in bases[0]["titrant_concentration"]
+    assert other_burette.asset_id in bases[2]["sample_volume"] and other_burette.asset_id not in bases[3]["sample_volume"]
