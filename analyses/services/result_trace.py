@@ -80,8 +80,8 @@ class TraceCatalog:
     standardisations: dict[int, Standardisation] = field(default_factory=dict)
     instruments: dict[int | str, Instrument] = field(default_factory=dict)
     calibrations: dict[int, Calibration] = field(default_factory=dict)
-    # the traces checked so far, by method and the lot and instruments as named
-    # (``trace_for_entry``): a batch's entries mostly name the same ones
+    # the traces checked so far, by plugin, time and the lot and instruments as named
+    # (``trace_for_entry``, ``_trace_key``): a batch's entries mostly name the same ones
     traces: dict[tuple, Trace] = field(default_factory=dict)
 
     def lot(self, ref: int | str) -> ReagentLot | None:
