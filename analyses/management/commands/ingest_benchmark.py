@@ -40,7 +40,11 @@ from django.db import connection, transaction
 from django.test.utils import override_settings
 from django.utils import timezone
 
-from analyses.models import Result, Sample, SampleState, Test, TestState
+from analyses.benchmarks.dead_rows import dead_rows_warning
+from analyses.models import (
+    AuditChainHead, AuditEntry, Result, ResultInstrument, ResultUncertainty, Sample, SampleState, Test, TestState,
+    TestUncertainty,
+)
 from analyses.roles import ANALYST, LAB_MANAGER, QA_REVIEWER, roles_ensure
 from analyses.services.demo_bench import demo_bench_load
 from analyses.services.imports import import_mapping_create
@@ -58,6 +62,11 @@ AV_INPUTS = (
     {"sample_mass": "20.0", "sample_volume": "1.33", "blank_volume": "0.05"},
 )
 TITRANT_LOT = "MV-KOH-0.1-2611"  # the demo bench's usable KOH lot, renamed for the run
+# the tables a run writes most to and rolls back (analyses.benchmarks.dead_rows)
+WRITTEN_TABLES = tuple(
+    model._meta.db_table
+    for model in (AuditEntry, AuditChainHead, Result, ResultInstrument, ResultUncertainty, TestUncertainty, Test, Sample)
+)
 TARGET_RATE = 1000  # results/s through the bulk API (issue 12)
 TARGET_RATIO = 5  # at most this many times slower than the raw insert
 
@@ -109,6 +118,9 @@ class Command(BaseCommand):
         if not 1 <= rounds <= 20:
             raise CommandError("--rounds must be between 1 and 20")
         measured: list[dict[str, Timing]] = []
+        dead = dead_rows_warning(WRITTEN_TABLES)
+        if dead:
+            self.stdout.write(dead)
         no_throttle = {**settings.REST_FRAMEWORK, "DEFAULT_THROTTLE_RATES": {"user": None, "anon": None}}
         access_log = logging.getLogger("labcore.access")  # one line per request would drown the progress
         level = access_log.level

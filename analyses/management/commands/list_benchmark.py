@@ -17,6 +17,7 @@ from django.db import connection, transaction
 from django.urls import get_resolver
 
 from analyses.api.pagination import PageWithSize
+from analyses.benchmarks.dead_rows import dead_rows_warning
 from analyses.benchmarks.list_seed import analyze_tables, list_seed, open_sample_count
 from analyses.benchmarks.list_timing import Measurement, explain_listings, measure_listings
 from labcore.collector import collector_settle
@@ -39,31 +40,6 @@ def table(measurements: list[Measurement]) -> list[str]:
 
 
 LISTED_TABLES = ("analyses_sample", "analyses_test", "analyses_result", "analyses_auditentry")
-
-
-def dead_rows_warning() -> str | None:
-    """``dead_rows_note`` of the listed tables, as PostgreSQL's statistics count them; None elsewhere."""
-    if connection.vendor != "postgresql":
-        return None
-    with connection.cursor() as cursor:
-        cursor.execute(
-            "SELECT coalesce(sum(n_dead_tup), 0), coalesce(sum(n_live_tup), 0) FROM pg_stat_user_tables WHERE relname = ANY(%s)",
-            [list(LISTED_TABLES)],
-        )
-        dead, live = cursor.fetchone()
-    return dead_rows_note(int(dead), int(live))
-
-
-def dead_rows_note(dead: int, live: int) -> str | None:
-    """A warning when the tables hold more dead rows than live ones, and more than a few (each
-    rolled-back run leaves its rows dead until autovacuum comes): counts and plans read them too."""
-    if dead <= max(live, 10_000):
-        return None
-    return (
-        f"warning: the listed tables hold {dead:,} dead rows against {live:,} live ones (earlier runs, rolled back); "
-        "counts and query plans read them too, so the figures will be slower than on this data vacuumed: "
-        "run VACUUM ANALYZE first, or use a fresh database"
-    )
 
 
 def _require_migrated() -> None:
@@ -122,7 +98,7 @@ class Command(BaseCommand):
             f"page size {page_size}"
         )
         say("everything is written in one transaction, rolled back at the end: nothing stays")
-        dead = dead_rows_warning()
+        dead = dead_rows_warning(LISTED_TABLES)
         if dead:
             say(dead)
         started, started_cpu = time.perf_counter(), time.process_time()

@@ -30,3 +30,15 @@ def test_the_benchmark_prints_its_table_and_keeps_nothing():
         assert f"round {number}/2: file import: 6/6 results from one CSV" in err.getvalue()  # the instrument file's path (issue 11)
         assert f"round {number}/2: single posts: 6/6 results" in err.getvalue()
     assert (Result.objects.count(), Test.objects.count(), AuditEntry.objects.count(), Product.objects.count()) == kept
+
+
+def test_the_tables_it_writes_are_checked_for_dead_rows_first(monkeypatch):
+    from analyses.management.commands import ingest_benchmark
+
+    asked = []
+    monkeypatch.setattr(ingest_benchmark, "dead_rows_warning", lambda tables: asked.append(tables) or "warning: dead rows (invented)")
+    out = StringIO()
+    call_command("ingest_benchmark", "--results", "2", "--batch", "2", "--rounds", "1", stdout=out, stderr=StringIO())
+    assert out.getvalue().startswith("warning: dead rows (invented)")
+    [tables] = asked
+    assert {"analyses_auditentry", "analyses_result", "analyses_resultuncertainty"} <= set(tables)

@@ -105,19 +105,11 @@ def test_explain_prints_the_plan_of_every_list(postgres):
     assert len(rows) == len(LISTINGS)
 
 
-def test_dead_rows_from_earlier_runs_are_warned_of():
-    from analyses.management.commands.list_benchmark import dead_rows_note
-
-    assert dead_rows_note(900_000, 300_000) is not None and "VACUUM ANALYZE" in dead_rows_note(900_000, 300_000)
-    assert dead_rows_note(5_000, 0) is None  # a few, as any working database has
-    assert dead_rows_note(200_000, 300_000) is None
-
-
-def test_the_warning_reads_postgresqls_row_statistics(postgres, monkeypatch):
+def test_the_listed_tables_are_checked_for_dead_rows(monkeypatch):
     from analyses.management.commands import list_benchmark
 
-    seen = []
-    monkeypatch.setattr(list_benchmark, "dead_rows_note", lambda dead, live: seen.append((dead, live)) or None)
-    assert list_benchmark.dead_rows_warning() is None
-    [(dead, live)] = seen  # the listed tables' dead and live rows, as the statistics count them
-    assert isinstance(dead, int) and isinstance(live, int) and dead >= 0 and live >= 0
+    asked = []
+    monkeypatch.setattr(list_benchmark, "dead_rows_warning", lambda tables: asked.append(tables) or "warning: dead rows (invented)")
+    text, _ = _run("--samples", "5", "--repeat", "1")
+    assert asked == [list_benchmark.LISTED_TABLES]
+    assert "warning: dead rows (invented)" in text
