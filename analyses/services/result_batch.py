@@ -328,7 +328,7 @@ class _Batch:
                 sources[code] = budget_source(entry.plugin)
             uses = [(u.instrument, self.catalog.calibrations[u.calibration_id]) for u in entry.trace.uses]
             source = traced_source(sources[code], entry.result, uses, traced)
-            entry.budget = entry_budget(entry.result, entry.plugin, source, uses, values=entry.values)
+            entry.budget = entry_budget(entry.result, entry.plugin, source, values=entry.values)
             if entry.budget is None:
                 continue
             entry.result.verdict = test_verdict(Decimal(entry.result.value_exact), entry.test, entry.budget.expanded)

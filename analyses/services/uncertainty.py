@@ -175,21 +175,17 @@ def budget_of(result: Result, plugin: MethodPlugin | None = None, *, source: Bud
 
 
 def entry_budget(
-    result: Result, plugin: MethodPlugin, source: BudgetSource, uses: Sequence[tuple[Instrument, Calibration]],
-    *, values: Mapping[str, Any] | None = None,
+    result: Result, plugin: MethodPlugin, source: BudgetSource, *, values: Mapping[str, Any] | None = None,
 ) -> Budget | None:
-    """``budget_of`` for a result being entered (not yet stored), with the budget source of
-    its plugin and the (instrument, calibration) pairs it is measured with; no queries.
-    ``values``: the result's inputs as its plugin validated them when it computed the result
-    (``MethodResult.inputs``), so that they are not validated twice. ``source`` may be the
-    ``TracedBudget`` of this very result's trace already (``traced_source``), shared by the
-    results of a batch measured with the same lot and instruments."""
+    """``budget_of`` for a result being entered (not yet stored); no queries. ``source``: the
+    budget source traced for what the result is measured with (``traced_source``, which a
+    batch's results measured with the same lot and instruments share). ``values``: the
+    result's inputs as its plugin validated them when it computed the result
+    (``MethodResult.inputs``), so that they are not validated twice."""
     try:
         inputs = stored_inputs(result)
         if values is None:
             values = plugin.validate(line_inputs(plugin, result.test.specification_line, inputs))
-        if not isinstance(source, TracedBudget) and (result.reagent_lot_id or uses):
-            source = TracedBudget(source, result, uses)
         component = split_parameter(result.test.method_code)[1]  # as budget_of: a profile's component
         return result_budget(plugin, values, source, given=set(inputs), component=component)
     except MethodInputError:
@@ -199,10 +195,11 @@ def entry_budget(
 def traced_source(
     source: BudgetSource, result: Result, uses: Sequence[tuple[Instrument, Calibration]], known: dict[tuple, BudgetSource]
 ) -> BudgetSource:
-    """The source ``entry_budget`` would trace for ``result`` measured with ``uses``, taken from
-    ``known`` when a result with the same titrant lot, standardisation uncertainty and
-    instrument calibrations made it already (it depends on nothing else), else made and kept
-    there."""
+    """The budget source for ``result`` measured with ``uses`` (the (instrument, calibration)
+    pairs), as ``budget_of`` traces it: ``source`` itself when the result names no lot and no
+    instrument, else a ``TracedBudget``, taken from ``known`` when a result with the same titrant
+    lot, standardisation uncertainty and instrument calibrations made it already (it depends on
+    nothing else), else made and kept there."""
     if not (result.reagent_lot_id or uses):
         return source
     key = (id(source), result.reagent_lot_id, result.titrant_uncertainty, tuple((i.pk, c.pk) for i, c in uses))
