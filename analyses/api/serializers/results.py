@@ -108,7 +108,6 @@ class ResultSerializer(serializers.ModelSerializer):
         # attribute lookup, its checks, the nested list's queryset) was a tenth of a bulk entry
         # of 100 results (issue 12). tests/analyses/api/serializers/test_results.py holds the
         # two equal, field for field, on results of every kind.
-        fields = self.fields
         # a relation that is missing reads as None, as DRF's walk reads it
         lot, user = getattr(result, "reagent_lot", None), getattr(result, "entered_by", None)
         return {
@@ -116,7 +115,7 @@ class ResultSerializer(serializers.ModelSerializer):
             "test": result.test_id,
             "replicate": result.replicate,
             "version": result.version,
-            "status": fields["status"].to_representation(result.status),
+            "status": _STATUS.to_representation(result.status),
             "inputs": result.inputs,
             "value": None if result.value is None else float(result.value),
             "value_exact": _text(result.value_exact),
@@ -130,7 +129,7 @@ class ResultSerializer(serializers.ModelSerializer):
             "correction_reason": _text(result.correction_reason),
             "status_reason": _text(result.status_reason),
             "entered_by": None if user is None else _text(user.username),
-            "entered_at": fields["entered_at"].to_representation(result.entered_at),
+            "entered_at": _ENTERED_AT.to_representation(result.entered_at),
             "titrant_lot": None if lot is None else _text(lot.code),
             "standardisation": result.standardisation_id,
             "titrant_concentration": _text(result.titrant_concentration),
@@ -139,6 +138,12 @@ class ResultSerializer(serializers.ModelSerializer):
             "components": result.components,
             "input_warnings": self.get_input_warnings(result),
         }
+
+
+# the two fields whose own showing is used, built once: an instance builds all its fields on
+# first use, a cost paid by every request that shows results
+_STATUS = serializers.ChoiceField(choices=Result._meta.get_field("status").choices)
+_ENTERED_AT = serializers.DateTimeField()
 
 
 def _text(value: Any) -> str | None:
