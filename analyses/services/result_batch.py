@@ -105,8 +105,10 @@ class _NewEntry:
     current: list[Result] = field(default_factory=list)
     budget: Budget | None = None
     mean: Budget | None = None
-    # the inputs as the plugin validated them to compute the result, for its budget
+    # the inputs as the plugin validated them to compute the result, for its budget, and
+    # whether the result stores them as given (then they are its review warnings' inputs too)
     values: Mapping[str, Any] | None = None
+    values_as_stored: bool = False
 
 
 def _test_id(ref: Any) -> int | None:
@@ -235,7 +237,9 @@ class _Batch:
             replicate=replicate, idempotency_key=key,
             **new_result_fields(self.actor, test, request.inputs, outcome, aggregate, trace),
         )
-        entry = _NewEntry(index, test, plugin, trace, result, values=outcome.inputs)
+        entry = _NewEntry(
+            index, test, plugin, trace, result, values=outcome.inputs, values_as_stored=result.inputs == dict(request.inputs)
+        )
         current[replicate] = result
         if complete:
             entry.aggregate = aggregate
@@ -283,12 +287,14 @@ class _Batch:
         rows_insert(list(budgets.values()))
         means = self._save_means()
         completed = [entry for entry in self.new if entry.aggregate is not None]
+        validated = {id(entry.result): entry.values for entry in self.new if entry.values_as_stored}
         changes = {
             entry.index: apply_test_aggregate(
                 entry.test, entry.aggregate,
                 test_review_warnings(
                     entry.plugin, entry.test, Decimal(entry.aggregate["value_exact"]), current=entry.current,
                     expanded=str(entry.mean.expanded) if entry.mean is not None else None,
+                    validated={r.replicate: validated[id(r)] for r in entry.current if id(r) in validated},
                 ),
             )
             for entry in completed

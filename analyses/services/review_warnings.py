@@ -35,18 +35,26 @@ def result_input_warnings(result: Result) -> list[str]:
     return raw_input_warnings(plugin, stored_inputs(result))
 
 
-def _replicate_warnings(plugin: MethodPlugin, test: Test, current: Sequence[Result] | None = None) -> list[str]:
+def _replicate_warnings(
+    plugin: MethodPlugin, test: Test, current: Sequence[Result] | None = None,
+    validated: Mapping[int, Mapping[str, Any]] | None = None,
+) -> list[str]:
     """Implausible inputs and blank warnings of each current replicate, one line per distinct
-    warning naming the replicates."""
+    warning naming the replicates. ``validated`` holds, by replicate number, the inputs the
+    plugin has just validated from what that replicate stores (a batch has them from computing
+    its results), which are not validated again."""
     by_warning: dict[str, list[int]] = {}
     if current is None:
         current = test.results.filter(status=ResultStatus.CURRENT).order_by("replicate")
     for result in current:
-        try:
-            values = plugin.validate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
-        except MethodInputError as exc:  # entered under an older version of the method's checks
-            found = [f"its inputs no longer pass method {plugin.code}'s checks ({exc.field}: {exc.reason})"]
-        else:
+        values = validated.get(result.replicate) if validated else None
+        if values is None:
+            try:
+                values = plugin.validate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
+            except MethodInputError as exc:  # entered under an older version of the method's checks
+                values = None
+                found = [f"its inputs no longer pass method {plugin.code}'s checks ({exc.field}: {exc.reason})"]
+        if values is not None:
             found = input_warnings(plugin, values) + blank_warnings(plugin.blank, values)
         for warning in found:
             by_warning.setdefault(warning, []).append(result.replicate)
@@ -62,15 +70,17 @@ _READ = object()
 
 
 def test_review_warnings(
-    plugin: MethodPlugin, test: Test, mean: Any, *, current: Sequence[Result] | None = None, expanded: Any = _READ
+    plugin: MethodPlugin, test: Test, mean: Any, *, current: Sequence[Result] | None = None, expanded: Any = _READ,
+    validated: Mapping[int, Mapping[str, Any]] | None = None,
 ) -> list[str]:
     """What the reviewer should weigh before accepting ``test``, whose replicates are all in:
     inputs outside their plausible ranges, their blanks, the mean against the method's scope,
     a profile's own warnings, and a conditional pass. Never a reason to refuse.
     A caller that holds them passes the current replicates (by replicate number) and the
-    mean's expanded U (None: none), which are otherwise read."""
+    mean's expanded U (None: none), which are otherwise read, and may pass ``validated``
+    (``_replicate_warnings``)."""
     return (
-        _replicate_warnings(plugin, test, current) + scope_warnings(plugin, mean, test.specification_line.unit)
+        _replicate_warnings(plugin, test, current, validated) + scope_warnings(plugin, mean, test.specification_line.unit)
         + _profile_warnings(plugin, test, current) + _decision_warnings(test, mean, expanded)
     )
 

@@ -3,6 +3,8 @@ the same audit chain and the same outcome as entering one result at a time, repl
 nothing, and refusals naming the entry."""
 from __future__ import annotations
 
+from decimal import Decimal
+
 import pytest
 from django.db import connection
 from django.utils import timezone
@@ -21,12 +23,15 @@ from analyses.models import (
     TestUncertainty,
 )
 from analyses.services.assignments import test_assign_bulk
+from analyses.services.cross_checks import own_warnings
 from analyses.services.results import result_record, result_record_bulk, result_record_bulk_once
 from analyses.services.samples import sample_receive, sample_register
+from analyses.services.review_warnings import test_review_warnings
 from analyses.services.uncertainty import budget_of
+from plugins.registry import get_registry
 from labcore.metrics import RESULTS_ENTERED
 from tests.factories import usable_instrument
-from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, INPUTS, PV_LOW, TRACE
+from tests.analyses.lab_setup import AV_LOW, AV_LOW_TWIN, AV_TRACE, INPUTS, PV_LOW, PV_LOW_TWIN, PV_TRACE, TRACE
 
 pytestmark = pytest.mark.django_db
 
@@ -238,3 +243,26 @@ def test_results_measured_with_other_lots_and_instruments_keep_their_own_budgets
         bases.append({t["name"]: t["basis"] for t in result.uncertainty.budget["terms"]})
     assert "NAOH-0.1-BENCH" in bases[1]["titrant_concentration"] and "KOH-BENCH" in bases[0]["titrant_concentration"]
     assert other_burette.asset_id in bases[2]["sample_volume"] and other_burette.asset_id not in bases[3]["sample_volume"]
+
+
+def test_review_warnings_worked_out_in_a_batch_are_those_read_back_from_the_stored_results(users, lot):
+    """A batch gives its review warnings the inputs its plugins validated to compute the
+    results, where the results store those inputs as given; the warnings are the ones worked
+    out afresh from the stored rows, also where the inputs were given otherwise (Decimals, kept
+    as strings) and validated again."""
+    pv_first, pv_second = [t for t in _assigned(users, lot, 2, "W") if t.method_code == "pv"]
+    light = {**PV_LOW, "sample_mass": "2.5", "sample_volume": "6.25"}  # below the plausible minimum of 4.95 g
+    no_blank = {**{k: v for k, v in PV_LOW.items() if k != "blank_volume"}, "blank_not_run": "true"}
+    as_decimals = {k: Decimal(v) for k, v in PV_LOW_TWIN.items()}
+    result_record_bulk_once(users["analyst"], [
+        {"test": pv_first.pk, "inputs": light, **PV_TRACE},
+        {"test": pv_first.pk, "inputs": PV_LOW_TWIN, **PV_TRACE},
+        {"test": pv_second.pk, "inputs": no_blank, **PV_TRACE},
+        {"test": pv_second.pk, "inputs": as_decimals, **PV_TRACE},
+    ])
+    for test in (pv_first, pv_second):
+        test = Test.objects.select_related("specification_line", "sample__lot__product").get(pk=test.pk)
+        afresh = test_review_warnings(get_registry().get("pv"), test, Decimal(test.value_exact))
+        assert own_warnings(test.review_warnings) == afresh
+    assert Test.objects.get(pk=pv_first.pk).review_warnings[0].startswith("replicate 1: sample_mass 2.5 g is below")
+    assert Test.objects.get(pk=pv_second.pk).review_warnings[0].startswith("replicate 1: no blank was run")
