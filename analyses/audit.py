@@ -12,9 +12,10 @@ import hashlib
 import json
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
-from datetime import UTC, datetime
+from datetime import UTC, date, datetime, time, timedelta
 from decimal import Decimal
 from typing import Any
+from uuid import UUID
 
 from django.core.serializers.json import DjangoJSONEncoder
 from django.db import connections, models, router, transaction
@@ -40,12 +41,24 @@ def json_safe(value: Any) -> Any:
         return {key: item if type(item) in _LEAVES or item is None else json_safe(item) for key, item in value.items()}
     if kind is list or kind is tuple:
         return [item if type(item) in _LEAVES or item is None else json_safe(item) for item in value]
+    # a leaf the round trip turns into a plain one, given here as the round trip gives it: a
+    # choice (a str or int enum) is its value; a Decimal or a time is the encoder's text
+    if isinstance(value, str):
+        return str.__str__(value)
+    if isinstance(value, int) and not isinstance(value, bool):
+        return int.__int__(value)
+    if kind in _ENCODED_AS_TEXT:
+        return _ENCODER.default(value)
     return json.loads(json.dumps(value, cls=DjangoJSONEncoder))
 
 
 # exactly these types; a subclass (an enum) takes the round trip. A float comes back from the
 # round trip as itself, NaN and the infinities included (canonical_json refuses those)
 _LEAVES = frozenset({str, int, bool, float})
+# exactly these types: DjangoJSONEncoder.default gives each as a string (or refuses it, as the
+# round trip would: an aware time)
+_ENCODED_AS_TEXT = frozenset({Decimal, datetime, date, time, timedelta, UUID})
+_ENCODER = DjangoJSONEncoder()
 
 
 def canonical_content(

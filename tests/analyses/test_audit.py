@@ -207,6 +207,7 @@ class _FloatKind(float):
 _plain_leaves = st.one_of(
     st.none(), st.booleans(), st.integers(), st.floats(allow_nan=True, allow_infinity=True), st.text(max_size=8),
     st.decimals(allow_nan=False, allow_infinity=False), st.datetimes(timezones=st.just(dt.UTC)), st.dates(), st.uuids(),
+    st.datetimes(), st.times(), st.timedeltas(),  # naive: the encoder's own text for each
     st.sampled_from([AuditAction.CREATE, TestState.ASSIGNED]),  # str enums: plain strings once stored
     st.sampled_from([Priority.URGENT, Priority.LOW]),  # int enums: plain ints once stored
     st.floats(allow_nan=False).map(_FloatKind),  # a float subclass
