@@ -164,16 +164,23 @@ class _Batch:
         self.tests: dict[int, Test] = {}
         self.current: dict[int, dict[int, Result]] = {}
         if test_ids:
-            # the project's lock order: the samples, then the tests; both by id
-            samples = Test.objects.filter(pk__in=test_ids).values("sample_id")
-            list(Sample.objects.select_for_update().filter(pk__in=samples).order_by("pk").values_list("pk", flat=True))
-            locked = (
-                Test.objects.select_for_update(of=("self",))
-                .select_related("sample__lot__product", "specification_line", "assignee")
-                .filter(pk__in=test_ids)
+            # the project's lock order: the samples, then the tests; both by id. Each sample is
+            # read once, with its lot and product, as it is locked, and its tests share it:
+            # joined to every test, it was read (and built) again for each (issue 12)
+            samples = {
+                sample.pk: sample
+                for sample in Sample.objects.select_for_update(of=("self",))
+                .select_related("lot__product")
+                .filter(pk__in=Test.objects.filter(pk__in=test_ids).values("sample_id"))
                 .order_by("pk")
+            }
+            locked = (
+                Test.objects.select_for_update(of=("self",)).select_related("specification_line").filter(pk__in=test_ids).order_by("pk")
             )
-            self.tests = {test.pk: test for test in locked}
+            for test in locked:
+                if test.sample_id in samples:  # else (a test made meanwhile) it is read when needed
+                    test.sample = samples[test.sample_id]
+                self.tests[test.pk] = test
             self.current = {pk: {} for pk in self.tests}
             for result in Result.objects.filter(test_id__in=self.tests, status=ResultStatus.CURRENT).select_related(
                 "uncertainty"

@@ -11,7 +11,7 @@ from django.utils import timezone
 from django.test.utils import CaptureQueriesContext
 
 from analyses.audit import audit_chain_verify
-from analyses.errors import Conflict, InvalidInput
+from analyses.errors import Conflict, InvalidInput, NotAllowed
 from analyses.models import (
     AuditChainHead,
     AuditEntry,
@@ -266,3 +266,12 @@ def test_review_warnings_worked_out_in_a_batch_are_those_read_back_from_the_stor
         assert own_warnings(test.review_warnings) == afresh
     assert Test.objects.get(pk=pv_first.pk).review_warnings[0].startswith("replicate 1: sample_mass 2.5 g is below")
     assert Test.objects.get(pk=pv_second.pk).review_warnings[0].startswith("replicate 1: no blank was run")
+
+
+def test_an_entry_on_someone_elses_test_is_refused_naming_its_assignee(users, lot):
+    """The batch reads the tests without their assignees (only a refusal names one)."""
+    test = _assigned(users, lot, 1, "N")[0]
+    item = {"test": test.pk, "inputs": INPUTS[test.method_code][0], **TRACE[test.method_code]}
+    with pytest.raises(NotAllowed) as refused:
+        result_record_bulk_once(users["analyst2"], [item])
+    assert str(refused.value) == f"results.0: test {test.pk} is assigned to analyst; analyst2 may not enter its results"
