@@ -154,6 +154,9 @@ def rows_update(objects: Sequence[models.Model], fields: Sequence[str]) -> None:
         + ", ".join(f"{name} = changed.{name}" for name in names[1:])
         + f" FROM (VALUES {', '.join([row] * len(objects))}) AS changed ({', '.join(names)})"
         + f" WHERE {quote(meta.db_table)}.{names[0]} = changed.{names[0]}"
+        # the ids again, as an array the primary key's index answers: joined to VALUES alone,
+        # the planner scanned the whole table (it guesses from the table's size, not the rows named)
+        + f" AND {quote(meta.db_table)}.{names[0]} = ANY(%s::{meta.pk.db_type(connection).split('(')[0]}[])"
     )
     with connection.cursor() as cursor:
-        cursor.execute(sql, params)
+        cursor.execute(sql, [*params, [obj.pk for obj in objects]])
