@@ -11,8 +11,8 @@ sent as it is: Django would return it unchanged), without a statement to build o
 ``rows_update`` writes many rows, each with its own values, in one statement. Django's ``bulk_update`` writes ``SET field = CASE WHEN id = 1 THEN … WHEN id = 2 THEN … END``
 for every field, and builds an expression object per row and field: for 100 tests and 8
 fields it spent longer building the query than the database spent running it (issue 12).
-On PostgreSQL ``rows_update`` writes ``UPDATE … FROM (VALUES (id, …), …)`` instead, with
-each value prepared by its field as Django would.
+On PostgreSQL ``rows_update`` writes ``UPDATE … FROM unnest(ids, values of a field, …)`` instead,
+one array per field, each value prepared by its field as Django would.
 
 Elsewhere (SQLite) both are Django's ``bulk_create`` and ``bulk_update``. Neither sends model
 signals, as Django's bulk methods do not.
@@ -139,24 +139,26 @@ def rows_update(objects: Sequence[models.Model], fields: Sequence[str]) -> None:
     meta = model._meta
     columns = [meta.pk, *(meta.get_field(name) for name in fields)]
     quote = connection.ops.quote_name
-    # a cast on every value: VALUES takes each column's type from its first row, and a NULL
-    # there would make the column text. Without its length (varchar, not varchar(40)): a cast to
-    # varchar(n) cuts a longer value silently, where the assignment to the column refuses it
-    row = "(" + ", ".join(f"%s::{column.db_type(connection).split('(')[0]}" for column in columns) + ")"
-    params = [
-        column.get_db_prep_save(getattr(obj, column.attname), connection)
-        for obj in objects
-        for column in columns
+    # one array per column, cast to the column's type without its length (varchar, not
+    # varchar(40)): a cast to varchar(n) cuts a longer value silently, where the assignment to
+    # the column refuses it. A parameter per value instead (VALUES) made the query too long for
+    # psycopg to keep its parsed form: it parsed the text anew each time, a third of the update
+    arrays = [
+        [column.get_db_prep_save(getattr(obj, column.attname), connection) for obj in objects] for column in columns
     ]
+    if any(isinstance(value, (list, tuple)) for array in arrays for value in array):
+        raise ValueError("rows_update takes no field whose database value is itself an array")
     names = [quote(column.column) for column in columns]
+    table, pk = quote(meta.db_table), names[0]
     sql = (
-        f"UPDATE {quote(meta.db_table)} SET "
+        f"UPDATE {table} SET "
         + ", ".join(f"{name} = changed.{name}" for name in names[1:])
-        + f" FROM (VALUES {', '.join([row] * len(objects))}) AS changed ({', '.join(names)})"
-        + f" WHERE {quote(meta.db_table)}.{names[0]} = changed.{names[0]}"
-        # the ids again, as an array the primary key's index answers: joined to VALUES alone,
-        # the planner scanned the whole table (it guesses from the table's size, not the rows named)
-        + f" AND {quote(meta.db_table)}.{names[0]} = ANY(%s::{meta.pk.db_type(connection).split('(')[0]}[])"
+        + " FROM unnest(" + ", ".join(f"%s::{column.db_type(connection).split('(')[0]}[]" for column in columns) + ")"
+        + f" AS changed ({', '.join(names)})"
+        + f" WHERE {table}.{pk} = changed.{pk}"
+        # the ids again, as an array the primary key's index answers: joined to the arrays alone,
+        # the planner may scan the whole table (it guesses from the table's size, not the rows named)
+        + f" AND {table}.{pk} = ANY(%s::{meta.pk.db_type(connection).split('(')[0]}[])"
     )
     with connection.cursor() as cursor:
-        cursor.execute(sql, [*params, [obj.pk for obj in objects]])
+        cursor.execute(sql, [*arrays, arrays[0]])

@@ -45,10 +45,9 @@ def test_postgresql_takes_one_statement_whatever_the_number_of_rows(postgres):
         rows_update(tests, ["reported"])
     assert len(captured.captured_queries) == 1
     sql = captured.captured_queries[0]["sql"]
-    assert "FROM (VALUES" in sql
-    # the rows are also named by id in an array, which the primary key's index answers, so the
-    # planner has no reason to scan the whole table to join it to VALUES
-    assert '"analyses_test"."id" = ANY(' in sql
+    # one array per field, not a parameter per value; the rows are also named by id in an
+    # array, which the primary key's index answers
+    assert "FROM unnest(" in sql and '"analyses_test"."id" = ANY(' in sql
     assert sorted(Test.objects.values_list("reported", flat=True)) == sorted(f"{n}.0" for n in range(12))
 
 
@@ -183,3 +182,35 @@ def test_json_is_stored_as_bulk_create_stores_it(postgres):
     # SQL NULL and JSON null stay apart, as bulk_create keeps them
     null = set(Result.objects.filter(duplicate_check__isnull=True).values_list("pk", flat=True))
     assert null == {copied[0].pk, bulk[0].pk}
+
+
+AWKWARD_TEXTS = ['a "quoted" word', "back\\slash", "{braces}, commas", "NULL", "", " padded ", "line\nbreak", "tab\there",
+                 "Ölsäure 18:1 ω-9", "it's"]
+
+
+def test_awkward_values_are_stored_as_djangos_bulk_update_stores_them(postgres):
+    """Each field's values go as one array, written inside the statement (psycopg binds on the
+    client): texts and JSON with quotes, backslashes, braces, commas, the word NULL, line
+    breaks and other scripts, and NULLs, come back as Django's own bulk_update stores them."""
+    ours, djangos = [TestFactory() for _ in AWKWARD_TEXTS], [TestFactory() for _ in AWKWARD_TEXTS]
+    fields = ["value", "value_exact", "reported", "unit", "duplicate_check", "review_warnings"]
+    for tests in (ours, djangos):
+        for number, (test, text) in enumerate(zip(tests, AWKWARD_TEXTS)):
+            test.value = None if number % 3 == 0 else (-0.0 if number == 1 else 1e300 / (number + 1))
+            test.value_exact, test.reported, test.unit = text, text[:20], text[:20]
+            test.duplicate_check = None if number % 4 == 0 else {text: [text, None, number, 0.1]}
+            test.review_warnings = [text, f"{text}\\{text}"]
+    rows_update(ours, fields)
+    Test.objects.bulk_update(djangos, fields)
+    for mine, theirs in zip(ours, djangos):
+        stored, expected = (Test.objects.values(*fields).get(pk=test.pk) for test in (mine, theirs))
+        assert stored == expected
+        assert stored["value_exact"] == mine.value_exact and stored["review_warnings"] == mine.review_warnings
+
+
+def test_a_field_that_is_null_in_every_row_is_written(postgres):
+    tests = [TestFactory(value=1.5, duplicate_check={"within_r": True}) for _ in range(3)]
+    for test in tests:
+        test.value, test.duplicate_check = None, None
+    rows_update(tests, ["value", "duplicate_check"])
+    assert list(Test.objects.filter(pk__in=[t.pk for t in tests]).values_list("value", "duplicate_check")) == [(None, None)] * 3
