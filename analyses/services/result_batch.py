@@ -31,7 +31,7 @@ from django.utils import timezone
 
 from analyses.audit import PendingEntry, audit_append_many, created, json_safe
 from analyses.errors import Conflict, DomainError, InvalidInput, NotFound
-from analyses.row_writes import rows_insert, rows_update
+from analyses.row_writes import new_row, rows_insert, rows_update
 from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Sample, Test, TestState, TestUncertainty
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.derived_tests import derived_tests_refresh
@@ -240,8 +240,8 @@ class _Batch:
         values = [exact_value(r) for r in earlier] + [outcome.judged]
         complete = len(values) == test.replicates
         aggregate = replicate_aggregate(plugin, test, values, outcome.unit) if complete else None
-        result = Result(
-            replicate=replicate, idempotency_key=key,
+        result = new_row(
+            Result, replicate=replicate, idempotency_key=key,
             **new_result_fields(self.actor, test, request.inputs, outcome, aggregate, trace),
         )
         entry = _NewEntry(
@@ -287,7 +287,7 @@ class _Batch:
             self._refuse_concurrent()
         trace_save_many((entry.result, entry.trace) for entry in self.new)
         budgets = {
-            entry.index: ResultUncertainty(result=entry.result, **stored_budget_fields(entry.budget))
+            entry.index: new_row(ResultUncertainty, result=entry.result, **stored_budget_fields(entry.budget))
             for entry in self.new
             if entry.budget is not None
         }
@@ -372,7 +372,7 @@ class _Batch:
             fields = {"results": [r.pk for r in entry.current], **stored_budget_fields(entry.mean)}
             old = before.get(entry.test.pk)
             if old is None:
-                row = TestUncertainty(test=entry.test, **fields)
+                row = new_row(TestUncertainty, test=entry.test, **fields)
                 fresh.append(row)
                 rows[entry.index] = (row, None)
             else:

@@ -17,7 +17,7 @@ from typing import Any
 from django.db.models import Q
 
 from analyses.errors import Conflict, InvalidInput
-from analyses.row_writes import rows_insert
+from analyses.row_writes import new_row, rows_insert
 from analyses.models import Calibration, Instrument, ReagentLot, Result, ResultInstrument, Standardisation
 from analyses.selectors.traceability import instrument_facts, instruments_by_reference, lot_facts, lots_with_current
 from analyses.services.access import ID_MAX
@@ -282,7 +282,8 @@ def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
     instrument), so showing the results reads nothing more."""
     uses = [
         (result, [
-            ResultInstrument(result=result, instrument=u.instrument, calibration_id=u.calibration_id, routine_check_id=u.check_id)
+            new_row(ResultInstrument, result=result, instrument=u.instrument, calibration_id=u.calibration_id,
+                    routine_check_id=u.check_id)
             for u in trace.uses
         ])
         for result, trace in entered

@@ -214,3 +214,35 @@ def test_a_field_that_is_null_in_every_row_is_written(postgres):
         test.value, test.duplicate_check = None, None
     rows_update(tests, ["value", "duplicate_check"])
     assert list(Test.objects.filter(pk__in=[t.pk for t in tests]).values_list("value", "duplicate_check")) == [(None, None)] * 3
+
+
+def _state(obj) -> dict:
+    """Every column's value and every relation kept on ``obj``."""
+    return {
+        "values": {f.attname: getattr(obj, f.attname) for f in obj._meta.concrete_fields},
+        "cached": dict(obj._state.fields_cache),
+        "adding": obj._state.adding, "db": obj._state.db,
+    }
+
+
+def test_new_row_builds_what_the_model_builds_from_keywords():
+    """new_row(model, **values) against model(**values): relations as objects or ids, one-to-one
+    relations kept on both sides, defaults (callables included) for fields not given."""
+    from analyses.models import Result, ResultUncertainty
+    from analyses.row_writes import new_row
+
+    test, user = TestFactory(), UserFactory()
+    given = {"test": test, "entered_by": user, "reagent_lot": None, "replicate": 2, "inputs": {"sample_mass": "20.0"},
+             "value": 0.35, "value_exact": "0.350625", "reported": "0.35", "unit": "mg KOH/g", "method_code": "av",
+             "standardisation_id": None, "entered_at": timezone.now()}
+    ours, theirs = new_row(Result, **given), Result(**given)
+    assert _state(ours) == _state(theirs)
+    assert ours.test is test and ours.entered_by is user and ours.reagent_lot is None
+    budget = {"result": ours, "budget": {"terms": []}, "combined": 0.1, "expanded": "0.2", "source": "s", "computed_at": timezone.now()}
+    row = new_row(ResultUncertainty, **budget)
+    assert _state(row) == _state(ResultUncertainty(**{**budget, "result": theirs}))  | {"cached": {"result": ours}}
+    assert ours.uncertainty is row  # the one-to-one kept on the result too, as the descriptor keeps it
+    with pytest.raises(TypeError):
+        new_row(Result, no_such_field=1)
+    with pytest.raises(ValueError):
+        new_row(Result, test=user)
