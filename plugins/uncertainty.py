@@ -27,6 +27,7 @@ import math
 from collections.abc import Collection, Mapping, Sequence
 from dataclasses import dataclass
 from decimal import ROUND_UP, Decimal
+from functools import cached_property
 from typing import TYPE_CHECKING, Any, Protocol
 
 from plugins.contract import QuantityInput, float_as_decimal
@@ -91,7 +92,7 @@ class Budget:
     replicates: int = 1
     k: int = COVERAGE_FACTOR
 
-    @property
+    @cached_property  # a batch asks for it several times per budget; the budget never changes
     def expanded(self) -> Decimal:
         """U = k u_c as a Decimal, two significant digits, rounded up."""
         return two_significant_up(self.k * self.combined)
