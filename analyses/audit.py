@@ -312,7 +312,8 @@ def _entries_write(
     alias = router.db_for_write(AuditEntry)
     if bulk and connections[alias].vendor == "postgresql":
         ids = values_copy(
-            AuditEntry, _ENTRY_FIELDS, [(*row[:_CHANGES], text, *row[_CHANGES + 1:]) for row, text in zip(rows, changes_json)]
+            AuditEntry, _ENTRY_FIELDS, [(*row[:_CHANGES], text, *row[_CHANGES + 1:]) for row, text in zip(rows, changes_json)],
+            ids=entries_back,  # the ids are only needed to give the entries back
         )
         if not entries_back:
             return []
