@@ -1,7 +1,9 @@
 """rows_insert and rows_update: many rows of one model written at once."""
 from __future__ import annotations
 
+import datetime as dt
 import math
+from decimal import Decimal
 
 import pytest
 from django.db import IntegrityError, connection, transaction
@@ -154,8 +156,12 @@ def test_json_is_stored_as_bulk_create_stores_it(postgres):
 
     test, by, now = TestFactory(), UserFactory(), timezone.now()
     tricky = {"note": 'a "q" \\ b\nnext\ttab', "µ": "½ — ü", "n": [1, 2.5, -0.0, 1e300, None, True], "nested": {"": {}}}
+    # without a null anywhere, orjson writes it (row_writes._as_json_text); with one, Django does
+    no_null = {**tricky, "n": [1, 2.5, -0.0, 1e300, 1e-5, 1e16, 0.1 + 0.2, 2**63 - 1, True],
+               "control": "\x01\x1f\x7f \u2028 😀", "ints": [0, -1]}
     cases = [
         {"inputs": tricky, "components": {}, "duplicate_check": None},  # SQL NULL
+        {"inputs": no_null, "components": {"C18:1": {"exact": "39.0"}}, "duplicate_check": {"passed": True, "r": 0.06}},
         {"inputs": "a JSON string", "components": [1, "x"], "duplicate_check": {"passed": False}},
         {"inputs": {}, "components": {}, "duplicate_check": Value(None, JSONField())},  # JSON null
     ]
@@ -182,6 +188,36 @@ def test_json_is_stored_as_bulk_create_stores_it(postgres):
     # SQL NULL and JSON null stay apart, as bulk_create keeps them
     null = set(Result.objects.filter(duplicate_check__isnull=True).values_list("pk", flat=True))
     assert null == {copied[0].pk, bulk[0].pk}
+    assert Result.objects.values_list("inputs", flat=True).get(pk=copied[1].pk)["control"] == no_null["control"]
+
+
+class _Text(str):
+    """A str subclass (as a choice is): orjson leaves it to Django's path."""
+
+
+@pytest.mark.parametrize("value", [
+    {1: "a key that is not a string"}, {"big": 2**70}, {"choice": _Text("assigned")}, [_Text("x")],
+    {"nan": float("nan")}, {"inf": [float("inf")]}, {"amount": Decimal("1.5")}, {"when": dt.date(2026, 12, 3)},
+], ids=["int-key", "big-int", "str-subclass", "str-subclass-in-list", "nan", "infinity", "decimal", "date"])
+def test_json_that_orjson_would_write_otherwise_takes_djangos_path(postgres, value):
+    """Each value stores as bulk_create stores it, or is refused with the same error."""
+    from analyses.models import Result
+
+    test, by, now = TestFactory(), UserFactory(), timezone.now()
+
+    def row(replicate: int) -> Result:
+        return Result(test=test, replicate=replicate, value=0.35, value_exact="0.35", reported="0.35", unit="mg KOH/g",
+                      method_code="av", method_version="1", verdict="pass", entered_by=by, entered_at=now, inputs=value)
+
+    outcomes = []
+    for write, replicate in ((rows_insert, 1), (Result.objects.bulk_create, 2)):
+        try:
+            with transaction.atomic():
+                [written] = write([row(replicate)]) or Result.objects.filter(test=test, replicate=replicate)
+            outcomes.append(Result.objects.values_list("inputs", flat=True).get(pk=written.pk))
+        except Exception as exc:  # noqa: BLE001 - the error itself is what is compared
+            outcomes.append(type(exc))
+    assert outcomes[0] == outcomes[1]
 
 
 AWKWARD_TEXTS = ['a "quoted" word', "back\\slash", "{braces}, commas", "NULL", "", " padded ", "line\nbreak", "tab\there",
