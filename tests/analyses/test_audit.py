@@ -377,3 +377,15 @@ def test_a_bulk_append_that_wants_no_entries_back_writes_the_same_chain(received
     head = AuditChainHead.objects.get(id=1)
     assert (head.last_sequence, head.last_hash) == (stored[-1].sequence, stored[-1].entry_hash)
     assert audit_chain_verify().ok
+
+
+@pytest.mark.parametrize("number", [2**63 - 1, 2**63, 2**64, 2**70, -(2**70), 10**18, 10**40])
+def test_integers_of_any_size_are_encoded_and_read_back_as_the_integers_they_are(number):
+    """changes_encoded reads its text back to check it: an integer past 64 bits (which a faster
+    parser would read as a float equal to it) stays that integer, as stored and as hashed."""
+    from analyses.audit import canonical_json, changes_encoded
+
+    plain, text = changes_encoded({"count": [None, number], "note": [None, "n"]})
+    assert plain == {"count": [None, number], "note": [None, "n"]}
+    assert type(plain["count"][1]) is int
+    assert text == canonical_json({"count": [None, number], "note": [None, "n"]})
