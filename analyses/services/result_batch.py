@@ -164,16 +164,17 @@ class _Batch:
         self.tests: dict[int, Test] = {}
         self.current: dict[int, dict[int, Result]] = {}
         if test_ids:
-            # the project's lock order: the samples, then the tests; both by id. Each sample is
-            # read once, with its lot and product, as it is locked, and its tests share it:
-            # joined to every test, it was read (and built) again for each (issue 12)
-            samples = {
-                sample.pk: sample
-                for sample in Sample.objects.select_for_update(of=("self",))
-                .select_related("lot__product")
+            # the project's lock order: the samples, then the tests; both by id
+            sample_ids = list(
+                Sample.objects.select_for_update()
                 .filter(pk__in=Test.objects.filter(pk__in=test_ids).values("sample_id"))
                 .order_by("pk")
-            }
+                .values_list("pk", flat=True)
+            )
+            # each sample read once, with its lot and product, and shared by its tests (joined to
+            # every test, it was read and built again for each: issue 12); read once the samples
+            # are locked, so that a lot changed while the lock was awaited is read as it now is
+            samples = Sample.objects.select_related("lot__product").in_bulk(sample_ids)
             locked = (
                 Test.objects.select_for_update(of=("self",)).select_related("specification_line").filter(pk__in=test_ids).order_by("pk")
             )
