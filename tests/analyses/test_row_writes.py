@@ -13,7 +13,7 @@ from django.test.utils import CaptureQueriesContext
 from analyses.audit import PendingEntry, audit_append_many
 from analyses.models import AuditAction, AuditEntry, Product, Test
 from analyses.models.immutable import ImmutableRowError
-from analyses.row_writes import rows_insert, rows_update
+from analyses.row_writes import _db_value, rows_insert, rows_update
 from tests.factories import TestFactory, UserFactory
 
 pytestmark = pytest.mark.django_db
@@ -189,6 +189,7 @@ def test_json_is_stored_as_bulk_create_stores_it(postgres):
     null = set(Result.objects.filter(duplicate_check__isnull=True).values_list("pk", flat=True))
     assert null == {copied[0].pk, bulk[0].pk}
     assert Result.objects.values_list("inputs", flat=True).get(pk=copied[1].pk)["control"] == no_null["control"]
+    assert isinstance(_db_value(Result._meta.get_field("inputs"))(rows(1)[1], connection), str)  # orjson's text
 
 
 class _Text(str):
@@ -200,7 +201,8 @@ class _Text(str):
     {"nan": float("nan")}, {"inf": [float("inf")]}, {"amount": Decimal("1.5")}, {"when": dt.date(2026, 12, 3)},
 ], ids=["int-key", "big-int", "str-subclass", "str-subclass-in-list", "nan", "infinity", "decimal", "date"])
 def test_json_that_orjson_would_write_otherwise_takes_djangos_path(postgres, value):
-    """Each value stores as bulk_create stores it, or is refused with the same error."""
+    """Each value goes Django's way, and stores as bulk_create stores it or is refused with the
+    same error."""
     from analyses.models import Result
 
     test, by, now = TestFactory(), UserFactory(), timezone.now()
@@ -209,6 +211,8 @@ def test_json_that_orjson_would_write_otherwise_takes_djangos_path(postgres, val
         return Result(test=test, replicate=replicate, value=0.35, value_exact="0.35", reported="0.35", unit="mg KOH/g",
                       method_code="av", method_version="1", verdict="pass", entered_by=by, entered_at=now, inputs=value)
 
+    # Django's preparation (psycopg's Jsonb), not orjson's text
+    assert not isinstance(_db_value(Result._meta.get_field("inputs"))(row(1), connection), str)
     outcomes = []
     for write, replicate in ((rows_insert, 1), (Result.objects.bulk_create, 2)):
         try:

@@ -245,7 +245,7 @@ def test_results_measured_with_other_lots_and_instruments_keep_their_own_budgets
     assert other_burette.asset_id in bases[2]["sample_volume"] and other_burette.asset_id not in bases[3]["sample_volume"]
 
 
-def test_review_warnings_worked_out_in_a_batch_are_those_read_back_from_the_stored_results(users, lot):
+def test_review_warnings_worked_out_in_a_batch_are_those_read_back_from_the_stored_results(users, lot, monkeypatch):
     """A batch gives its review warnings the inputs its plugins validated to compute the
     results, where the results store those inputs as given; the warnings are the ones worked
     out afresh from the stored rows, also where the inputs were given otherwise (Decimals, kept
@@ -254,12 +254,20 @@ def test_review_warnings_worked_out_in_a_batch_are_those_read_back_from_the_stor
     light = {**PV_LOW, "sample_mass": "2.5", "sample_volume": "6.25"}  # below the plausible minimum of 4.95 g
     no_blank = {**{k: v for k, v in PV_LOW.items() if k != "blank_volume"}, "blank_not_run": "true"}
     as_decimals = {k: Decimal(v) for k, v in PV_LOW_TWIN.items()}
+    plugin_class = type(get_registry().get("pv"))
+    validate, validated = plugin_class.validate, []
+    monkeypatch.setattr(plugin_class, "validate", lambda self, raw: validated.append(dict(raw)) or validate(self, raw))
     result_record_bulk_once(users["analyst"], [
         {"test": pv_first.pk, "inputs": light, **PV_TRACE},
         {"test": pv_first.pk, "inputs": PV_LOW_TWIN, **PV_TRACE},
         {"test": pv_second.pk, "inputs": no_blank, **PV_TRACE},
         {"test": pv_second.pk, "inputs": as_decimals, **PV_TRACE},
     ])
+    # once for each entry's result, and once more for the review warnings of the one entry whose
+    # inputs are stored otherwise than given: the other three reuse what computing them validated
+    assert len(validated) == 5
+    assert validated[-1]["sample_mass"] == "5.0"  # as stored (a string), not as given (a Decimal)
+    monkeypatch.undo()
     for test in (pv_first, pv_second):
         test = Test.objects.select_related("specification_line", "sample__lot__product").get(pk=test.pk)
         afresh = test_review_warnings(get_registry().get("pv"), test, Decimal(test.value_exact))
