@@ -189,15 +189,16 @@ def _as_json_text(attname: str, prepared: Callable[[models.Model, Any], Any]) ->
     """A JSON field's value as JSON text encoded by orjson, which COPY sends as it is: Python's
     own encoder (psycopg's, through Django) was a twentieth of a batch of 100 results, most of it
     the budgets (issue 12). The text may differ from Python's in how it writes a number (1e+300,
-    0.00001), never in the number, which PostgreSQL's jsonb keeps as a value. Anything orjson
-    would write otherwise takes Django's path, whose outcome is then the same as ever: a value
-    Python's encoder refuses (a Decimal, a date, a dataclass, a key that is not a string, a
-    number past 64 bits), a subclass of str, int, dict or list (an enum), and any text with null
-    in it, since orjson writes NaN and the infinities as null where Python's encoder writes what
-    PostgreSQL refuses (a None, or a string holding "null", merely goes the slow way). Two
-    values Python's encoder refuses are written by orjson instead: a UUID (as its text) and an
-    Enum that is neither a str nor an int (as its value); no service puts either in a JSON field
-    (what they store there has been through ``audit.json_safe`` or is plain already)."""
+    0.00001), never in the number, which PostgreSQL's jsonb keeps as a value. The rest takes
+    Django's path, whose outcome is then the same as ever: what orjson refuses (a Decimal, a
+    date, a dataclass, a key that is not a string, a number past 64 bits), a subclass of str,
+    int, dict or list, and any text with null in it, since orjson writes NaN and the infinities
+    as null where Python's encoder writes what PostgreSQL refuses (a None, or a string holding
+    "null", merely goes the slow way). An enum is written by orjson as its value, as Python's
+    encoder writes a str or int enum. Two values Python's encoder refuses are written by orjson
+    instead: a UUID (as its text) and an enum that is neither a str nor an int (as its value); no
+    service puts either in a JSON field (what they store there has been through
+    ``audit.json_safe`` or is plain already)."""
 
     def as_json_text(obj: models.Model, connection: Any) -> Any:
         value = getattr(obj, attname)

@@ -96,10 +96,10 @@ def _instruments_with_status_sql() -> str:
     return (
         f"SELECT i.*, c.id AS latest_calibration_id, c.passed AS latest_calibration_passed, "
         f"c.due_on AS latest_calibration_due_on, k.id AS latest_check_id, k.passed AS latest_check_passed, "
-        f"k.performed_at AS latest_check_at FROM {instrument} i "
-        f"LEFT JOIN LATERAL (SELECT id, passed, due_on FROM {calibration} WHERE instrument_id = i.id "
+        f'k.performed_at AS latest_check_at FROM "{instrument}" i '
+        f'LEFT JOIN LATERAL (SELECT id, passed, due_on FROM "{calibration}" WHERE instrument_id = i.id '
         f"ORDER BY calibrated_on DESC, id DESC LIMIT 1) c ON TRUE "
-        f"LEFT JOIN LATERAL (SELECT id, passed, performed_at FROM {check} WHERE instrument_id = i.id "
+        f'LEFT JOIN LATERAL (SELECT id, passed, performed_at FROM "{check}" WHERE instrument_id = i.id '
         f"ORDER BY performed_at DESC, id DESC LIMIT 1) k ON TRUE "
         f"WHERE i.id = ANY(%s) OR i.asset_id = ANY(%s)"
     )
