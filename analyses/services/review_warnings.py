@@ -52,7 +52,6 @@ def _replicate_warnings(
             try:
                 values = plugin.validate(line_inputs(plugin, test.specification_line, stored_inputs(result)))
             except MethodInputError as exc:  # entered under an older version of the method's checks
-                values = None
                 found = [f"its inputs no longer pass method {plugin.code}'s checks ({exc.field}: {exc.reason})"]
         if values is not None:
             found = input_warnings(plugin, values) + blank_warnings(plugin.blank, values)
