@@ -10,13 +10,15 @@ from __future__ import annotations
 
 import hashlib
 import json
-from collections.abc import Iterable, Mapping, Sequence
+import re
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import UTC, date, datetime, time, timedelta
 from decimal import Decimal
 from typing import Any
 from uuid import UUID
 
+import orjson
 from django.core.serializers.json import DjangoJSONEncoder
 from django.db import connections, models, router, transaction
 from django.utils import timezone
@@ -94,24 +96,35 @@ def changes_encoded(changes: Mapping[str, Any]) -> tuple[dict[str, Any], str]:
     PostgreSQL's jsonb keeps it (``as_jsonb_keeps``): what ``json_safe``, then
     ``as_jsonb_keeps``, then ``canonical_json`` give, so that the text hashed is the text
     ``audit_verify`` makes again from the stored row. Changes that are plain already (most
-    are: ``created`` and ``snapshot`` give them so) are encoded as they are, and read back to
-    check that nothing was lost on the way (a key that was not a string, a tuple, a Decimal);
-    only other changes, or a text that may hold a number jsonb rewrites, take the walk, which
-    was a quarter of a batch's audit append (issue 12). Keys are ordered as str orders them;
-    a str subclass that orders itself otherwise is not supported (no service uses one)."""
+    are: ``created`` and ``snapshot`` give them so) are encoded by orjson and read back to
+    check that nothing was lost on the way (a key that was not a string, a tuple, NaN, which
+    orjson writes as null); only other changes, or a text that may hold a number written
+    otherwise, take the walk. ``json.dumps`` and ``json.loads`` here were a twelfth of a
+    batch's work (issue 12). Keys are ordered as str orders them (orjson orders them by their
+    UTF-8 bytes, the same order); a str subclass that orders itself otherwise is not
+    supported (no service uses one)."""
     try:
-        text = canonical_json(changes)
-    except (TypeError, ValueError):
+        raw = orjson.dumps(changes, option=_ORJSON_CANONICAL)
+    except orjson.JSONEncodeError:  # a type orjson leaves to the walk (a Decimal, a subclass, an int past 64 bits)
         pass
     else:
-        # a float jsonb rewrites is written "-0.0" or with "e+"; a string may hold them too,
-        # and then only costs the walk
-        if "e+" not in text and "-0.0" not in text:
-            plain = json.loads(text)
+        if not _WRITTEN_OTHERWISE.search(raw):
+            plain = orjson.loads(raw)
             if plain == changes:
-                return plain, text
+                return plain, raw.decode()
     plain = as_jsonb_keeps(json_safe(dict(changes)))
     return plain, canonical_json(plain)
+
+
+# sorted keys and no spaces, as canonical_json. A subclass of str, int, dict or list (a choice
+# such as TestState) is written as the plain value it holds, as json.dumps writes it; what
+# orjson would write its own way (a date, a dataclass) is refused
+_ORJSON_CANONICAL = orjson.OPT_SORT_KEYS | orjson.OPT_PASSTHROUGH_DATETIME | orjson.OPT_PASSTHROUGH_DATACLASS
+# a float that jsonb rewrites (written "-0.0" or with "e+"), or one that orjson writes with a
+# one-digit exponent where Python pads it ("1e-6" for "1e-06": floats from 1e-9 to 1e-5, found
+# by comparing the two over every exponent). A string may hold these too, and then only costs
+# the walk
+_WRITTEN_OTHERWISE = re.compile(rb"e\+|-0\.0(?!\d)|\de-\d(?!\d)")
 
 
 def as_jsonb_keeps(value: Any) -> Any:
@@ -249,7 +262,8 @@ def audit_append_many(
     The same chain as ``audit_append`` called for each in turn, in three queries instead of
     three per entry. Must run inside the caller's transaction. The entries as saved, unless
     ``entries_back`` is False (a bulk writer that has no use for them: building them was a
-    sixth of a batch's audit append); then an empty list."""
+    sixth of a batch's audit append); then an empty list, and on PostgreSQL each entry is
+    hashed and sent while the database inserts the ones before (``_entries_stream``)."""
     for pending in entries:
         if pending.action not in _ACTIONS:
             raise ValueError(f"unknown audit action {pending.action!r}")
@@ -260,33 +274,46 @@ def audit_append_many(
     head, _ = AuditChainHead.objects.select_for_update().get_or_create(id=1)
     # chain from the head, not from the last row found: after rows were deleted from the
     # end, the next entry still points at the deleted one and the gap shows
-    sequence, previous_hash = head.last_sequence, head.last_hash
-    at = timezone.now()
-    at_text = _canonical_time(at)
-    rows: list[tuple[Any, ...]] = []
-    texts: list[str] = []
-    for pending in entries:
-        sequence += 1
+    chain = _Chain(head.last_sequence, head.last_hash, timezone.now())
+    if bulk and not entries_back and connections[router.db_for_write(AuditEntry)].vendor == "postgresql":
+        _entries_stream(chain, entries)
+        appended: list[AuditEntry] = []
+    else:
+        chained = [chain.next(pending) for pending in entries]
+        appended = _entries_write([row for row, _ in chained], [text for _, text in chained], bulk=bulk, entries_back=entries_back)
+    head.last_sequence, head.last_hash = chain.sequence, chain.previous_hash
+    head.save(update_fields=["last_sequence", "last_hash"])
+    return appended
+
+
+class _Chain:
+    """The chain as far as it is built: the last sequence and hash, and the time the entries
+    appended together share."""
+
+    def __init__(self, sequence: int, previous_hash: str, at: datetime):
+        self.sequence, self.previous_hash = sequence, previous_hash
+        self.at, self.at_text = at, _canonical_time(at)
+
+    def next(self, pending: PendingEntry) -> tuple[tuple[Any, ...], str]:
+        """``pending`` as the next entry: its values in ``_ENTRY_FIELDS`` order (the changes as
+        plain JSON types) and its changes as the canonical JSON text that was hashed."""
+        self.sequence += 1
         actor_id = getattr(pending.actor, "pk", None)
         actor_username = getattr(pending.actor, "username", "") or ""
         action, reason = str(pending.action), pending.reason or ""
         object_type, object_id = pending.obj._meta.label_lower, str(pending.obj.pk)
         changes, changes_json = changes_encoded(pending.changes)
         content = _content_text(
-            sequence, at_text, actor_id, actor_username, action, object_type, object_id, changes_json, reason,
+            self.sequence, self.at_text, actor_id, actor_username, action, object_type, object_id, changes_json, reason,
             pending.lot_ref, pending.sample_ref,
         )
-        entry_hash = chain_hash(previous_hash, content)
-        rows.append((
-            sequence, at, actor_id, actor_username, action, object_type, object_id, changes, reason,
-            pending.lot_ref, pending.sample_ref, previous_hash, entry_hash,
-        ))
-        texts.append(changes_json)
-        previous_hash = entry_hash
-    appended = _entries_write(rows, texts, bulk=bulk, entries_back=entries_back)
-    head.last_sequence, head.last_hash = sequence, previous_hash
-    head.save(update_fields=["last_sequence", "last_hash"])
-    return appended
+        entry_hash = chain_hash(self.previous_hash, content)
+        row = (
+            self.sequence, self.at, actor_id, actor_username, action, object_type, object_id, changes, reason,
+            pending.lot_ref, pending.sample_ref, self.previous_hash, entry_hash,
+        )
+        self.previous_hash = entry_hash
+        return row, changes_json
 
 
 # AuditEntry's fields (the id left out) in the order _entries_write takes their values
@@ -306,18 +333,14 @@ def _entries_write(
 ) -> list[AuditEntry]:
     """Insert the entries, one tuple of values each in ``_ENTRY_FIELDS`` order, with their
     changes as the canonical JSON text that was hashed; the entries as saved (none unless
-    ``entries_back``). On PostgreSQL a
-    bulk write streams the values with COPY, the changes as that very text: no model object
-    to prepare and no second encoding of the changes (issue 12)."""
+    ``entries_back``). On PostgreSQL a bulk write streams the values with COPY, the changes as
+    that very text: no model object to prepare and no second encoding of the changes (issue 12)."""
     alias = router.db_for_write(AuditEntry)
     if bulk and connections[alias].vendor == "postgresql":
         ids = values_copy(
             AuditEntry, _ENTRY_FIELDS, [(*row[:_CHANGES], text, *row[_CHANGES + 1:]) for row, text in zip(rows, changes_json)],
-            ids=entries_back,  # the ids are only needed to give the entries back
         )
-        if not entries_back:
-            return []
-        return [AuditEntry.from_db(alias, ("id", *_ENTRY_FIELDS), (pk, *row)) for pk, row in zip(ids, rows)]
+        return [AuditEntry.from_db(alias, ("id", *_ENTRY_FIELDS), (pk, *row)) for pk, row in zip(ids, rows)] if entries_back else []
     entries = [AuditEntry(**dict(zip(_ENTRY_FIELDS, row))) for row in rows]
     if bulk:
         rows_insert(entries)
@@ -325,6 +348,23 @@ def _entries_write(
         for entry in entries:
             entry.save()
     return entries if entries_back else []
+
+
+def _entries_stream(chain: _Chain, entries: Sequence[PendingEntry]) -> None:
+    """PostgreSQL: insert ``entries`` with COPY, each encoded and hashed just before it is
+    sent, so that the database inserts the first while the later ones are hashed: waiting for
+    the insert of a batch's 350 entries once they were all hashed was a twentieth of the batch
+    (issue 12). The entries are made before the COPY begins (making one may read the database,
+    which a COPY under way forbids). In a savepoint of its own: changes refused half way (NaN)
+    end the COPY, and the transaction goes on as it was."""
+
+    def rows() -> Iterator[tuple[Any, ...]]:
+        for pending in entries:
+            row, text = chain.next(pending)
+            yield (*row[:_CHANGES], text, *row[_CHANGES + 1:])
+
+    with transaction.atomic(using=router.db_for_write(AuditEntry)):
+        values_copy(AuditEntry, _ENTRY_FIELDS, rows(), ids=False)
 
 
 @dataclass(frozen=True)

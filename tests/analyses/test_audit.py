@@ -389,3 +389,42 @@ def test_integers_of_any_size_are_encoded_and_read_back_as_the_integers_they_are
     assert plain == {"count": [None, number], "note": [None, "n"]}
     assert type(plain["count"][1]) is int
     assert text == canonical_json({"count": [None, number], "note": [None, "n"]})
+
+
+@pytest.mark.parametrize(
+    "number",
+    [1e-4, 1e-5, 1e-6, 9.999999999999999e-06, 1.5e-9, 1e-10, 2.5e-300, 1e15, 1e16, -0.0, -0.01, -0.05, 0.1 + 0.2, 5e-324],
+)
+def test_floats_are_written_as_python_writes_them_whatever_their_exponent(number):
+    """changes_encoded writes plain changes with orjson, which writes a float from 1e-9 to 1e-5
+    with a one-digit exponent ("1e-6") where json.dumps pads it ("1e-06"), found by comparing
+    the two over every exponent: the text hashed must be json.dumps's, as audit_verify makes it."""
+    from analyses.audit import as_jsonb_keeps, canonical_json, changes_encoded
+
+    changes = {"value": [None, number], "note": ["1e-6 as words", [number]]}
+    expected = as_jsonb_keeps(changes)
+    assert changes_encoded(changes) == (expected, canonical_json(expected))
+
+
+@pytest.mark.django_db
+def test_changes_refused_half_way_through_a_bulk_append_leave_nothing_written(received_sample):
+    """A bulk append that gives no entries back sends each entry to PostgreSQL's COPY as it is
+    hashed (audit._entries_stream), so more than a buffer's worth has gone when an entry's
+    changes are refused (NaN): nothing may be written, the head stays where it was, and the
+    transaction goes on (on SQLite the entries are all hashed before any is written)."""
+    from analyses.audit import PendingEntry, audit_append_many
+    from analyses.models import AuditChainHead
+
+    note = "x" * 400  # 300 entries of this size are several of psycopg's 32 KiB COPY buffers
+    entries = [PendingEntry(None, AuditAction.CHANGE, received_sample, {"note": [None, note], "n": [0, n]}) for n in range(300)]
+    entries.insert(250, PendingEntry(None, AuditAction.CHANGE, received_sample, {"value": [0, math.nan]}))
+    head = AuditChainHead.objects.get(id=1)
+    kept = AuditEntry.objects.count()
+    with transaction.atomic():
+        with pytest.raises(ValueError):
+            audit_append_many(entries, entries_back=False)
+        assert AuditEntry.objects.count() == kept
+        assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == (head.last_sequence, head.last_hash)
+        audit_append_many(entries[:3], entries_back=False)  # the transaction is still usable
+    assert AuditEntry.objects.count() == kept + 3
+    assert audit_chain_verify().ok
