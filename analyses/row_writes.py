@@ -20,7 +20,7 @@ signals, as Django's bulk methods do not.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from functools import lru_cache
 from typing import Any, TypeVar
 
@@ -91,7 +91,12 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
         obj._prepare_related_fields_for_save(operation_name="rows_insert")  # as bulk_create does
     fields = [field for field in meta.concrete_fields if not field.primary_key]
     prepared = [_db_value(field) for field in fields]
-    ids = values_copy(model, [field.attname for field in fields], [[prepare(obj, connection) for prepare in prepared] for obj in objects])
+    # each row made as the COPY takes it, so that the database inserts the first rows while the
+    # later ones are made (preparing a value reads no row)
+    ids = values_copy(
+        model, [field.attname for field in fields], ([prepare(obj, connection) for prepare in prepared] for obj in objects),
+        count=len(objects),
+    )
     for obj, pk in zip(objects, ids):
         obj.pk = pk
         obj._state.adding = False
@@ -99,15 +104,17 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
 
 
 def values_copy(
-    model: type[models.Model], attnames: Sequence[str], rows: Sequence[Sequence[Any]], *, ids: bool = True
+    model: type[models.Model], attnames: Sequence[str], rows: Iterable[Sequence[Any]], *, ids: bool = True,
+    count: int | None = None,
 ) -> list[int]:
     """PostgreSQL only: insert ``rows`` of ``model``, whose values (of the fields
     ``attnames``, in that order, the id left out) are ready for the database as they are, as
     Django's field preparation would leave them (a JSON column takes JSON text as well as
     psycopg's ``Jsonb``). The new rows' ids, in order; with ``ids=False`` none (an empty list),
-    and the table's sequence gives them as the rows go in, which spares a query. For a writer
-    that has the values already, with no model objects to build (the audit trail's entries:
-    ``audit.audit_append_many``)."""
+    and the table's sequence gives them as the rows go in, which spares a query. The rows may
+    come from a generator, drawn while the COPY runs (one that reads the database would fail:
+    the connection is busy with the COPY); ``count`` then gives their number if ids are wanted. For a writer that has the values already, with no model objects to
+    build (the audit trail's entries: ``audit.audit_append_many``)."""
     meta = model._meta
     connection = connections[router.db_for_write(model)]
     quote = connection.ops.quote_name
@@ -120,7 +127,7 @@ def values_copy(
             cursor.execute(
                 "WITH s AS MATERIALIZED (SELECT pg_get_serial_sequence(%s, %s)::regclass AS seq) "
                 "SELECT nextval(s.seq) FROM s CROSS JOIN generate_series(1, %s) ORDER BY generate_series",
-                [meta.db_table, meta.pk.column, len(rows)],
+                [meta.db_table, meta.pk.column, len(rows) if count is None else count],
             )
             new_ids = [row[0] for row in cursor.fetchall()]
             named = [meta.pk.column, *named]
