@@ -108,7 +108,7 @@ def changes_encoded(changes: Mapping[str, Any]) -> tuple[dict[str, Any], str]:
     except orjson.JSONEncodeError:  # a type orjson leaves to the walk (a Decimal, a subclass, an int past 64 bits)
         pass
     else:
-        if not _WRITTEN_OTHERWISE.search(raw):
+        if not _written_otherwise(raw):
             plain = orjson.loads(raw)
             if plain == changes:
                 return plain, raw.decode()
@@ -120,11 +120,23 @@ def changes_encoded(changes: Mapping[str, Any]) -> tuple[dict[str, Any], str]:
 # such as TestState) is written as the plain value it holds, as json.dumps writes it; what
 # orjson would write its own way (a date, a dataclass) is refused
 _ORJSON_CANONICAL = orjson.OPT_SORT_KEYS | orjson.OPT_PASSTHROUGH_DATETIME | orjson.OPT_PASSTHROUGH_DATACLASS
-# a float that jsonb rewrites (written "-0.0" or with "e+"), or one that orjson writes with a
-# one-digit exponent where Python pads it ("1e-6" for "1e-06": floats from 1e-9 to 1e-5, found
-# by comparing the two over every exponent). A string may hold these too, and then only costs
-# the walk
-_WRITTEN_OTHERWISE = re.compile(rb"e\+|-0\.0(?!\d)|\de-\d(?!\d)")
+
+
+def _written_otherwise(raw: bytes) -> bool:
+    """Whether orjson's text may hold a float that jsonb rewrites (written "-0.0" or with "e+"),
+    or one that orjson writes with a one-digit exponent where Python pads it ("1e-6" for
+    "1e-06": floats from 1e-9 to 1e-5, found by comparing the two over every exponent). A
+    string may hold these too, and then only costs the walk. Plain substring tests first: a
+    regular expression over every text was most of the encoding's time."""
+    if b"e+" in raw:
+        return True
+    if b"-0.0" in raw and _NEGATIVE_ZERO.search(raw):
+        return True
+    return b"e-" in raw and _SHORT_EXPONENT.search(raw) is not None
+
+
+_NEGATIVE_ZERO = re.compile(rb"-0\.0(?!\d)")
+_SHORT_EXPONENT = re.compile(rb"\de-\d(?!\d)")
 
 
 def as_jsonb_keeps(value: Any) -> Any:
