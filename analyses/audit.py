@@ -267,7 +267,7 @@ class PendingEntry:
 
 
 def audit_append_many(
-    entries: Sequence[PendingEntry], *, bulk: bool = True, entries_back: bool = True
+    entries: Iterable[PendingEntry], *, bulk: bool = True, entries_back: bool = True
 ) -> list[AuditEntry]:
     """Append ``entries`` in order under one lock of the chain head: each gets its own
     sequence and its own hash, chained on the one before, and the head is updated once.
@@ -275,27 +275,38 @@ def audit_append_many(
     three per entry. Must run inside the caller's transaction. The entries as saved, unless
     ``entries_back`` is False (a bulk writer that has no use for them: building them was a
     sixth of a batch's audit append); then an empty list, and on PostgreSQL each entry is
-    hashed and sent while the database inserts the ones before (``_entries_stream``)."""
-    for pending in entries:
-        if pending.action not in _ACTIONS:
-            raise ValueError(f"unknown audit action {pending.action!r}")
+    taken from ``entries``, hashed and sent while the database inserts the ones before
+    (``_entries_stream``): ``entries`` may then be a generator that makes each entry as it is
+    taken, but must read nothing from the database (the connection is busy with the COPY)."""
     if not transaction.get_connection().in_atomic_block:
         raise RuntimeError("audit_append must run inside transaction.atomic()")
-    if not entries:
-        return []
+    streamed = bulk and not entries_back and connections[router.db_for_write(AuditEntry)].vendor == "postgresql"
+    if not streamed:
+        entries = list(entries)
+        for pending in entries:
+            _check_action(pending)
+        if not entries:
+            return []
     head, _ = AuditChainHead.objects.select_for_update().get_or_create(id=1)
     # chain from the head, not from the last row found: after rows were deleted from the
     # end, the next entry still points at the deleted one and the gap shows
     chain = _Chain(head.last_sequence, head.last_hash, timezone.now())
-    if bulk and not entries_back and connections[router.db_for_write(AuditEntry)].vendor == "postgresql":
+    appended: list[AuditEntry] = []
+    if streamed:
         _entries_stream(chain, entries)
-        appended: list[AuditEntry] = []
+        if chain.sequence == head.last_sequence:
+            return appended  # there was no entry
     else:
         chained = [chain.next(pending) for pending in entries]
         appended = _entries_write([row for row, _ in chained], [text for _, text in chained], bulk=bulk, entries_back=entries_back)
     head.last_sequence, head.last_hash = chain.sequence, chain.previous_hash
     head.save(update_fields=["last_sequence", "last_hash"])
     return appended
+
+
+def _check_action(pending: PendingEntry) -> None:
+    if pending.action not in _ACTIONS:
+        raise ValueError(f"unknown audit action {pending.action!r}")
 
 
 class _Chain:
@@ -362,16 +373,16 @@ def _entries_write(
     return entries if entries_back else []
 
 
-def _entries_stream(chain: _Chain, entries: Sequence[PendingEntry]) -> None:
-    """PostgreSQL: insert ``entries`` with COPY, each encoded and hashed just before it is
-    sent, so that the database inserts the first while the later ones are hashed: waiting for
-    the insert of a batch's 350 entries once they were all hashed was a twentieth of the batch
-    (issue 12). The entries are made before the COPY begins (making one may read the database,
-    which a COPY under way forbids). In a savepoint of its own: changes refused half way (NaN)
-    end the COPY, and the transaction goes on as it was."""
+def _entries_stream(chain: _Chain, entries: Iterable[PendingEntry]) -> None:
+    """PostgreSQL: insert ``entries`` with COPY, each taken, encoded and hashed just before it
+    is sent, so that the database inserts the first while the later ones are made: waiting for
+    the insert of a batch's 350 entries once they were all made was a twentieth of the batch
+    (issue 12). In a savepoint of its own: an entry refused half way (an unknown action, NaN in
+    its changes) ends the COPY, and the transaction goes on as it was."""
 
     def rows() -> Iterator[tuple[Any, ...]]:
         for pending in entries:
+            _check_action(pending)
             row, text = chain.next(pending)
             yield (*row[:_CHANGES], text, *row[_CHANGES + 1:])
 

@@ -21,7 +21,7 @@ result entered before uncertainty budgets were kept costs a few more when its te
 """
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from decimal import Decimal
 from typing import Any
@@ -317,7 +317,10 @@ class _Batch:
                 changes[entry.index]["review_warnings"] = [before, entry.test.review_warnings]
         if completed:
             rows_update([entry.test for entry in completed], ["state", *AGGREGATE_FIELDS])
-        audit_append_many(self._audit_entries(budgets, means, changes), entries_back=False)
+        # each entry made as the audit trail's COPY takes it (audit._entries_stream); what may
+        # read the database (a test's sample not read with the batch) is read before it begins
+        refs = {entry.test.pk: {"lot_ref": entry.test.sample.lot_id, "sample_ref": entry.test.sample_id} for entry in self.new}
+        audit_append_many(self._audit_entries(budgets, means, changes, refs), entries_back=False)
         # parameters worked out from these means (TOTOX from PV and AnV: services/derived_tests.py)
         derived_tests_refresh(self.actor, [entry.test for entry in completed], reason=MEAN_REASON)
         in_batch = {entry.test.pk for entry in completed}
@@ -387,16 +390,17 @@ class _Batch:
             rows_update(replaced, ["results", "budget", "combined", "coverage_factor", "expanded", "source", "computed_at"])
         return rows
 
-    def _audit_entries(self, budgets, means, changes) -> list[PendingEntry]:
+    def _audit_entries(self, budgets, means, changes, refs: dict[int, dict[str, Any]]) -> Iterator[PendingEntry]:
         """The entries one entry at a time would append, in the same order: the result's
-        budget, the mean's budget, the result, the test's mean and its move to result_entered."""
-        pending: list[PendingEntry] = []
+        budget, the mean's budget, the result, the test's mean and its move to result_entered.
+        Made from what the batch holds, reading nothing: ``refs`` gives each test's lot and
+        sample refs."""
         for entry in self.new:
             test, actor = entry.test, self.actor
-            refs = {"lot_ref": test.sample.lot_id, "sample_ref": test.sample_id}
+            ref = refs[test.pk]
             if entry.index in budgets:
                 row = budgets[entry.index]
-                pending.append(PendingEntry(actor, AuditAction.CREATE, row, created(row, AUDITED_FIELDS + ("result",)), **refs))
+                yield PendingEntry(actor, AuditAction.CREATE, row, created(row, AUDITED_FIELDS + ("result",)), **ref)
             if entry.index in means:
                 row, old = means[entry.index]
                 mean_changes = {
@@ -404,18 +408,13 @@ class _Batch:
                     for name in (*AUDITED_FIELDS, "results")
                 }
                 action = AuditAction.CREATE if old is None else AuditAction.CHANGE
-                pending.append(PendingEntry(actor, action, row, mean_changes, reason=MEAN_REASON, **refs))
-            pending.append(
-                PendingEntry(actor, AuditAction.CREATE, entry.result, result_created_changes(entry.result, entry.trace), **refs)
-            )
+                yield PendingEntry(actor, action, row, mean_changes, reason=MEAN_REASON, **ref)
+            yield PendingEntry(actor, AuditAction.CREATE, entry.result, result_created_changes(entry.result, entry.trace), **ref)
             if entry.aggregate is not None:
                 if changes[entry.index]:
-                    pending.append(
-                        PendingEntry(actor, AuditAction.CHANGE, test, changes[entry.index], reason="all replicates entered", **refs)
-                    )
+                    yield PendingEntry(actor, AuditAction.CHANGE, test, changes[entry.index], reason="all replicates entered", **ref)
                 moved = {"state": [entry.left_state, TestState.RESULT_ENTERED]}
-                pending.append(PendingEntry(actor, AuditAction.TRANSITION, test, moved, **refs))
-        return pending
+                yield PendingEntry(actor, AuditAction.TRANSITION, test, moved, **ref)
 
     def _refuse_concurrent(self) -> None:
         """The insert met a row written meanwhile by another request (the tests are locked,

@@ -407,22 +407,27 @@ def test_floats_are_written_as_python_writes_them_whatever_their_exponent(number
 
 
 @pytest.mark.django_db
-def test_changes_refused_half_way_through_a_bulk_append_leave_nothing_written(received_sample):
+@pytest.mark.parametrize("refused", ["NaN in its changes", "an unknown action"])
+def test_an_entry_refused_half_way_through_a_bulk_append_leaves_nothing_written(received_sample, refused):
     """A bulk append that gives no entries back sends each entry to PostgreSQL's COPY as it is
-    hashed (audit._entries_stream), so more than a buffer's worth has gone when an entry's
-    changes are refused (NaN): nothing may be written, the head stays where it was, and the
-    transaction goes on (on SQLite the entries are all hashed before any is written)."""
+    hashed (audit._entries_stream), so more than a buffer's worth has gone when an entry is
+    refused: nothing may be written, the head stays where it was, and the transaction goes on
+    (on SQLite the entries are all checked and hashed before any is written)."""
     from analyses.audit import PendingEntry, audit_append_many
     from analyses.models import AuditChainHead
 
     note = "x" * 400  # 300 entries of this size are several of psycopg's 32 KiB COPY buffers
     entries = [PendingEntry(None, AuditAction.CHANGE, received_sample, {"note": [None, note], "n": [0, n]}) for n in range(300)]
-    entries.insert(250, PendingEntry(None, AuditAction.CHANGE, received_sample, {"value": [0, math.nan]}))
+    bad = (
+        PendingEntry(None, AuditAction.CHANGE, received_sample, {"value": [0, math.nan]}) if refused == "NaN in its changes"
+        else PendingEntry(None, "renamed", received_sample, {"value": [0, 1]})
+    )
+    entries.insert(250, bad)
     head = AuditChainHead.objects.get(id=1)
     kept = AuditEntry.objects.count()
     with transaction.atomic():
         with pytest.raises(ValueError):
-            audit_append_many(entries, entries_back=False)
+            audit_append_many(iter(entries), entries_back=False)  # a generator may give them
         assert AuditEntry.objects.count() == kept
         assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == (head.last_sequence, head.last_hash)
         audit_append_many(entries[:3], entries_back=False)  # the transaction is still usable
