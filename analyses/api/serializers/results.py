@@ -1,10 +1,13 @@
 """Results: entry one at a time or in bulk, corrections, history."""
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Any
 
+from django.utils import timezone
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
+from rest_framework.settings import api_settings
 
 from analyses.api.serializers.common import StrictSerializer, TextField, username_field
 from analyses.models import Result, Test
@@ -129,7 +132,7 @@ class ResultSerializer(serializers.ModelSerializer):
             "correction_reason": _text(result.correction_reason),
             "status_reason": _text(result.status_reason),
             "entered_by": None if user is None else _text(user.username),
-            "entered_at": _ENTERED_AT.to_representation(result.entered_at),
+            "entered_at": _shown_time(result.entered_at),
             "titrant_lot": None if lot is None else _text(lot.code),
             "standardisation": result.standardisation_id,
             "titrant_concentration": _text(result.titrant_concentration),
@@ -144,6 +147,20 @@ class ResultSerializer(serializers.ModelSerializer):
 # first use, a cost paid by every request that shows results
 _STATUS = serializers.ChoiceField(choices=Result._meta.get_field("status").choices)
 _ENTERED_AT = serializers.DateTimeField()
+
+
+def _shown_time(value: Any) -> Any:
+    """A result's entry time as ``DateTimeField`` shows it, in the current time zone and the
+    configured format. The results of a batch share theirs, and showing it was a fiftieth of a
+    bulk entry of 100 (issue 12): each distinct time is shown once."""
+    if value is None:
+        return None
+    return _shown_time_in(value, timezone.get_current_timezone(), api_settings.DATETIME_FORMAT)
+
+
+@lru_cache(maxsize=256)
+def _shown_time_in(value: Any, zone: Any, output_format: Any) -> Any:
+    return _ENTERED_AT.to_representation(value)
 
 
 def _text(value: Any) -> str | None:

@@ -81,3 +81,20 @@ def test_values_and_relations_missing_in_memory_show_as_the_fields_would_show_th
     _assert_same([result])
     [shown] = ResultSerializer([result], many=True).data
     assert shown["entered_by"] is None and shown["value_exact"] is None and shown["entered_at"] is None
+
+
+def test_entry_times_show_in_the_current_time_zone_and_format_though_each_is_shown_once(lab, users, settings):
+    """A batch's results share their entry time, which is shown once and kept: what is kept must
+    follow the time zone of the request and the configured format, as the field itself does."""
+    av, _ = lab.assigned("analyst")
+    batch = result_record_bulk_once(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}])
+    in_utc = ResultSerializer(batch.results, many=True).data[0]["entered_at"]
+    with timezone.override("Asia/Kolkata"):
+        _assert_same(batch.results)
+        in_kolkata = ResultSerializer(batch.results, many=True).data[0]["entered_at"]
+    assert in_utc.endswith("Z") and in_kolkata.endswith("+05:30")  # the same instant, shown in each zone
+    settings.REST_FRAMEWORK = {**settings.REST_FRAMEWORK, "DATETIME_FORMAT": "%Y-%m-%d %H:%M"}
+    _assert_same(batch.results)
+    assert ResultSerializer(batch.results, many=True).data[0]["entered_at"] == timezone.localtime(
+        batch.results[0].entered_at
+    ).strftime("%Y-%m-%d %H:%M")
