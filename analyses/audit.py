@@ -281,7 +281,8 @@ def audit_append_many(
     sixth of a batch's audit append); then an empty list, and on PostgreSQL each entry is
     taken from ``entries``, hashed and sent while the database inserts the ones before
     (``_entries_stream``): ``entries`` may then be a generator that makes each entry as it is
-    taken, but must read nothing from the database (the connection is busy with the COPY)."""
+    taken, but must read nothing from the database (the connection is busy with the COPY: a
+    query made meanwhile is refused, ``row_writes.QueryDuringCopy``, and nothing is appended)."""
     if not transaction.get_connection().in_atomic_block:
         raise RuntimeError("audit_append must run inside transaction.atomic()")
     streamed = bulk and not entries_back and connections[router.db_for_write(AuditEntry)].vendor == "postgresql"

@@ -112,8 +112,11 @@ def values_copy(
     Django's field preparation would leave them (a JSON column takes JSON text as well as
     psycopg's ``Jsonb``). The new rows' ids, in order; with ``ids=False`` none (an empty list),
     and the table's sequence gives them as the rows go in, which spares a query. The rows may
-    come from a generator, drawn while the COPY runs (one that reads the database would fail:
-    the connection is busy with the COPY); ``count`` then gives their number if ids are wanted. For a writer that has the values already, with no model objects to
+    come from a generator, drawn while the COPY runs; ``count`` then gives their number if ids
+    are wanted (a generator that gives another number is refused). Such a generator must not
+    touch the database: the connection is busy with the COPY, and psycopg would wait for it
+    for ever, so a query made meanwhile through Django is refused (``QueryDuringCopy``), which
+    ends the COPY and leaves the transaction aborted, as any database error does. For a writer that has the values already, with no model objects to
     build (the audit trail's entries: ``audit.audit_append_many``)."""
     meta = model._meta
     connection = connections[router.db_for_write(model)]
@@ -133,15 +136,26 @@ def values_copy(
             named = [meta.pk.column, *named]
         columns = ", ".join(quote(column) for column in named)
         # psycopg's errors become Django's (IntegrityError for a duplicate key), as in bulk_create
-        with connection.wrap_database_errors:
+        with connection.wrap_database_errors, connection.execute_wrapper(_refused_during_copy(meta.db_table)):
             with cursor.cursor.copy(f"COPY {quote(meta.db_table)} ({columns}) FROM STDIN") as copy:
                 if ids:
-                    for pk, values in zip(new_ids, rows):
+                    for pk, values in zip(new_ids, rows, strict=True):
                         copy.write_row([pk, *values])
                 else:
                     for values in rows:
                         copy.write_row(values)
     return new_ids
+
+
+class QueryDuringCopy(RuntimeError):
+    """A query was made while ``values_copy`` streamed rows: the rows' generator read the database."""
+
+
+def _refused_during_copy(table: str) -> Callable[..., Any]:
+    def refuse(execute, sql, params, many, context):
+        raise QueryDuringCopy(f"no query may run while COPY writes {table}: the rows given to values_copy read the database ({sql[:80]!r})")
+
+    return refuse
 
 
 # Fields whose value of exactly this type (or None) Django sends to PostgreSQL unchanged: their

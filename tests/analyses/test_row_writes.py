@@ -286,3 +286,34 @@ def test_new_row_builds_what_the_model_builds_from_keywords():
         new_row(Result, no_such_field=1)
     with pytest.raises(ValueError):
         new_row(Result, test=user)
+
+
+def test_rows_made_during_the_copy_may_not_read_the_database(postgres):
+    """values_copy draws its rows while the COPY runs; psycopg would wait for ever for a query
+    made meanwhile on the same connection (found by a review), so such a query is refused and
+    the COPY ends with nothing written."""
+    from analyses.row_writes import QueryDuringCopy, values_copy
+
+    by = UserFactory()
+    now = timezone.now()
+
+    def rows():
+        yield ["RW-ONE", "one", "", "", by.pk, now]
+        yield ["RW-TWO", Product.objects.count(), "", "", by.pk, now]  # reads the database
+
+    fields = ["code", "name", "oil_type", "description", "created_by_id", "created_at"]
+    assert {f.attname for f in Product._meta.concrete_fields} >= set(fields)
+    with pytest.raises(QueryDuringCopy), transaction.atomic():
+        values_copy(Product, fields, rows(), ids=False)
+    assert not Product.objects.filter(code__startswith="RW-").exists()
+
+
+def test_rows_that_are_not_as_many_as_counted_are_refused(postgres):
+    from analyses.row_writes import values_copy
+
+    by = UserFactory()
+    now = timezone.now()
+    rows = (["RW-ONE", "one", "", "", by.pk, now] for _ in range(1))
+    with pytest.raises(ValueError), transaction.atomic():
+        values_copy(Product, ["code", "name", "oil_type", "description", "created_by_id", "created_at"], rows, count=2)
+    assert not Product.objects.filter(code__startswith="RW-").exists()
