@@ -4,6 +4,7 @@ from __future__ import annotations
 from functools import lru_cache
 from typing import Any
 
+from django.conf import settings
 from django.utils import timezone
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
@@ -155,12 +156,15 @@ def _shown_time(value: Any) -> Any:
     bulk entry of 100 (issue 12): each distinct time is shown once."""
     if value is None:
         return None
-    return _shown_time_in(value, timezone.get_current_timezone(), api_settings.DATETIME_FORMAT)
+    # a time's zone and fold in the key too: two times equal as instants (or an hour apart in a
+    # repeated wall time) compare equal, and the field's own showing depends on these settings
+    key = (value, getattr(value, "tzinfo", None), getattr(value, "fold", 0))
+    return _shown_time_in(key, timezone.get_current_timezone(), api_settings.DATETIME_FORMAT, settings.USE_TZ)
 
 
 @lru_cache(maxsize=256)
-def _shown_time_in(value: Any, zone: Any, output_format: Any) -> Any:
-    return _ENTERED_AT.to_representation(value)
+def _shown_time_in(key: tuple[Any, Any, int], zone: Any, output_format: Any, use_tz: bool) -> Any:
+    return _ENTERED_AT.to_representation(key[0])
 
 
 def _text(value: Any) -> str | None:

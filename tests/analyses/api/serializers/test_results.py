@@ -98,3 +98,20 @@ def test_entry_times_show_in_the_current_time_zone_and_format_though_each_is_sho
     assert ResultSerializer(batch.results, many=True).data[0]["entered_at"] == timezone.localtime(
         batch.results[0].entered_at
     ).strftime("%Y-%m-%d %H:%M")
+
+
+def test_entry_times_equal_as_instants_or_in_a_repeated_hour_are_each_shown_as_the_field_shows_them():
+    """Times that compare equal may be shown differently by the field (found by a review): the
+    two 01:30 of the night New York's clocks go back, and the same instant in two zones."""
+    import datetime as dt
+    from zoneinfo import ZoneInfo
+
+    from analyses.api.serializers.results import _shown_time
+
+    new_york = ZoneInfo("America/New_York")
+    first, second = (dt.datetime(2021, 11, 7, 1, 30, fold=fold, tzinfo=new_york) for fold in (0, 1))
+    same_instant = first.astimezone(dt.UTC)
+    field = serializers.DateTimeField()
+    for value in (first, second, same_instant, first, second):
+        assert _shown_time(value) == field.to_representation(value)
+    assert _shown_time(first) != _shown_time(second)
