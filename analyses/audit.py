@@ -132,7 +132,10 @@ def _written_otherwise(raw: bytes) -> bool:
     (the first range only by a review: the first comparison looked at one float per exponent).
     A string may hold these too, and then only costs the walk. Plain substring tests first: a
     regular expression over every text was most of the encoding's time."""
-    if b"e+" in raw or b"0.0000" in raw:
+    if b"e+" in raw:
+        return True
+    # a number written "0.0000…", not a string holding it (a titrant's uncertainty is one)
+    if b"0.0000" in raw and _SMALL_PLAIN.search(raw):
         return True
     if b"-0.0" in raw and _NEGATIVE_ZERO.search(raw):
         return True
@@ -140,6 +143,7 @@ def _written_otherwise(raw: bytes) -> bool:
 
 
 _NEGATIVE_ZERO = re.compile(rb"-0\.0(?!\d)")
+_SMALL_PLAIN = re.compile(rb"[\[,:-]0\.0000")
 _SHORT_EXPONENT = re.compile(rb"\de-\d(?!\d)")
 
 
