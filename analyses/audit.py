@@ -370,7 +370,7 @@ def _entries_write(
     alias = router.db_for_write(AuditEntry)
     if bulk and connections[alias].vendor == "postgresql":
         ids = values_copy(
-            AuditEntry, _ENTRY_FIELDS, [(*row[:_CHANGES], text, *row[_CHANGES + 1:]) for row, text in zip(rows, changes_json)],
+            AuditEntry, _ENTRY_FIELDS, [_with_changes_text(row, text) for row, text in zip(rows, changes_json)],
         )
         return [AuditEntry.from_db(alias, ("id", *_ENTRY_FIELDS), (pk, *row)) for pk, row in zip(ids, rows)] if entries_back else []
     entries = [AuditEntry(**dict(zip(_ENTRY_FIELDS, row))) for row in rows]
@@ -380,6 +380,11 @@ def _entries_write(
         for entry in entries:
             entry.save()
     return entries if entries_back else []
+
+
+def _with_changes_text(row: tuple[Any, ...], changes_json: str) -> tuple[Any, ...]:
+    """An entry's values for COPY: its changes as the canonical JSON text that was hashed."""
+    return (*row[:_CHANGES], changes_json, *row[_CHANGES + 1:])
 
 
 def _entries_stream(chain: _Chain, entries: Iterable[PendingEntry]) -> None:
@@ -392,8 +397,7 @@ def _entries_stream(chain: _Chain, entries: Iterable[PendingEntry]) -> None:
     def rows() -> Iterator[tuple[Any, ...]]:
         for pending in entries:
             _check_action(pending)
-            row, text = chain.next(pending)
-            yield (*row[:_CHANGES], text, *row[_CHANGES + 1:])
+            yield _with_changes_text(*chain.next(pending))
 
     with transaction.atomic(using=router.db_for_write(AuditEntry)):
         values_copy(AuditEntry, _ENTRY_FIELDS, rows(), ids=False)

@@ -116,8 +116,9 @@ def values_copy(
     are wanted (a generator that gives another number is refused). Such a generator must not
     touch the database: the connection is busy with the COPY, and psycopg would wait for it
     for ever, so a query made meanwhile through Django is refused (``QueryDuringCopy``), which
-    ends the COPY and leaves the transaction aborted, as any database error does. For a writer that has the values already, with no model objects to
-    build (the audit trail's entries: ``audit.audit_append_many``)."""
+    ends the COPY and leaves the transaction aborted, as any database error does. For a writer
+    that has the values already, with no model objects to build (the audit trail's entries:
+    ``audit.audit_append_many``)."""
     meta = model._meta
     connection = connections[router.db_for_write(model)]
     quote = connection.ops.quote_name
