@@ -283,3 +283,53 @@ def test_an_entry_on_someone_elses_test_is_refused_naming_its_assignee(users, lo
     with pytest.raises(NotAllowed) as refused:
         result_record_bulk_once(users["analyst2"], [item])
     assert str(refused.value) == f"results.0: test {test.pk} is assigned to analyst; analyst2 may not enter its results"
+
+
+@pytest.mark.django_db(transaction=True)
+def test_a_key_committed_meanwhile_by_another_request_is_refused_naming_the_entry(postgres, users, lot, monkeypatch):
+    """Two requests of one analyst send the same key for different tests at the same moment:
+    both find the key unused, and the later insert meets the twin the other committed. The
+    batch is refused naming its entry and the test the key went to; nothing of it is written,
+    and the connection goes on working (a second batch is entered after the refusal)."""
+    import threading
+
+    from django.contrib.auth import get_user_model
+
+    from analyses.services import result_batch
+
+    tests = _assigned(users, lot, 2, "C")
+    mine, theirs = tests[0], tests[2]  # on two samples, so that the other request is not kept waiting on a lock
+    analyst_id = users["analyst"].pk
+
+    def other_request() -> None:  # its own connection, committed before the batch inserts
+        try:
+            result_record_bulk(get_user_model().objects.get(pk=analyst_id), [
+                {"test": theirs.pk, "inputs": INPUTS[theirs.method_code][0], "idempotency_key": "K-RACE", **TRACE[theirs.method_code]},
+            ])
+        finally:
+            connection.close()
+
+    real_catalog = result_batch.trace_catalog
+    raced = []
+
+    def catalog_then_race(*args, **kwargs):  # after the batch has looked its keys up, before it writes
+        if not raced:  # the batch's own call, not the other request's
+            raced.append(True)
+            worker = threading.Thread(target=other_request)
+            worker.start()
+            worker.join()
+        return real_catalog(*args, **kwargs)
+
+    monkeypatch.setattr(result_batch, "trace_catalog", catalog_then_race)
+    items = [
+        {"test": tests[1].pk, "inputs": INPUTS[tests[1].method_code][0], **TRACE[tests[1].method_code]},
+        {"test": mine.pk, "inputs": INPUTS[mine.method_code][0], "idempotency_key": "K-RACE", **TRACE[mine.method_code]},
+    ]
+    with pytest.raises(Conflict) as caught:
+        result_record_bulk(users["analyst"], items)
+    assert caught.value.detail == f"results.1: idempotency key 'K-RACE' was already used for test {theirs.pk}"
+    assert list(Result.objects.values_list("test_id", flat=True)) == [theirs.pk]  # the twin alone
+    monkeypatch.setattr(result_batch, "trace_catalog", real_catalog)
+    entered = result_record_bulk(users["analyst"], [{**items[0]}, {**items[1], "idempotency_key": "K-AFTER"}])
+    assert [r.test_id for r in entered] == [tests[1].pk, mine.pk]
+    assert audit_chain_verify().ok
