@@ -20,7 +20,7 @@ signals, as Django's bulk methods do not.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from functools import lru_cache
 from typing import Any, TypeVar
 
@@ -74,8 +74,44 @@ def _row_fields(model: type[models.Model]) -> tuple[tuple[models.Field, ...], fr
     return fields, frozenset(name for field in fields for name in {field.name, field.attname})
 
 
-def rows_insert(objects: Sequence[models.Model]) -> None:
-    """Insert ``objects`` (all new, all of one model); each gets its id, as from ``bulk_create``."""
+def ids_reserve(counts: Mapping[type[models.Model], int]) -> dict[type[models.Model], list[int]] | None:
+    """PostgreSQL: ids for that many new rows of each model, from each table's sequence, in
+    ascending order, all in one query: a writer that inserts rows of several models gives each
+    ``rows_insert`` its own, instead of one query per insert (three round trips fewer for a batch
+    of results, issue 12). None elsewhere, where ``rows_insert`` leaves the ids to ``bulk_create``."""
+    wanted = [(model, count) for model, count in counts.items() if count > 0]
+    if not counts:
+        return {}
+    aliases = {router.db_for_write(model) for model in counts}
+    if len(aliases) != 1:
+        raise ValueError(f"ids_reserve takes models of one database, not of {sorted(aliases)}")
+    connection = connections[aliases.pop()]
+    if connection.vendor != "postgresql":
+        return None
+    reserved: dict[type[models.Model], list[int]] = {model: [] for model in counts}
+    if not wanted:
+        return reserved
+    # each sequence looked up once (a MATERIALIZED CTE), not once per id: see values_copy
+    sequences = ", ".join(
+        f"s{number} AS MATERIALIZED (SELECT pg_get_serial_sequence(%s, %s)::regclass AS seq)" for number in range(len(wanted))
+    )
+    series = " UNION ALL ".join(
+        f"SELECT {number} AS k, nextval(s{number}.seq) AS id FROM s{number} CROSS JOIN generate_series(1, %s)"
+        for number in range(len(wanted))
+    )
+    params = [value for model, _ in wanted for value in (model._meta.db_table, model._meta.pk.column)]
+    params += [count for _, count in wanted]
+    with connection.cursor() as cursor:
+        cursor.execute(f"WITH {sequences} {series} ORDER BY k, id", params)
+        for number, pk in cursor.fetchall():
+            reserved[wanted[number][0]].append(pk)
+    return reserved
+
+
+def rows_insert(objects: Sequence[models.Model], *, ids: Sequence[int] | None = None) -> None:
+    """Insert ``objects`` (all new, all of one model); each gets its id, as from ``bulk_create``:
+    on PostgreSQL the ``ids`` given (reserved by ``ids_reserve``, one per object), else new ones
+    from the table's sequence."""
     if not objects:
         return
     model = type(objects[0])
@@ -93,9 +129,11 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
     prepared = [_db_value(field) for field in fields]
     # each row made as the COPY takes it, so that the database inserts the first rows while the
     # later ones are made (preparing a value reads no row)
+    if ids is not None and len(ids) != len(objects):
+        raise ValueError(f"{len(ids)} ids reserved for {len(objects)} {model.__name__} rows")
     ids = values_copy(
         model, [field.attname for field in fields], ([prepare(obj, connection) for prepare in prepared] for obj in objects),
-        count=len(objects),
+        count=len(objects), reserved=ids,
     )
     for obj, pk in zip(objects, ids):
         obj.pk = pk
@@ -105,7 +143,7 @@ def rows_insert(objects: Sequence[models.Model]) -> None:
 
 def values_copy(
     model: type[models.Model], attnames: Sequence[str], rows: Iterable[Sequence[Any]], *, ids: bool = True,
-    count: int | None = None,
+    count: int | None = None, reserved: Sequence[int] | None = None,
 ) -> list[int]:
     """PostgreSQL only: insert ``rows`` of ``model``, whose values (of the fields
     ``attnames``, in that order, the id left out) are ready for the database as they are, as
@@ -113,7 +151,8 @@ def values_copy(
     psycopg's ``Jsonb``). The new rows' ids, in order; with ``ids=False`` none (an empty list),
     and the table's sequence gives them as the rows go in, which spares a query. The rows may
     come from a generator, drawn while the COPY runs; ``count`` then gives their number if ids
-    are wanted (a generator that gives another number is refused). Such a generator must not
+    are wanted (a generator that gives another number is refused); ``reserved`` gives ids taken
+    beforehand (``ids_reserve``), which spares the query for them. Such a generator must not
     touch the database: the connection is busy with the COPY, and psycopg would wait for it
     for ever, so a query made meanwhile through Django is refused (``QueryDuringCopy``), which
     ends the COPY and leaves the transaction aborted, as any database error does. For a writer
@@ -125,7 +164,10 @@ def values_copy(
     named = [meta.get_field(name).column for name in attnames]
     new_ids: list[int] = []
     with connection.cursor() as cursor:
-        if ids:
+        if ids and reserved is not None:
+            new_ids = list(reserved)
+            named = [meta.pk.column, *named]
+        elif ids:
             # the sequence looked up once, not once per id: pg_get_serial_sequence on every row
             # was two thirds of the query's time (350 ids: 1.0 ms against 0.36 ms, PostgreSQL 15)
             cursor.execute(

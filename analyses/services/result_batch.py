@@ -31,8 +31,10 @@ from django.utils import timezone
 
 from analyses.audit import PendingEntry, audit_append_many, created, json_safe
 from analyses.errors import Conflict, DomainError, InvalidInput, NotFound
-from analyses.row_writes import new_row, rows_insert, rows_update
-from analyses.models import AuditAction, Result, ResultStatus, ResultUncertainty, Sample, Test, TestState, TestUncertainty
+from analyses.row_writes import ids_reserve, new_row, rows_insert, rows_update
+from analyses.models import (
+    AuditAction, Result, ResultInstrument, ResultStatus, ResultUncertainty, Sample, Test, TestState, TestUncertainty,
+)
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.derived_tests import derived_tests_refresh
 from analyses.services.cross_checks import cross_check_partners, cross_check_warnings, cross_checks_refresh_partners
@@ -156,6 +158,10 @@ def results_enter(actor: Actor, requests: Sequence[EntryRequest | DomainError]) 
         # around the insert: two queries fewer per batch)
         batch.refuse_concurrent()
     return recorded
+
+
+def _reserved(ids: dict[type, list[int]] | None, model: type) -> list[int] | None:
+    return None if ids is None else ids[model]
 
 
 class _InsertMetTwin(Exception):
@@ -289,19 +295,27 @@ class _Batch:
         if not self.new:
             return
         self._judge_by_uncertainty()
+        means_before = self._means_before()
         results = [entry.result for entry in self.new]
+        with_budget = [entry for entry in self.new if entry.budget is not None]
+        # every id the batch's inserts need, in one query
+        ids = ids_reserve({
+            Result: len(results),
+            ResultInstrument: sum(len(entry.trace.uses) for entry in self.new),
+            ResultUncertainty: len(with_budget),
+            TestUncertainty: sum(1 for entry in self.new if entry.mean is not None and entry.test.pk not in means_before),
+        })
         try:
-            rows_insert(results)
+            rows_insert(results, ids=_reserved(ids, Result))
         except IntegrityError as exc:
             raise _InsertMetTwin from exc
-        trace_save_many((entry.result, entry.trace) for entry in self.new)
+        trace_save_many(((entry.result, entry.trace) for entry in self.new), ids=_reserved(ids, ResultInstrument))
         budgets = {
             entry.index: new_row(ResultUncertainty, result=entry.result, **stored_budget_fields(entry.budget))
-            for entry in self.new
-            if entry.budget is not None
+            for entry in with_budget
         }
-        rows_insert(list(budgets.values()))
-        means = self._save_means()
+        rows_insert(list(budgets.values()), ids=_reserved(ids, ResultUncertainty))
+        means = self._save_means(means_before, ids=_reserved(ids, TestUncertainty))
         completed = [entry for entry in self.new if entry.aggregate is not None]
         validated = {id(entry.result): entry.values for entry in self.new if entry.values_as_stored}
         changes = {
@@ -371,13 +385,20 @@ class _Batch:
             return None if entry.budget is None else entry.budget.as_dict()
         return stored_budget_dict(result)
 
-    def _save_means(self) -> dict[int, tuple[TestUncertainty, TestUncertainty | None]]:
-        """The mean's budget of each completed test, created or replaced; per entry index,
-        the row and the row it replaced (None when new)."""
+    def _means_before(self) -> dict[int, TestUncertainty]:
+        """The stored mean's budget of each test this batch completes with a mean's budget, by test id."""
+        tests = [entry.test.pk for entry in self.new if entry.mean is not None]
+        return {row.test_id: row for row in TestUncertainty.objects.filter(test_id__in=tests)} if tests else {}
+
+    def _save_means(
+        self, before: dict[int, TestUncertainty], *, ids: list[int] | None
+    ) -> dict[int, tuple[TestUncertainty, TestUncertainty | None]]:
+        """The mean's budget of each completed test, created (with the ``ids`` reserved) or
+        replaced (``before``: the stored ones); per entry index, the row and the row it
+        replaced (None when new)."""
         with_mean = [entry for entry in self.new if entry.mean is not None]
         if not with_mean:
             return {}
-        before = {row.test_id: row for row in TestUncertainty.objects.filter(test_id__in=[e.test.pk for e in with_mean])}
         rows: dict[int, tuple[TestUncertainty, TestUncertainty | None]] = {}
         fresh, replaced = [], []
         for entry in with_mean:
@@ -393,7 +414,7 @@ class _Batch:
                     setattr(old, name, value)
                 replaced.append(old)
                 rows[entry.index] = (old, kept)
-        rows_insert(fresh)
+        rows_insert(fresh, ids=ids)
         if replaced:
             rows_update(replaced, ["results", "budget", "combined", "coverage_factor", "expanded", "source", "computed_at"])
         return rows

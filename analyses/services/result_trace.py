@@ -276,9 +276,10 @@ def trace_save(result: Result, trace: Trace) -> None:
     )
 
 
-def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
-    """``trace_save`` for many inserted results at once: one insert. Each result then holds
-    its instrument uses as ``prefetch_related`` would leave them (in the model's order, by
+def trace_save_many(entered: Iterable[tuple[Result, Trace]], *, ids: Sequence[int] | None = None) -> None:
+    """``trace_save`` for many inserted results at once: one insert (with ``ids`` reserved
+    for the uses, one per use, see ``row_writes.ids_reserve``). Each result then holds its
+    instrument uses as ``prefetch_related`` would leave them (in the model's order, by
     instrument), so showing the results reads nothing more."""
     uses = [
         (result, [
@@ -288,7 +289,7 @@ def trace_save_many(entered: Iterable[tuple[Result, Trace]]) -> None:
         ])
         for result, trace in entered
     ]
-    rows_insert([row for _, rows in uses for row in rows])
+    rows_insert([row for _, rows in uses for row in rows], ids=ids)
     for result, rows in uses:
         rows.sort(key=lambda row: row.instrument_id)  # ResultInstrument.Meta.ordering, as a read gives them
         known = result.instrument_uses.all()

@@ -13,7 +13,7 @@ from django.test.utils import CaptureQueriesContext
 from analyses.audit import PendingEntry, audit_append_many
 from analyses.models import AuditAction, AuditEntry, Product, Test
 from analyses.models.immutable import ImmutableRowError
-from analyses.row_writes import _db_value, rows_insert, rows_update
+from analyses.row_writes import _db_value, ids_reserve, rows_insert, rows_update
 from tests.factories import TestFactory, UserFactory
 
 pytestmark = pytest.mark.django_db
@@ -317,3 +317,33 @@ def test_rows_that_are_not_as_many_as_counted_are_refused(postgres):
     with pytest.raises(ValueError), transaction.atomic():
         values_copy(Product, ["code", "name", "oil_type", "description", "created_by_id", "created_at"], rows, count=2)
     assert not Product.objects.filter(code__startswith="RW-").exists()
+
+
+def test_ids_reserved_for_several_models_in_one_query_are_the_ids_the_rows_get(postgres):
+    by = UserFactory()
+    now = timezone.now()
+    products = [Product(code=f"RW-R{n}", name="reserved", created_by=by, created_at=now) for n in range(3)]
+    entries_before = AuditEntry.objects.count()
+    with CaptureQueriesContext(connection) as captured:
+        reserved = ids_reserve({Product: 3, AuditEntry: 2, Test: 0})
+    assert len(captured) == 1
+    assert [len(reserved[Product]), len(reserved[AuditEntry]), reserved[Test]] == [3, 2, []]
+    assert reserved[Product] == sorted(reserved[Product])  # in order, as the sequence gives them
+    with CaptureQueriesContext(connection) as captured:
+        rows_insert(products, ids=reserved[Product])
+    assert not any("nextval" in q["sql"] for q in captured.captured_queries)
+    assert [p.pk for p in products] == reserved[Product]
+    assert sorted(Product.objects.filter(code__startswith="RW-R").values_list("pk", flat=True)) == reserved[Product]
+    # the table's own sequence is past them: a row inserted the usual way gets a later id
+    later = Product.objects.create(code="RW-LATER", name="later", created_by=by, created_at=now)
+    assert later.pk > max(reserved[Product])
+    assert AuditEntry.objects.count() == entries_before  # reserving writes nothing
+    with pytest.raises(ValueError, match="2 ids reserved for 3 Product rows"):
+        rows_insert([Product(code=f"RW-S{n}", name="short", created_by=by, created_at=now) for n in range(3)], ids=reserved[AuditEntry])
+
+
+def test_nothing_to_reserve_runs_no_query_and_sqlite_leaves_ids_to_bulk_create():
+    with CaptureQueriesContext(connection) as captured:
+        reserved = ids_reserve({Product: 0})
+    assert len(captured) == 0
+    assert reserved == ({Product: []} if connection.vendor == "postgresql" else None)
