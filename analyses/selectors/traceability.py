@@ -5,11 +5,14 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Iterable
 from functools import lru_cache
+from typing import Any
 
 from django.db import connections, router
-from django.db.models import OuterRef, Subquery
+from django.db.models import Model, OuterRef, Q, Subquery
 
-from analyses.models import Calibration, Instrument, InstrumentCheck, ReagentLot, Standardisation, StandardisationStatus
+from analyses.models import (
+    Calibration, Instrument, InstrumentCheck, ReagentKind, ReagentLot, Standardisation, StandardisationStatus,
+)
 from analyses.traceability.usability import InstrumentFacts, LotFacts
 
 
@@ -103,6 +106,131 @@ def _instruments_with_status_sql() -> str:
         f"ORDER BY performed_at DESC, id DESC LIMIT 1) k ON TRUE "
         f"WHERE i.id = ANY(%s) OR i.asset_id = ANY(%s)"
     )
+
+
+def lots_by_reference(ids: list[int], codes: list[str]) -> tuple[list[ReagentLot], dict[int, Standardisation]]:
+    """The lots named by id or code, each with its kind and ``lots_with_current``'s
+    annotations, and their current standardisations by id. On PostgreSQL one text of SQL with
+    a lateral join, which reads the standardisation rows too; elsewhere the queryset and one
+    more query. tests/analyses/selectors/test_traceability.py holds the two equal."""
+    connection = connections[router.db_for_read(ReagentLot)]
+    if connection.vendor != "postgresql":
+        lots = list(lots_with_current(ReagentLot.objects.select_related("kind")).filter(Q(pk__in=ids) | Q(code__in=codes)))
+        current = [lot.current_standardisation_id for lot in lots if lot.current_standardisation_id]
+        return lots, Standardisation.objects.in_bulk(current)
+    lot_rows, kind_rows, standardisation_rows = (_RowReader(m, connection) for m in (ReagentLot, ReagentKind, Standardisation))
+    kind_field = ReagentLot._meta.get_field("kind")
+    lots, standardisations = [], {}
+    with connection.cursor() as cursor:
+        cursor.execute(_lots_with_current_sql(), [StandardisationStatus.CURRENT.value, ids, codes])
+        for row in cursor.fetchall():
+            lot, at = lot_rows.read(row, 0)
+            kind, at = kind_rows.read(row, at)
+            standardisation, _ = standardisation_rows.read(row, at)
+            kind_field.set_cached_value(lot, kind)
+            lot.current_standardisation_id = lot.current_valid_until = None
+            if standardisation is not None:
+                lot.current_standardisation_id, lot.current_valid_until = standardisation.pk, standardisation.valid_until
+                standardisations[standardisation.pk] = standardisation
+            lots.append(lot)
+    return lots, standardisations
+
+
+@lru_cache(maxsize=1)
+def _lots_with_current_sql() -> str:
+    """PostgreSQL: lots whose id is in the second parameter or whose code is in the third, each
+    with its kind and its latest standardisation of the first parameter's status (as
+    ``current_standardisation_subquery`` orders them), read in one pass."""
+    lot, kind, standardisation = (m._meta.db_table for m in (ReagentLot, ReagentKind, Standardisation))
+    columns = ", ".join(_RowReader.select_list(m, a) for m, a in ((ReagentLot, "l"), (ReagentKind, "k"), (Standardisation, "s")))
+    return (
+        f'SELECT {columns} FROM "{lot}" l JOIN "{kind}" k ON k.id = l.kind_id '
+        f'LEFT JOIN LATERAL (SELECT * FROM "{standardisation}" WHERE lot_id = l.id AND status = %s '
+        f"ORDER BY performed_at DESC, id DESC LIMIT 1) s ON TRUE "
+        f"WHERE l.id = ANY(%s) OR l.code = ANY(%s)"
+    )
+
+
+def instruments_with_calibrations(
+    references: Iterable[int | str],
+) -> tuple[dict[int | str, Instrument], dict[int, Calibration]]:
+    """``instruments_by_reference``, and the latest calibration of each by id. On PostgreSQL
+    one text of SQL, whose lateral join reads the calibration row too; elsewhere one more
+    query. tests/analyses/selectors/test_traceability.py holds the two equal."""
+    refs = list(references)
+    connection = connections[router.db_for_read(Instrument)]
+    if connection.vendor != "postgresql":
+        found = instruments_by_reference(refs)
+        latest = {i.latest_calibration_id for i in found.values() if i.latest_calibration_id}
+        return found, Calibration.objects.in_bulk(latest)
+    ids = [r for r in refs if isinstance(r, int) and not isinstance(r, bool)]
+    codes = [r for r in refs if isinstance(r, str)]
+    instrument_rows, calibration_rows = _RowReader(Instrument, connection), _RowReader(Calibration, connection)
+    by_ref: dict[int | str, Instrument] = {}
+    calibrations: dict[int, Calibration] = {}
+    with connection.cursor() as cursor:
+        cursor.execute(_instruments_with_calibration_sql(), [ids, codes])
+        for row in cursor.fetchall():
+            instrument, at = instrument_rows.read(row, 0)
+            # as the raw query of instruments_by_reference reads them: the values as PostgreSQL gives them
+            instrument.latest_check_id, instrument.latest_check_passed, instrument.latest_check_at = row[at:at + 3]
+            calibration, _ = calibration_rows.read(row, at + 3)
+            if calibration is None:
+                instrument.latest_calibration_id = instrument.latest_calibration_passed = instrument.latest_calibration_due_on = None
+            else:
+                instrument.latest_calibration_id = calibration.pk
+                instrument.latest_calibration_passed, instrument.latest_calibration_due_on = calibration.passed, calibration.due_on
+                calibrations[calibration.pk] = calibration
+            by_ref[instrument.pk] = by_ref[instrument.asset_id] = instrument
+    return by_ref, calibrations
+
+
+@lru_cache(maxsize=1)
+def _instruments_with_calibration_sql() -> str:
+    """PostgreSQL: ``_instruments_with_status_sql``, with every column of the latest calibration."""
+    instrument, calibration, check = (m._meta.db_table for m in (Instrument, Calibration, InstrumentCheck))
+    return (
+        f"SELECT {_RowReader.select_list(Instrument, 'i')}, k.id, k.passed, k.performed_at, "
+        f"{_RowReader.select_list(Calibration, 'c')} "
+        f'FROM "{instrument}" i '
+        f'LEFT JOIN LATERAL (SELECT * FROM "{calibration}" WHERE instrument_id = i.id '
+        f"ORDER BY calibrated_on DESC, id DESC LIMIT 1) c ON TRUE "
+        f'LEFT JOIN LATERAL (SELECT id, passed, performed_at FROM "{check}" WHERE instrument_id = i.id '
+        f"ORDER BY performed_at DESC, id DESC LIMIT 1) k ON TRUE "
+        f"WHERE i.id = ANY(%s) OR i.asset_id = ANY(%s)"
+    )
+
+
+class _RowReader:
+    """One model's columns in a row of hand-written SQL, made into an object as Django makes a
+    row it reads (``Model.from_db``, each value through the converters its field's column
+    takes), or None where the row's id is null (a left join that found nothing)."""
+
+    def __init__(self, model: type[Model], connection: Any):
+        self.model, self.connection, self.alias = model, connection, connection.alias
+        self.fields = model._meta.concrete_fields
+        self.attnames = [field.attname for field in self.fields]
+        self.pk_index = self.fields.index(model._meta.pk)
+        self.converters = []
+        for index, field in enumerate(self.fields):
+            column = field.get_col(model._meta.db_table)
+            found = connection.ops.get_db_converters(column) + column.get_db_converters(connection)
+            if found:
+                self.converters.append((index, column, found))
+
+    @staticmethod
+    def select_list(model: type[Model], table: str) -> str:
+        return ", ".join(f'{table}."{field.column}"' for field in model._meta.concrete_fields)
+
+    def read(self, row: tuple[Any, ...], start: int) -> tuple[Model | None, int]:
+        end = start + len(self.fields)
+        values = list(row[start:end])
+        if values[self.pk_index] is None:
+            return None, end
+        for index, column, converters in self.converters:
+            for convert in converters:
+                values[index] = convert(values[index], column, self.connection)
+        return self.model.from_db(self.alias, self.attnames, values), end
 
 
 def due_within(today: dt.date, days: int) -> dt.date:
