@@ -191,7 +191,9 @@ class _Batch:
             # are locked, so that a lot changed while the lock was awaited is read as it now is
             samples = Sample.objects.select_related("lot__product").in_bulk(sample_ids)
             locked = (
-                Test.objects.select_for_update(of=("self",)).select_related("specification_line").filter(pk__in=test_ids).order_by("pk")
+                # with the mean's stored budget, which is replaced under the test's lock
+                Test.objects.select_for_update(of=("self",)).select_related("specification_line", "uncertainty")
+                .filter(pk__in=test_ids).order_by("pk")
             )
             for test in locked:
                 if test.sample_id in samples:  # else (a test made meanwhile) it is read when needed
@@ -386,9 +388,10 @@ class _Batch:
         return stored_budget_dict(result)
 
     def _means_before(self) -> dict[int, TestUncertainty]:
-        """The stored mean's budget of each test this batch completes with a mean's budget, by test id."""
-        tests = [entry.test.pk for entry in self.new if entry.mean is not None]
-        return {row.test_id: row for row in TestUncertainty.objects.filter(test_id__in=tests)} if tests else {}
+        """The stored mean's budget of each test this batch completes with a mean's budget, by
+        test id (read with the locked tests)."""
+        stored = ((entry.test.pk, getattr(entry.test, "uncertainty", None)) for entry in self.new if entry.mean is not None)
+        return {pk: row for pk, row in stored if row is not None}
 
     def _save_means(
         self, before: dict[int, TestUncertainty], *, ids: list[int] | None

@@ -333,3 +333,21 @@ def test_a_key_committed_meanwhile_by_another_request_is_refused_naming_the_entr
     entered = result_record_bulk(users["analyst"], [{**items[0]}, {**items[1], "idempotency_key": "K-AFTER"}])
     assert [r.test_id for r in entered] == [tests[1].pk, mine.pk]
     assert audit_chain_verify().ok
+
+
+def test_a_test_completed_again_has_its_means_budget_replaced_and_audited(users, lot):
+    """Sent back and entered again: the mean's stored budget (read with the locked test) is
+    the row the new pair replaces, and the change is audited with the old and new results."""
+    from analyses.services.review import test_send_back
+
+    av = next(t for t in _assigned(users, lot, 1, "AG") if t.method_code == "av")
+    first = result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": inputs, **AV_TRACE} for inputs in INPUTS["av"]])
+    mean = TestUncertainty.objects.get(test=av)
+    assert sorted(mean.results) == sorted(r.pk for r in first)
+    test_send_back(users["analyst2"], av, reason="burette not rinsed")
+    again = result_record_bulk(users["analyst"], [{"test": av.pk, "inputs": inputs, **AV_TRACE} for inputs in INPUTS["av"]])
+    replaced = TestUncertainty.objects.get(test=av)
+    assert replaced.pk == mean.pk and sorted(replaced.results) == sorted(r.pk for r in again)
+    change = AuditEntry.objects.filter(object_type="analyses.testuncertainty", object_id=str(mean.pk), action="change").get()
+    assert [sorted(side) for side in change.changes["results"]] == [sorted(r.pk for r in first), sorted(r.pk for r in again)]
+    assert audit_chain_verify().ok
