@@ -140,3 +140,35 @@ def test_a_session_login_that_succeeds_still_works(passwords):
     assert response.status_code == 302
     assert client.session["_auth_user_id"] == str(passwords["manager"].pk)
     assert client.get("/api/me/").json()["username"] == "manager"
+
+
+def test_permissions_are_django_model_backends_read_in_one_query(django_user_model):
+    """The user's own permissions and their groups' are the set ModelBackend gives, for a
+    plain user, a superuser and an inactive one, read in one query and cached on the user."""
+    from django.contrib.auth.backends import ModelBackend
+    from django.contrib.auth.models import Group, Permission
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    own = Permission.objects.get(codename="view_product")
+    shared, overlapping = Permission.objects.get(codename="view_lot"), Permission.objects.get(codename="view_product")
+    group = Group.objects.create(name="perm-read-check")
+    group.permissions.add(shared, overlapping)
+    plain = django_user_model.objects.create_user("perm-plain")
+    plain.user_permissions.add(own)
+    plain.groups.add(group)
+    boss = django_user_model.objects.create_user("perm-boss", is_superuser=True)
+    gone = django_user_model.objects.create_user("perm-gone", is_active=False)
+    gone.user_permissions.add(own)
+    nobody = django_user_model.objects.create_user("perm-nobody")
+    backend = login_guard.LockoutCheckBackend()
+    for user in (plain, boss, gone, nobody):
+        fresh, reference = (django_user_model.objects.get(pk=user.pk) for _ in range(2))
+        with CaptureQueriesContext(connection) as captured:
+            held = backend.get_all_permissions(fresh)
+            again = backend.get_all_permissions(fresh)
+        assert again is held or user is gone  # cached on the user object (an inactive one holds none)
+        assert held == ModelBackend().get_all_permissions(reference), user.username
+        assert len(captured) == (0 if user is gone else 1)
+        assert fresh.has_perm("analyses.view_product") == reference.has_perm("analyses.view_product")
+    assert backend.get_all_permissions(django_user_model.objects.get(pk=plain.pk)) == {"analyses.view_product", "analyses.view_lot"}
