@@ -275,7 +275,7 @@ class PendingEntry:
 
 
 def audit_append_many(
-    entries: Iterable[PendingEntry], *, bulk: bool = True, entries_back: bool = True
+    entries: Iterable[PendingEntry], *, bulk: bool = True, entries_back: bool = True, savepoint: bool = True
 ) -> list[AuditEntry]:
     """Append ``entries`` in order under one lock of the chain head: each gets its own
     sequence and its own hash, chained on the one before, and the head is updated once.
@@ -286,7 +286,10 @@ def audit_append_many(
     taken from ``entries``, hashed and sent while the database inserts the ones before
     (``_entries_stream``): ``entries`` may then be a generator that makes each entry as it is
     taken, but must read nothing from the database (the connection is busy with the COPY: a
-    query made meanwhile is refused, ``row_writes.QueryDuringCopy``, and nothing is appended)."""
+    query made meanwhile is refused, ``row_writes.QueryDuringCopy``, and nothing is appended).
+    The streamed COPY runs in a savepoint of its own, so that the caller's transaction goes on
+    after an entry refused half way; ``savepoint=False`` spares its two queries to a caller
+    whose own atomic block ends, rolled back, on any error (result entry's batches)."""
     if not transaction.get_connection().in_atomic_block:
         raise RuntimeError("audit_append must run inside transaction.atomic()")
     streamed = bulk and not entries_back and connections[router.db_for_write(AuditEntry)].vendor == "postgresql"
@@ -302,7 +305,7 @@ def audit_append_many(
     chain = _Chain(head.last_sequence, head.last_hash, timezone.now())
     appended: list[AuditEntry] = []
     if streamed:
-        _entries_stream(chain, entries)
+        _entries_stream(chain, entries, savepoint=savepoint)
         if chain.sequence == head.last_sequence:
             return appended  # there was no entry
     else:
@@ -387,19 +390,20 @@ def _with_changes_text(row: tuple[Any, ...], changes_json: str) -> tuple[Any, ..
     return (*row[:_CHANGES], changes_json, *row[_CHANGES + 1:])
 
 
-def _entries_stream(chain: _Chain, entries: Iterable[PendingEntry]) -> None:
+def _entries_stream(chain: _Chain, entries: Iterable[PendingEntry], *, savepoint: bool = True) -> None:
     """PostgreSQL: insert ``entries`` with COPY, each taken, encoded and hashed just before it
     is sent, so that the database inserts the first while the later ones are made: waiting for
     the insert of a batch's 350 entries once they were all made was a twentieth of the batch
-    (issue 12). In a savepoint of its own: an entry refused half way (an unknown action, NaN in
-    its changes) ends the COPY, and the transaction goes on as it was."""
+    (issue 12). In a savepoint of its own unless ``savepoint`` is False: an entry refused half
+    way (an unknown action, NaN in its changes) ends the COPY, and the transaction goes on as it
+    was (without the savepoint, it is left aborted, for the caller's atomic block to roll back)."""
 
     def rows() -> Iterator[tuple[Any, ...]]:
         for pending in entries:
             _check_action(pending)
             yield _with_changes_text(*chain.next(pending))
 
-    with transaction.atomic(using=router.db_for_write(AuditEntry)):
+    with transaction.atomic(using=router.db_for_write(AuditEntry), savepoint=savepoint):
         values_copy(AuditEntry, _ENTRY_FIELDS, rows(), ids=False)
 
 

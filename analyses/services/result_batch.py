@@ -344,7 +344,8 @@ class _Batch:
         # each entry made as the audit trail's COPY takes it (audit._entries_stream); what may
         # read the database (a test's sample not read with the batch) is read before it begins
         refs = {entry.test.pk: {"lot_ref": entry.test.sample.lot_id, "sample_ref": entry.test.sample_id} for entry in self.new}
-        audit_append_many(self._audit_entries(budgets, means, changes, refs), entries_back=False)
+        # no savepoint of the audit's own: any error ends results_enter's atomic block, rolled back
+        audit_append_many(self._audit_entries(budgets, means, changes, refs), entries_back=False, savepoint=False)
         # parameters worked out from these means (TOTOX from PV and AnV: services/derived_tests.py)
         derived_tests_refresh(self.actor, [entry.test for entry in completed], reason=MEAN_REASON)
         in_batch = {entry.test.pk for entry in completed}

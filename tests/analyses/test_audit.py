@@ -459,3 +459,23 @@ def test_an_entry_refused_half_way_through_a_bulk_append_leaves_nothing_written(
         audit_append_many(entries[:3], entries_back=False)  # the transaction is still usable
     assert AuditEntry.objects.count() == kept + 3
     assert audit_chain_verify().ok
+
+
+def test_without_its_savepoint_a_refused_stream_leaves_the_callers_block_to_roll_back(received_sample):
+    """``savepoint=False`` (result entry's batches): the same refusal ends the caller's atomic
+    block, which rolls everything back; nothing is written and the head stays."""
+    from analyses.audit import PendingEntry, audit_append_many
+    from analyses.models import AuditChainHead
+
+    entries = [PendingEntry(None, AuditAction.CHANGE, received_sample, {"n": [0, n]}) for n in range(50)]
+    entries.insert(40, PendingEntry(None, AuditAction.CHANGE, received_sample, {"value": [0, math.nan]}))
+    head = AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1)
+    kept = AuditEntry.objects.count()
+    with pytest.raises(ValueError), transaction.atomic():
+        audit_append_many(iter(entries), entries_back=False, savepoint=False)
+    assert AuditEntry.objects.count() == kept
+    assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == head
+    with transaction.atomic():
+        audit_append_many(entries[:3], entries_back=False, savepoint=False)
+    assert AuditEntry.objects.count() == kept + 3
+    assert audit_chain_verify().ok
