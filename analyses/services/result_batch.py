@@ -12,9 +12,10 @@ writes them all:
 4. each entry checked and computed through its plugin (exact Decimal), as one entry alone is:
    the first refusal stops the batch and names the entry (``EntryRefused``), nothing written;
 5. the results inserted at once (``row_writes.rows_insert``), their instrument uses and
-   uncertainty budgets likewise, the completed tests (mean, verdict, review warnings, state) with one
-   update, and the batch's audit entries appended under one lock of the chain head, each with
-   its own hash (``audit.audit_append_many``), in the order one entry at a time gives them.
+   uncertainty budgets likewise, all with ids reserved in one query (``row_writes.ids_reserve``),
+   the completed tests (mean, verdict, review warnings, state) with one update, and the batch's
+   audit entries appended under one lock of the chain head, each with its own hash
+   (``audit.audit_append_many``), in the order one entry at a time gives them.
 
 The number of queries does not grow with the batch (see DEVELOPERS.md, "Result entry"); a
 result entered before uncertainty budgets were kept costs a few more when its test completes.
