@@ -25,7 +25,7 @@ from functools import lru_cache
 from typing import Any, TypeVar
 
 import orjson
-from django.db import connections, models, router
+from django.db import DEFAULT_DB_ALIAS, connections, models, router
 from django.utils import timezone
 
 from analyses.models.immutable import AppendOnlyQuerySet, ImmutableRowError
@@ -80,9 +80,7 @@ def ids_reserve(counts: Mapping[type[models.Model], int]) -> dict[type[models.Mo
     ``rows_insert`` its own, instead of one query per insert (three round trips fewer for a batch
     of results, issue 12). None elsewhere, where ``rows_insert`` leaves the ids to ``bulk_create``."""
     wanted = [(model, count) for model, count in counts.items() if count > 0]
-    if not counts:
-        return {}
-    aliases = {router.db_for_write(model) for model in counts}
+    aliases = {router.db_for_write(model) for model in counts} or {DEFAULT_DB_ALIAS}
     if len(aliases) != 1:
         raise ValueError(f"ids_reserve takes models of one database, not of {sorted(aliases)}")
     connection = connections[aliases.pop()]

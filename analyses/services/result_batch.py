@@ -192,7 +192,8 @@ class _Batch:
             # are locked, so that a lot changed while the lock was awaited is read as it now is
             samples = Sample.objects.select_related("lot__product").in_bulk(sample_ids)
             locked = (
-                # with the mean's stored budget, which is replaced under the test's lock
+                # with the mean's stored budget: current, since its every writer locks the test's
+                # sample first, as above (a lock wait re-reads the test's row, not the joined one)
                 Test.objects.select_for_update(of=("self",)).select_related("specification_line", "uncertainty")
                 .filter(pk__in=test_ids).order_by("pk")
             )

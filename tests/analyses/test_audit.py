@@ -461,9 +461,13 @@ def test_an_entry_refused_half_way_through_a_bulk_append_leaves_nothing_written(
     assert audit_chain_verify().ok
 
 
-def test_without_its_savepoint_a_refused_stream_leaves_the_callers_block_to_roll_back(received_sample):
-    """``savepoint=False`` (result entry's batches): the same refusal ends the caller's atomic
-    block, which rolls everything back; nothing is written and the head stays."""
+def test_without_its_savepoint_a_refused_stream_leaves_the_callers_block_to_roll_back(postgres, received_sample):
+    """``savepoint=False`` (result entry's batches): the COPY runs in the caller's block without
+    a savepoint, so the same refusal leaves that block to roll back (it is marked for rollback,
+    where the COPY's own savepoint would have kept it usable); nothing is written and the head
+    stays."""
+    from django.test.utils import CaptureQueriesContext
+
     from analyses.audit import PendingEntry, audit_append_many
     from analyses.models import AuditChainHead
 
@@ -471,10 +475,17 @@ def test_without_its_savepoint_a_refused_stream_leaves_the_callers_block_to_roll
     entries.insert(40, PendingEntry(None, AuditAction.CHANGE, received_sample, {"value": [0, math.nan]}))
     head = AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1)
     kept = AuditEntry.objects.count()
-    with pytest.raises(ValueError), transaction.atomic():
-        audit_append_many(iter(entries), entries_back=False, savepoint=False)
-    assert AuditEntry.objects.count() == kept
-    assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == head
+    for savepoint in (True, False):
+        with pytest.raises(ValueError), transaction.atomic():
+            with CaptureQueriesContext(postgres) as captured:
+                try:
+                    audit_append_many(iter(entries), entries_back=False, savepoint=savepoint)
+                finally:
+                    marked = postgres.needs_rollback
+        assert marked is not savepoint
+        assert any("SAVEPOINT" in q["sql"] for q in captured.captured_queries) is savepoint
+        assert AuditEntry.objects.count() == kept
+        assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == head
     with transaction.atomic():
         audit_append_many(entries[:3], entries_back=False, savepoint=False)
     assert AuditEntry.objects.count() == kept + 3
