@@ -129,11 +129,11 @@ def rows_insert(objects: Sequence[models.Model], *, ids: Sequence[int] | None = 
     # later ones are made (preparing a value reads no row)
     if ids is not None and len(ids) != len(objects):
         raise ValueError(f"{len(ids)} ids reserved for {len(objects)} {model.__name__} rows")
-    ids = values_copy(
+    given = values_copy(
         model, [field.attname for field in fields], ([prepare(obj, connection) for prepare in prepared] for obj in objects),
         count=len(objects), reserved=ids,
     )
-    for obj, pk in zip(objects, ids):
+    for obj, pk in zip(objects, given):
         obj.pk = pk
         obj._state.adding = False
         obj._state.db = alias

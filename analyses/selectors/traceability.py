@@ -73,39 +73,19 @@ def instrument_facts(instrument: Instrument) -> InstrumentFacts:
 
 
 def instruments_by_reference(references: Iterable[int | str]) -> dict[int | str, Instrument]:
-    """Instruments named by id (an int) or asset id (a string), with their status; one query."""
+    """Instruments named by id (an int) or asset id (a string), with their status; one query
+    (on PostgreSQL, ``instruments_with_calibrations``'s)."""
     refs = list(references)
+    if connections[router.db_for_read(Instrument)].vendor == "postgresql":
+        return instruments_with_calibrations(refs)[0]
     ids = [r for r in refs if isinstance(r, int) and not isinstance(r, bool)]
     codes = [r for r in refs if isinstance(r, str)]
-    if connections[router.db_for_read(Instrument)].vendor == "postgresql":
-        found = list(Instrument.objects.raw(_instruments_with_status_sql(), [ids, codes]))
-    else:
-        found = list(instruments_with_status(Instrument.objects.filter(pk__in=ids) | Instrument.objects.filter(asset_id__in=codes)))
+    found = instruments_with_status(Instrument.objects.filter(pk__in=ids) | Instrument.objects.filter(asset_id__in=codes))
     by_ref: dict[int | str, Instrument] = {}
     for instrument in found:
         by_ref[instrument.pk] = instrument
         by_ref[instrument.asset_id] = instrument
     return by_ref
-
-
-@lru_cache(maxsize=1)
-def _instruments_with_status_sql() -> str:
-    """PostgreSQL: the instruments whose id is in the first parameter or whose asset id is in
-    the second (two arrays), with ``instruments_with_status``'s annotations from two lateral
-    joins. Django compiles that queryset's six correlated subqueries anew on every call, which
-    took about 3.5 ms against 0.4 ms for this text (issue 12); tests/analyses/selectors/
-    test_traceability.py holds the two equal."""
-    instrument, calibration, check = (m._meta.db_table for m in (Instrument, Calibration, InstrumentCheck))
-    return (
-        f"SELECT i.*, c.id AS latest_calibration_id, c.passed AS latest_calibration_passed, "
-        f"c.due_on AS latest_calibration_due_on, k.id AS latest_check_id, k.passed AS latest_check_passed, "
-        f'k.performed_at AS latest_check_at FROM "{instrument}" i '
-        f'LEFT JOIN LATERAL (SELECT id, passed, due_on FROM "{calibration}" WHERE instrument_id = i.id '
-        f"ORDER BY calibrated_on DESC, id DESC LIMIT 1) c ON TRUE "
-        f'LEFT JOIN LATERAL (SELECT id, passed, performed_at FROM "{check}" WHERE instrument_id = i.id '
-        f"ORDER BY performed_at DESC, id DESC LIMIT 1) k ON TRUE "
-        f"WHERE i.id = ANY(%s) OR i.asset_id = ANY(%s)"
-    )
 
 
 def lots_by_reference(ids: list[int], codes: list[str]) -> tuple[list[ReagentLot], dict[int, Standardisation]]:
@@ -155,8 +135,11 @@ def instruments_with_calibrations(
     references: Iterable[int | str],
 ) -> tuple[dict[int | str, Instrument], dict[int, Calibration]]:
     """``instruments_by_reference``, and the latest calibration of each by id. On PostgreSQL
-    one text of SQL, whose lateral join reads the calibration row too; elsewhere one more
-    query. tests/analyses/selectors/test_traceability.py holds the two equal."""
+    one text of SQL: ``instruments_with_status``'s annotations from two lateral joins (Django
+    compiles that queryset's six correlated subqueries anew on every call, about 3.5 ms against
+    0.4 ms for the text, issue 12), the first of which reads the calibration's row too;
+    elsewhere the queryset and one more query. tests/analyses/selectors/test_traceability.py
+    holds the two equal."""
     refs = list(references)
     connection = connections[router.db_for_read(Instrument)]
     if connection.vendor != "postgresql":
@@ -187,7 +170,9 @@ def instruments_with_calibrations(
 
 @lru_cache(maxsize=1)
 def _instruments_with_calibration_sql() -> str:
-    """PostgreSQL: ``_instruments_with_status_sql``, with every column of the latest calibration."""
+    """PostgreSQL: the instruments whose id is in the first parameter or whose asset id is in
+    the second (two arrays), with every column of the latest calibration and the latest
+    check's id, outcome and time."""
     instrument, calibration, check = (m._meta.db_table for m in (Instrument, Calibration, InstrumentCheck))
     return (
         f"SELECT {_RowReader.select_list(Instrument, 'i')}, k.id, k.passed, k.performed_at, "
