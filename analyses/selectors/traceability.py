@@ -75,24 +75,33 @@ def instrument_facts(instrument: Instrument) -> InstrumentFacts:
 def instruments_by_reference(references: Iterable[int | str]) -> dict[int | str, Instrument]:
     """Instruments named by id (an int) or asset id (a string), with their status; one query
     (on PostgreSQL, ``instruments_with_calibrations``'s)."""
-    refs = list(references)
     if connections[router.db_for_read(Instrument)].vendor == "postgresql":
-        return instruments_with_calibrations(refs)[0]
-    ids = [r for r in refs if isinstance(r, int) and not isinstance(r, bool)]
-    codes = [r for r in refs if isinstance(r, str)]
+        return instruments_with_calibrations(references)[0]
+    ids, codes = _ids_and_codes(references)
     found = instruments_with_status(Instrument.objects.filter(pk__in=ids) | Instrument.objects.filter(asset_id__in=codes))
+    return _by_reference(found)
+
+
+def _ids_and_codes(references: Iterable[int | str]) -> tuple[list[int], list[str]]:
+    """References split into ids (ints, not bools) and codes (strings); anything else is dropped."""
+    refs = list(references)
+    return [r for r in refs if isinstance(r, int) and not isinstance(r, bool)], [r for r in refs if isinstance(r, str)]
+
+
+def _by_reference(instruments: Iterable[Instrument]) -> dict[int | str, Instrument]:
+    """Each instrument under its id and under its asset id."""
     by_ref: dict[int | str, Instrument] = {}
-    for instrument in found:
-        by_ref[instrument.pk] = instrument
-        by_ref[instrument.asset_id] = instrument
+    for instrument in instruments:
+        by_ref[instrument.pk] = by_ref[instrument.asset_id] = instrument
     return by_ref
 
 
-def lots_by_reference(ids: list[int], codes: list[str]) -> tuple[list[ReagentLot], dict[int, Standardisation]]:
-    """The lots named by id or code, each with its kind and ``lots_with_current``'s
+def lots_by_reference(references: Iterable[int | str]) -> tuple[list[ReagentLot], dict[int, Standardisation]]:
+    """The lots named by id (an int) or code (a string), each with its kind and ``lots_with_current``'s
     annotations, and their current standardisations by id. On PostgreSQL one text of SQL with
     a lateral join, which reads the standardisation rows too; elsewhere the queryset and one
     more query. tests/analyses/selectors/test_traceability.py holds the two equal."""
+    ids, codes = _ids_and_codes(references)
     connection = connections[router.db_for_read(ReagentLot)]
     if connection.vendor != "postgresql":
         lots = list(lots_with_current(ReagentLot.objects.select_related("kind")).filter(Q(pk__in=ids) | Q(code__in=codes)))
@@ -140,16 +149,14 @@ def instruments_with_calibrations(
     0.4 ms for the text, issue 12), the first of which reads the calibration's row too;
     elsewhere the queryset and one more query. tests/analyses/selectors/test_traceability.py
     holds the two equal."""
-    refs = list(references)
+    ids, codes = _ids_and_codes(references)
     connection = connections[router.db_for_read(Instrument)]
     if connection.vendor != "postgresql":
-        found = instruments_by_reference(refs)
+        found = instruments_by_reference([*ids, *codes])
         latest = {i.latest_calibration_id for i in found.values() if i.latest_calibration_id}
         return found, Calibration.objects.in_bulk(latest)
-    ids = [r for r in refs if isinstance(r, int) and not isinstance(r, bool)]
-    codes = [r for r in refs if isinstance(r, str)]
     instrument_rows, calibration_rows = _RowReader(Instrument, connection), _RowReader(Calibration, connection)
-    by_ref: dict[int | str, Instrument] = {}
+    instruments: list[Instrument] = []
     calibrations: dict[int, Calibration] = {}
     with connection.cursor() as cursor:
         cursor.execute(_instruments_with_calibration_sql(), [ids, codes])
@@ -164,8 +171,8 @@ def instruments_with_calibrations(
                 instrument.latest_calibration_id = calibration.pk
                 instrument.latest_calibration_passed, instrument.latest_calibration_due_on = calibration.passed, calibration.due_on
                 calibrations[calibration.pk] = calibration
-            by_ref[instrument.pk] = by_ref[instrument.asset_id] = instrument
-    return by_ref, calibrations
+            instruments.append(instrument)
+    return _by_reference(instruments), calibrations
 
 
 @lru_cache(maxsize=1)

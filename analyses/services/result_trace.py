@@ -14,7 +14,6 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-
 from analyses.errors import Conflict, InvalidInput
 from analyses.row_writes import new_row, rows_insert
 from analyses.models import Calibration, Instrument, ReagentLot, Result, ResultInstrument, Standardisation
@@ -104,9 +103,7 @@ def trace_catalog(titrant_lots: Iterable[Any], instruments: Iterable[Any]) -> Tr
     refs = {ref for ref in map(_usable_reference, titrant_lots) if ref is not None}
     catalog = TraceCatalog()
     if refs:
-        lots, standardisations = lots_by_reference(
-            [ref for ref in refs if isinstance(ref, int)], [ref for ref in refs if isinstance(ref, str)]
-        )
+        lots, standardisations = lots_by_reference(refs)
         for lot in lots:
             catalog.lots_by_pk[lot.pk] = lot
             catalog.lots_by_code[lot.code] = lot

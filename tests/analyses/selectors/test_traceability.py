@@ -85,7 +85,7 @@ def test_lots_by_reference_give_the_querysets_lots_kinds_and_current_standardisa
     ReagentLotFactory(code="KOH-NOT-NAMED")
 
     with CaptureQueriesContext(connection) as captured:
-        lots, standardisations = lots_by_reference([by_id.pk, 999_999], ["KOH-TIED", "KOH-BARE", "NO-SUCH"])
+        lots, standardisations = lots_by_reference([by_id.pk, 999_999, "KOH-TIED", "KOH-BARE", "NO-SUCH"])
     assert len(captured) == (1 if connection.vendor == "postgresql" else 2)
     expected = {lot.pk: lot for lot in lots_with_current(ReagentLot.objects.select_related("kind")).filter(pk__in=[tied.pk, bare.pk, by_id.pk])}
     assert sorted(lot.pk for lot in lots) == sorted(expected)
