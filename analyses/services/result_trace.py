@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from analyses.errors import Conflict, InvalidInput
-from analyses.row_writes import new_row, rows_insert
+from analyses.row_writes import new_row, related_rows_keep, rows_insert
 from analyses.models import Calibration, Instrument, ReagentLot, Result, ResultInstrument, Standardisation
 from analyses.selectors.traceability import (
     instrument_facts, instruments_by_reference, instruments_with_calibrations, lot_facts, lots_by_reference, lots_with_current,
@@ -290,7 +290,4 @@ def trace_save_many(entered: Iterable[tuple[Result, Trace]], *, ids: Sequence[in
     rows_insert([row for _, rows in uses for row in rows], ids=ids)
     for result, rows in uses:
         rows.sort(key=lambda row: row.instrument_id)  # ResultInstrument.Meta.ordering, as a read gives them
-        known = result.instrument_uses.all()
-        # what prefetch_related_objects sets (Django has no public call for rows already in hand)
-        known._result_cache, known._prefetch_done = rows, True
-        result._prefetched_objects_cache = {**getattr(result, "_prefetched_objects_cache", {}), "instrument_uses": known}
+        related_rows_keep(result, "instrument_uses", rows)

@@ -347,3 +347,91 @@ def test_nothing_to_reserve_runs_no_query_and_sqlite_leaves_ids_to_bulk_create()
         reserved = ids_reserve({Product: 0})
     assert len(captured) == 0
     assert reserved == ({Product: []} if connection.vendor == "postgresql" else None)
+
+
+def _result(test, user):
+    from analyses.models import Result
+    from analyses.row_writes import new_row
+
+    return new_row(Result, test=test, entered_by=user, replicate=1, inputs={"sample_mass": "20.0"}, value=0.35,
+                   value_exact="0.35", reported="0.35", unit="mg KOH/g", method_code="av", entered_at=timezone.now())
+
+
+def test_rows_kept_on_an_instance_are_what_prefetch_related_leaves():
+    """related_rows_keep(result, "instrument_uses", rows) against Django's own prefetch of the
+    same rows: the same queryset (its class, its SQL, its hints and known related objects),
+    read without a query, and another query made on it filtered on the result."""
+    from analyses.models import InstrumentKind, Result, ResultInstrument
+    from analyses.row_writes import new_row, related_rows_keep
+    from tests.factories import usable_instrument
+
+    result = _result(TestFactory(), UserFactory())
+    rows_insert([result])
+    instruments = [usable_instrument("RW-BAL-1"), usable_instrument("RW-BAL-2", InstrumentKind.BALANCE)]
+    uses = [new_row(ResultInstrument, result=result, instrument=i, calibration_id=i.calibrations.get().pk) for i in instruments]
+    rows_insert(uses)
+    related_rows_keep(result, "instrument_uses", uses)
+
+    read = Result.objects.prefetch_related("instrument_uses").get(pk=result.pk)
+    ours, theirs = result.instrument_uses.all(), read.instrument_uses.all()
+    with CaptureQueriesContext(connection) as captured:
+        assert list(ours) == list(theirs) and list(ours)[0] is uses[0]
+        assert ours.count() == 2 and ours.exists()  # answered from the rows kept
+    assert len(captured) == 0
+    assert type(ours) is type(theirs)
+    assert str(ours.query) == str(theirs.query)  # the filter kept back, applied as the manager's is
+    assert ours._hints == {"instance": result} and theirs._hints == {"instance": read}
+    field = ResultInstrument._meta.get_field("result")
+    assert ours._known_related_objects == {field: {result.pk: result}}
+    assert theirs._known_related_objects == {field: {read.pk: read}}
+    [first] = ours.filter(instrument=instruments[0])  # a new query, on this result's rows only
+    assert first.pk == uses[0].pk and first.result is result
+    other = _result(TestFactory(), UserFactory())
+    rows_insert([other])
+    related_rows_keep(other, "instrument_uses", [])
+    assert list(other.instrument_uses.all()) == [] and not other.instrument_uses.filter(pk=uses[0].pk).exists()
+
+
+def test_rows_are_kept_only_on_the_reverse_side_of_a_foreign_key_of_a_saved_instance():
+    from analyses.row_writes import related_rows_keep
+
+    test, user = TestFactory(), UserFactory()
+    with pytest.raises(ValueError, match="reverse side"):
+        related_rows_keep(_result(test, user), "test", [])
+    with pytest.raises(ValueError, match="must be saved"):
+        related_rows_keep(_result(test, user), "instrument_uses", [])
+
+
+def test_related_objects_are_checked_and_mended_as_bulk_create_does():
+    """rows_insert's own check of the related objects kept on each row gives what Django's
+    Model._prepare_related_fields_for_save gives: an unsaved one refused with the same message,
+    the id of one saved after it was given taken, and one whose id changed let go."""
+    from analyses.models import Result
+
+    test, user = TestFactory(), UserFactory()
+    unsaved = TestFactory.build()
+    refused = _result(unsaved, user)
+    with pytest.raises(ValueError) as ours, transaction.atomic():
+        rows_insert([_result(test, user), refused])
+    with pytest.raises(ValueError) as djangos:
+        _result(unsaved, user)._prepare_related_fields_for_save(operation_name="rows_insert")
+    # off PostgreSQL rows_insert is bulk_create, whose message names itself
+    named = "rows_insert" if connection.vendor == "postgresql" else "bulk_create"
+    assert str(ours.value) == str(djangos.value).replace("rows_insert", named)
+    assert "unsaved related object 'test'" in str(ours.value)
+    assert not Result.objects.exists()
+
+    later = TestFactory.build(sample=test.sample, specification_line=test.specification_line)
+    given_before_saved = _result(later, user)
+    assert given_before_saved.test_id is None
+    later.save()
+    moved = _result(test, user)
+    moved.test_id = TestFactory().pk  # the id changed after the object was given
+    plain = _result(test, user)
+    rows_insert([given_before_saved, moved, plain])
+    assert given_before_saved.test_id == later.pk and given_before_saved.test is later
+    assert "test" not in moved._state.fields_cache  # the object let go, as Django lets it go
+    assert plain.test is test
+    stored = dict(Result.objects.values_list("pk", "test_id"))
+    assert stored == {given_before_saved.pk: later.pk, moved.pk: moved.test_id, plain.pk: test.pk}
+    assert all(not r._state.adding and r._state.db == "default" for r in (given_before_saved, moved, plain))
