@@ -490,3 +490,39 @@ def test_without_its_savepoint_a_refused_stream_leaves_the_callers_block_to_roll
         audit_append_many(entries[:3], entries_back=False, savepoint=False)
     assert AuditEntry.objects.count() == kept + 3
     assert audit_chain_verify().ok
+
+
+@pytest.mark.django_db
+def test_the_head_is_locked_read_and_moved_in_one_statement_each_and_made_when_missing(received_sample):
+    """An append reads the head with its lock and moves it to the new last entry; on PostgreSQL
+    each is one plain statement. With no head row yet (removed here as an administrator might,
+    the guard lifted) the first append makes it, and the chain still verifies."""
+    from django.test.utils import CaptureQueriesContext
+
+    from analyses.audit import PendingEntry, audit_append_many
+    from analyses.models import AuditChainHead
+
+    before = AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1)
+    entries = [PendingEntry(None, AuditAction.CHANGE, received_sample, {"n": [0, n]}) for n in range(3)]
+    with CaptureQueriesContext(connection) as captured, transaction.atomic():
+        appended = audit_append_many(entries)
+    statements = [q["sql"] for q in captured.captured_queries if "SAVEPOINT" not in q["sql"]]
+    assert appended[0].sequence == before[0] + 1 and appended[0].previous_hash == before[1]
+    assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == (
+        appended[-1].sequence, appended[-1].entry_hash
+    )
+    if connection.vendor == "postgresql":
+        assert statements[0].startswith("SELECT") and statements[0].endswith("FOR UPDATE")
+        assert statements[-1].startswith("UPDATE") and "analyses_auditchainhead" in statements[-1]
+        assert len(statements) == 3  # the lock, the ids for the COPY of the entries, the move
+    assert audit_chain_verify().ok
+
+    # a database with no chain yet (emptied here, the guard lifted): the first append makes the head
+    tamper("DELETE FROM {entries}")
+    tamper("DELETE FROM {head}")
+    assert not AuditChainHead.objects.exists()
+    with transaction.atomic():
+        [made] = audit_append_many([PendingEntry(None, AuditAction.CHANGE, received_sample, {"n": [0, 9]})])
+    assert (made.sequence, made.previous_hash) == (1, GENESIS_HASH)
+    assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == (1, made.entry_hash)
+    assert audit_chain_verify().ok
