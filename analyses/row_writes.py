@@ -20,12 +20,17 @@ signals, as Django's bulk methods do not.
 from __future__ import annotations
 
 import datetime as dt
+import inspect
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from functools import lru_cache
 from typing import Any, TypeVar
 
 import orjson
 from django.db import DEFAULT_DB_ALIAS, connections, models, router
+from django.db.models.base import ModelState
+from django.db.models.fields.related_descriptors import ForeignKeyDeferredAttribute
+from django.db.models.query_utils import DeferredAttribute
+from django.db.models.signals import post_init, pre_init
 from django.utils import timezone
 
 from analyses.models.immutable import AppendOnlyQuerySet, ImmutableRowError
@@ -37,23 +42,31 @@ def new_row(model: type[_M], **values: Any) -> _M:
     that was most of the time of building a batch's results and instrument uses (issue 12). A
     relation is given by its name as an object (kept on the new one, its id taken) or by its
     attname as an id; every other field takes its default, as the keyword path gives it."""
-    fields, names = _row_fields(model)
-    unknown = set(values) - names
+    columns, names, attnames = _row_fields(model)
+    unknown = values.keys() - names
     if unknown:
         raise TypeError(f"{model.__name__} has no field {sorted(unknown)[0]!r}")
     args, related = [], []
-    for field in fields:
-        if field.is_relation and field.name in values:
-            target = values[field.name]
-            if target is not None and not isinstance(target, field.remote_field.model):
-                raise ValueError(f"{model.__name__}.{field.name} must be a {field.remote_field.model.__name__}")
+    for field, name, attname, target_model in columns:
+        if target_model is not None and name in values:
+            target = values[name]
+            if target is not None and not isinstance(target, target_model):
+                raise ValueError(f"{model.__name__}.{name} must be a {target_model.__name__}")
             related.append((field, target))
             args.append(None if target is None else target.pk)
-        elif field.attname in values:
-            args.append(values[field.attname])
+        elif attname in values:
+            args.append(values[attname])
         else:
             args.append(field.get_default())
-    row = model(*args)
+    if attnames is not None and not (pre_init.has_listeners(model) or post_init.has_listeners(model)):
+        # what model(*args) does then, without its walk over the fields (each value set through
+        # a descriptor that only stores it, on an object that holds nothing yet): a fifth of
+        # building a batch's rows (issue 12)
+        row = model.__new__(model)
+        row._state = ModelState()
+        row.__dict__.update(zip(attnames, args))
+    else:
+        row = model(*args)
     for field, target in related:
         # as the relation's descriptor keeps what it is given (a one-to-one on both sides)
         field.set_cached_value(row, target)
@@ -69,9 +82,23 @@ _M = TypeVar("_M", bound=models.Model)
 
 
 @lru_cache(maxsize=None)
-def _row_fields(model: type[models.Model]) -> tuple[tuple[models.Field, ...], frozenset[str]]:
+def _row_fields(
+    model: type[models.Model],
+) -> tuple[tuple[tuple[models.Field, str, str, type | None], ...], frozenset[str], tuple[str, ...] | None]:
+    """The model's columns (each field with its name, its attname and, for a relation, the
+    model it points to), the names a value may be given by, and the columns' attnames when
+    ``Model.__init__`` would only store each value (every attribute a plain ``DeferredAttribute``,
+    or a foreign key's, whose setting clears a related object a new row does not hold); else
+    None, and ``new_row`` leaves the object to ``Model.__init__``."""
     fields = tuple(model._meta.concrete_fields)
-    return fields, frozenset(name for field in fields for name in {field.name, field.attname})
+    columns = tuple(
+        (field, field.name, field.attname, field.remote_field.model if field.is_relation else None) for field in fields
+    )
+    names = frozenset(name for field in fields for name in {field.name, field.attname})
+    plain = not model._meta.abstract and all(
+        type(inspect.getattr_static(model, field.attname, None)) in (DeferredAttribute, ForeignKeyDeferredAttribute) for field in fields
+    )
+    return columns, names, tuple(field.attname for field in fields) if plain else None
 
 
 def related_rows_keep(instance: models.Model, accessor: str, rows: Sequence[models.Model]) -> None:

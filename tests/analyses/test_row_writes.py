@@ -282,6 +282,8 @@ def test_new_row_builds_what_the_model_builds_from_keywords():
     row = new_row(ResultUncertainty, **budget)
     assert _state(row) == _state(ResultUncertainty(**{**budget, "result": theirs}))  | {"cached": {"result": ours}}
     assert ours.uncertainty is row  # the one-to-one kept on the result too, as the descriptor keeps it
+    assert type(ours.__dict__["inputs"]) is dict and ours.inputs is given["inputs"]  # stored as given, as the model stores it
+    assert _state(new_row(Result)) == _state(Result())  # every default, none of the relations
     with pytest.raises(TypeError):
         new_row(Result, no_such_field=1)
     with pytest.raises(ValueError):
@@ -435,3 +437,30 @@ def test_related_objects_are_checked_and_mended_as_bulk_create_does():
     stored = dict(Result.objects.values_list("pk", "test_id"))
     assert stored == {given_before_saved.pk: later.pk, moved.pk: moved.test_id, plain.pk: test.pk}
     assert all(not r._state.adding and r._state.db == "default" for r in (given_before_saved, moved, plain))
+
+
+def test_new_row_leaves_the_object_to_the_model_when_someone_listens_for_its_making():
+    """A receiver of pre_init or post_init (an app may connect one) hears of every new_row, as it
+    hears of every model(...): new_row then builds the object through Model.__init__."""
+    from django.db.models.signals import post_init, pre_init
+
+    from analyses.models import Result
+    from analyses.row_writes import new_row
+
+    heard = []
+
+    def listen(sender, **kwargs):
+        heard.append((sender, kwargs.get("instance")))
+
+    test, user = TestFactory(), UserFactory()
+    for signal in (pre_init, post_init):
+        signal.connect(listen, sender=Result)
+        try:
+            row = new_row(Result, test=test, entered_by=user, replicate=1)
+        finally:
+            signal.disconnect(listen, sender=Result)
+        assert heard[-1][0] is Result and heard[-1][1] in (None, row)
+        assert _state(row) == _state(Result(test=test, entered_by=user, replicate=1))
+    assert len(heard) == 2
+    new_row(Result, test=test, entered_by=user, replicate=1)  # no one listens now: no one hears
+    assert len(heard) == 2
