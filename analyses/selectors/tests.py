@@ -1,11 +1,16 @@
-"""Tests: the filtered list and the work queues (one per method, each analyst's own, review);
+"""Tests: the filtered list and the work queues (one per method, each analyst's own, review),
+and the tests result entry locks;
 tests ordered by priority, then due date, each annotated ``is_overdue`` (open, due before
 today, and its sample not on hold: a held test waits on purpose, and shows its hold instead)."""
 from __future__ import annotations
 
 import datetime as dt
+from collections.abc import Collection, Sequence
+from functools import lru_cache
 
 from django.contrib.auth import get_user_model
+from django.db import connections, router
+from django.db.transaction import TransactionManagementError
 from django.db.models import BooleanField, Exists, ExpressionWrapper, OuterRef, Q, QuerySet, Subquery
 from django.utils import timezone
 
@@ -16,9 +21,12 @@ from analyses.models import (
     ResultStatus,
     Sample,
     SampleState,
+    SpecificationLine,
     Test,
     TestState,
+    TestUncertainty,
 )
+from analyses.selectors.rows import RowReader, relation_keep, select_list
 
 # everything a queue row shows, in one query (retest_of is shown by id only: no join)
 TEST_RELATIONS = ("sample__lot__product", "assignee", "specification_line")
@@ -122,3 +130,76 @@ def test_list(
 
 
 test_list.__test__ = False  # a selector, not a pytest test
+
+
+# --- result entry's reads (issue 12): one text of SQL each on PostgreSQL ------------------
+def tests_locked(test_ids: Collection[int]) -> list[Test]:
+    """The tests ``test_ids``, their rows locked, by id, each with its specification line and its
+    stored mean budget (kept as None when it has none): what
+    ``Test.objects.select_for_update(of=("self",)).select_related("specification_line",
+    "uncertainty")`` reads, in one text of SQL on PostgreSQL, whose compiling by Django took
+    longer than the query (tests/analyses/selectors/test_tests.py holds the two equal)."""
+    connection = connections[router.db_for_write(Test)]
+    if connection.vendor != "postgresql":
+        return list(
+            Test.objects.select_for_update(of=("self",)).select_related("specification_line", "uncertainty")
+            .filter(pk__in=test_ids).order_by("pk")
+        )
+    return _tests_with_lines(connection, _tests_locked_sql(), [list(test_ids)], budgets=True)
+
+
+def tests_of_samples_locked(sample_ids: Collection[int], method_codes: Collection[str]) -> list[Test]:
+    """The tests of these methods on these samples, locked with their specification lines, by
+    id, each with its line: what ``Test.objects.select_for_update().select_related(
+    "specification_line")`` reads, in one text of SQL on PostgreSQL."""
+    connection = connections[router.db_for_write(Test)]
+    if connection.vendor != "postgresql":
+        return list(
+            Test.objects.select_for_update().select_related("specification_line")
+            .filter(sample_id__in=sample_ids, method_code__in=method_codes).order_by("pk")
+        )
+    return _tests_with_lines(connection, _tests_of_samples_sql(), [list(sample_ids), list(method_codes)], budgets=False)
+
+
+def _tests_with_lines(connection, sql: str, params: Sequence, *, budgets: bool) -> list[Test]:
+    if connection.get_autocommit():
+        # as Django refuses select_for_update there: the lock would end with the statement
+        raise TransactionManagementError("select_for_update cannot be used outside of a transaction.")
+    readers = [RowReader(model, connection) for model in (Test, SpecificationLine, TestUncertainty)]
+    found = []
+    with connection.cursor() as cursor:
+        cursor.execute(sql, params)
+        for row in cursor.fetchall():
+            test, at = readers[0].read(row, 0)
+            line, at = readers[1].read(row, at)
+            relation_keep(test, "specification_line", line)
+            if budgets:
+                relation_keep(test, "uncertainty", readers[2].read(row, at)[0])
+            found.append(test)
+    return found
+
+
+def _tables() -> tuple[str, str, str]:
+    return tuple(model._meta.db_table for model in (Test, SpecificationLine, TestUncertainty))  # type: ignore[return-value]
+
+
+@lru_cache(maxsize=1)
+def _tests_locked_sql() -> str:
+    test, line, budget = _tables()
+    return (
+        f"SELECT {select_list((Test, 't'), (SpecificationLine, 'l'), (TestUncertainty, 'u'))} "
+        f'FROM "{test}" t JOIN "{line}" l ON l.id = t.specification_line_id '
+        f'LEFT JOIN "{budget}" u ON u.test_id = t.id '
+        "WHERE t.id = ANY(%s) ORDER BY t.id FOR UPDATE OF t"
+    )
+
+
+@lru_cache(maxsize=1)
+def _tests_of_samples_sql() -> str:
+    test, line, _ = _tables()
+    # no OF: the lines are locked too, as select_for_update() locks every table it joins
+    return (
+        f"SELECT {select_list((Test, 't'), (SpecificationLine, 'l'))} "
+        f'FROM "{test}" t JOIN "{line}" l ON l.id = t.specification_line_id '
+        "WHERE t.sample_id = ANY(%s) AND t.method_code = ANY(%s) ORDER BY t.id FOR UPDATE"
+    )

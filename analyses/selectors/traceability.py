@@ -5,14 +5,14 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Iterable
 from functools import lru_cache
-from typing import Any
 
 from django.db import connections, router
-from django.db.models import Model, OuterRef, Q, Subquery
+from django.db.models import OuterRef, Q, Subquery
 
 from analyses.models import (
     Calibration, Instrument, InstrumentCheck, ReagentKind, ReagentLot, Standardisation, StandardisationStatus,
 )
+from analyses.selectors.rows import RowReader
 from analyses.traceability.usability import InstrumentFacts, LotFacts
 
 
@@ -107,7 +107,7 @@ def lots_by_reference(references: Iterable[int | str]) -> tuple[list[ReagentLot]
         lots = list(lots_with_current(ReagentLot.objects.select_related("kind")).filter(Q(pk__in=ids) | Q(code__in=codes)))
         current = [lot.current_standardisation_id for lot in lots if lot.current_standardisation_id]
         return lots, Standardisation.objects.in_bulk(current)
-    lot_rows, kind_rows, standardisation_rows = (_RowReader(m, connection) for m in (ReagentLot, ReagentKind, Standardisation))
+    lot_rows, kind_rows, standardisation_rows = (RowReader(m, connection) for m in (ReagentLot, ReagentKind, Standardisation))
     kind_field = ReagentLot._meta.get_field("kind")
     lots, standardisations = [], {}
     with connection.cursor() as cursor:
@@ -131,7 +131,7 @@ def _lots_with_current_sql() -> str:
     with its kind and its latest standardisation of the first parameter's status (as
     ``current_standardisation_subquery`` orders them), read in one pass."""
     lot, kind, standardisation = (m._meta.db_table for m in (ReagentLot, ReagentKind, Standardisation))
-    columns = ", ".join(_RowReader.select_list(m, a) for m, a in ((ReagentLot, "l"), (ReagentKind, "k"), (Standardisation, "s")))
+    columns = ", ".join(RowReader.select_list(m, a) for m, a in ((ReagentLot, "l"), (ReagentKind, "k"), (Standardisation, "s")))
     return (
         f'SELECT {columns} FROM "{lot}" l JOIN "{kind}" k ON k.id = l.kind_id '
         f'LEFT JOIN LATERAL (SELECT * FROM "{standardisation}" WHERE lot_id = l.id AND status = %s '
@@ -155,7 +155,7 @@ def instruments_with_calibrations(
         found = instruments_by_reference([*ids, *codes])
         latest = {i.latest_calibration_id for i in found.values() if i.latest_calibration_id}
         return found, Calibration.objects.in_bulk(latest)
-    instrument_rows, calibration_rows = _RowReader(Instrument, connection), _RowReader(Calibration, connection)
+    instrument_rows, calibration_rows = RowReader(Instrument, connection), RowReader(Calibration, connection)
     instruments: list[Instrument] = []
     calibrations: dict[int, Calibration] = {}
     with connection.cursor() as cursor:
@@ -182,8 +182,8 @@ def _instruments_with_calibration_sql() -> str:
     check's id, outcome and time."""
     instrument, calibration, check = (m._meta.db_table for m in (Instrument, Calibration, InstrumentCheck))
     return (
-        f"SELECT {_RowReader.select_list(Instrument, 'i')}, k.id, k.passed, k.performed_at, "
-        f"{_RowReader.select_list(Calibration, 'c')} "
+        f"SELECT {RowReader.select_list(Instrument, 'i')}, k.id, k.passed, k.performed_at, "
+        f"{RowReader.select_list(Calibration, 'c')} "
         f'FROM "{instrument}" i '
         f'LEFT JOIN LATERAL (SELECT * FROM "{calibration}" WHERE instrument_id = i.id '
         f"ORDER BY calibrated_on DESC, id DESC LIMIT 1) c ON TRUE "
@@ -191,38 +191,6 @@ def _instruments_with_calibration_sql() -> str:
         f"ORDER BY performed_at DESC, id DESC LIMIT 1) k ON TRUE "
         f"WHERE i.id = ANY(%s) OR i.asset_id = ANY(%s)"
     )
-
-
-class _RowReader:
-    """One model's columns in a row of hand-written SQL, made into an object as Django makes a
-    row it reads (``Model.from_db``, each value through the converters its field's column
-    takes), or None where the row's id is null (a left join that found nothing)."""
-
-    def __init__(self, model: type[Model], connection: Any):
-        self.model, self.connection, self.alias = model, connection, connection.alias
-        self.fields = model._meta.concrete_fields
-        self.attnames = [field.attname for field in self.fields]
-        self.pk_index = self.fields.index(model._meta.pk)
-        self.converters = []
-        for index, field in enumerate(self.fields):
-            column = field.get_col(model._meta.db_table)
-            found = connection.ops.get_db_converters(column) + column.get_db_converters(connection)
-            if found:
-                self.converters.append((index, column, found))
-
-    @staticmethod
-    def select_list(model: type[Model], table: str) -> str:
-        return ", ".join(f'{table}."{field.column}"' for field in model._meta.concrete_fields)
-
-    def read(self, row: tuple[Any, ...], start: int) -> tuple[Model | None, int]:
-        end = start + len(self.fields)
-        values = list(row[start:end])
-        if values[self.pk_index] is None:
-            return None, end
-        for index, column, converters in self.converters:
-            for convert in converters:
-                values[index] = convert(values[index], column, self.connection)
-        return self.model.from_db(self.alias, self.attnames, values), end
 
 
 def due_within(today: dt.date, days: int) -> dt.date:

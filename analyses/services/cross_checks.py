@@ -26,6 +26,7 @@ from django.conf import settings
 
 from analyses.audit import audit_append
 from analyses.models import AuditAction, Test, TestState
+from analyses.selectors.tests import tests_of_samples_locked
 from analyses.services.access import Actor
 from plugins.contract import exact_context
 
@@ -196,13 +197,7 @@ def cross_check_partners(tests: Iterable[Test]) -> dict[int, list[Test]]:
     if not codes:
         return {test.pk: [] for test in tests}
     given = {test.pk: test for test in tests}
-    rows = [
-        given.get(row.pk, row)
-        for row in Test.objects.select_for_update()
-        .select_related("specification_line")
-        .filter(sample_id__in={test.sample_id for test in tests}, method_code__in=codes)
-        .order_by("pk")
-    ]
+    rows = [given.get(row.pk, row) for row in tests_of_samples_locked({test.sample_id for test in tests}, codes)]
     return {
         test.pk: [row for row in rows if row.sample_id == test.sample_id and row.pk != test.pk
                   and row.method_code in _partner_codes(test.method_code)]

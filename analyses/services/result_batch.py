@@ -34,8 +34,11 @@ from analyses.audit import PendingEntry, audit_append_many, created, json_safe
 from analyses.errors import Conflict, DomainError, InvalidInput, NotFound
 from analyses.row_writes import ids_reserve, new_row, rows_insert, rows_update
 from analyses.models import (
-    AuditAction, Result, ResultInstrument, ResultStatus, ResultUncertainty, Sample, Test, TestState, TestUncertainty,
+    AuditAction, Result, ResultInstrument, ResultUncertainty, Sample, Test, TestState, TestUncertainty,
 )
+from analyses.selectors.results import current_results
+from analyses.selectors.samples import samples_with_lot
+from analyses.selectors.tests import tests_locked
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.derived_tests import derived_tests_refresh
 from analyses.services.cross_checks import cross_check_partners, cross_check_warnings, cross_checks_refresh_partners
@@ -190,21 +193,15 @@ class _Batch:
             # each sample read once, with its lot and product, and shared by its tests (joined to
             # every test, it was read and built again for each: issue 12); read once the samples
             # are locked, so that a lot changed while the lock was awaited is read as it now is
-            samples = Sample.objects.select_related("lot__product").in_bulk(sample_ids)
-            locked = (
-                # with the mean's stored budget: current, since its every writer locks the test's
-                # sample first, as above (a lock wait re-reads the test's row, not the joined one)
-                Test.objects.select_for_update(of=("self",)).select_related("specification_line", "uncertainty")
-                .filter(pk__in=test_ids).order_by("pk")
-            )
-            for test in locked:
+            samples = samples_with_lot(sample_ids)
+            # with the mean's stored budget: current, since its every writer locks the test's
+            # sample first, as above (a lock wait re-reads the test's row, not the joined one)
+            for test in tests_locked(test_ids):
                 if test.sample_id in samples:  # else (a test made meanwhile) it is read when needed
                     test.sample = samples[test.sample_id]
                 self.tests[test.pk] = test
             self.current = {pk: {} for pk in self.tests}
-            for result in Result.objects.filter(test_id__in=self.tests, status=ResultStatus.CURRENT).select_related(
-                "uncertainty"
-            ).order_by("test_id", "replicate"):
+            for result in current_results(list(self.tests)):
                 self.current[result.test_id][result.replicate] = result
         keys = {key for key in (_lenient_key(r.idempotency_key) for r in asked) if key}
         self.earlier: dict[str, Result] = {}

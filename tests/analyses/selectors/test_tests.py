@@ -108,3 +108,79 @@ def test_queues_take_a_fixed_number_of_queries(users, django_assert_num_queries)
         touch(list(my_queue(users["analyst"])))
     with django_assert_num_queries(1):
         touch(list(test_selectors.test_list(method_code="iv", overdue=False)))
+
+
+def _mean_budget(test):
+    from django.utils import timezone
+
+    from analyses.models import TestUncertainty
+
+    return TestUncertainty.objects.create(
+        test=test, results=[], budget={"terms": []}, combined=0.01, expanded="0.020", source="test", computed_at=timezone.now(),
+    )
+
+
+def test_the_tests_result_entry_locks_are_the_querysets_tests_with_lines_and_mean_budgets():
+    """tests_locked and tests_of_samples_locked (one text of SQL each on PostgreSQL) against the
+    querysets they stand for: the same tests in the same order, with the same specification
+    lines and stored mean budgets (None where there is none), and the rows locked."""
+    from django.db import connection, transaction
+    from django.test.utils import CaptureQueriesContext
+
+    from analyses.models import Test
+    from analyses.selectors.tests import tests_locked, tests_of_samples_locked
+    from tests.analyses.selectors.same_rows import assert_same_rows
+
+    first, second = SampleFactory(), SampleFactory()
+    with_budget, without, ffa, elsewhere = (
+        TestFactory(sample=first), TestFactory(sample=first), TestFactory(sample=first, method_code="ffa"),
+        TestFactory(sample=second, method_code="ffa"),
+    )
+    _mean_budget(with_budget)
+    TestFactory(sample=second)  # not named
+    ids = [without.pk, with_budget.pk, 999_999]
+    with transaction.atomic():
+        with CaptureQueriesContext(connection) as captured:
+            ours = tests_locked(ids)
+        theirs = list(
+            Test.objects.select_for_update(of=("self",)).select_related("specification_line", "uncertainty")
+            .filter(pk__in=ids).order_by("pk")
+        )
+        assert [t.pk for t in ours] == [t.pk for t in theirs] == sorted([with_budget.pk, without.pk])
+        for mine, its in zip(ours, theirs):
+            assert_same_rows(mine, its, {"specification_line": {}, "uncertainty": {}})
+        assert ours[0].uncertainty.test is ours[0]
+        [locking] = captured.captured_queries
+        if connection.vendor == "postgresql":
+            assert locking["sql"].endswith("FOR UPDATE OF t")
+
+        codes = {"ffa", "pv"}
+        with CaptureQueriesContext(connection) as captured:
+            ours = tests_of_samples_locked({first.pk, second.pk}, codes)
+        theirs = list(
+            Test.objects.select_for_update().select_related("specification_line")
+            .filter(sample_id__in={first.pk, second.pk}, method_code__in=codes).order_by("pk")
+        )
+        assert [t.pk for t in ours] == [t.pk for t in theirs] == [ffa.pk, elsewhere.pk]
+        for mine, its in zip(ours, theirs):
+            assert_same_rows(mine, its, {"specification_line": {}})
+        if connection.vendor == "postgresql":
+            assert captured.captured_queries[0]["sql"].endswith("FOR UPDATE")
+
+
+@pytest.mark.django_db(transaction=True)
+def test_the_tests_are_not_locked_outside_a_transaction():
+    """A lock taken in autocommit would end with its statement: refused on PostgreSQL, as Django
+    refuses select_for_update there (SQLite has no row locks, and Django lets it through)."""
+    from django.db import connection, transaction
+    from django.db.transaction import TransactionManagementError
+
+    from analyses.selectors.tests import tests_locked, tests_of_samples_locked
+
+    test = TestFactory()
+    for read in (lambda: tests_locked([test.pk]), lambda: tests_of_samples_locked([test.sample_id], ["av"])):
+        if connection.vendor == "postgresql":
+            with pytest.raises(TransactionManagementError):
+                read()
+        with transaction.atomic():
+            assert [t.pk for t in read()] == [test.pk]
