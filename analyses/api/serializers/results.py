@@ -103,6 +103,14 @@ class ResultSerializer(serializers.ModelSerializer):
             },
         }
 
+    def _time_showing(self) -> tuple[Any, Any, bool]:
+        # looked up once per serializer: a list shows every result through one child, within
+        # one request, whose time zone does not change meanwhile
+        showing = self.__dict__.get("_showing")
+        if showing is None:
+            showing = self._showing = _time_showing()
+        return showing
+
     @extend_schema_field(serializers.ListField(child=serializers.CharField()))
     def get_input_warnings(self, result: Result) -> list[str]:
         return result_input_warnings(result)
@@ -133,7 +141,7 @@ class ResultSerializer(serializers.ModelSerializer):
             "correction_reason": _text(result.correction_reason),
             "status_reason": _text(result.status_reason),
             "entered_by": None if user is None else _text(user.username),
-            "entered_at": _shown_time(result.entered_at),
+            "entered_at": _shown_time(result.entered_at, self._time_showing()),
             "titrant_lot": None if lot is None else _text(lot.code),
             "standardisation": result.standardisation_id,
             "titrant_concentration": _text(result.titrant_concentration),
@@ -150,16 +158,23 @@ _STATUS = serializers.ChoiceField(choices=Result._meta.get_field("status").choic
 _ENTERED_AT = serializers.DateTimeField()
 
 
-def _shown_time(value: Any) -> Any:
+def _shown_time(value: Any, showing: tuple[Any, Any, bool] | None = None) -> Any:
     """A result's entry time as ``DateTimeField`` shows it, in the current time zone and the
-    configured format. The results of a batch share theirs, and showing it was a fiftieth of a
-    bulk entry of 100 (issue 12): each distinct time is shown once."""
+    configured format (``showing``: ``_time_showing()``, looked up once for many results). The
+    results of a batch share theirs, and showing it was a fiftieth of a bulk entry of 100
+    (issue 12): each distinct time is shown once."""
     if value is None:
         return None
     # a time's zone and fold in the key too: two times equal as instants (or an hour apart in a
     # repeated wall time) compare equal, and the field's own showing depends on these settings
     key = (value, getattr(value, "tzinfo", None), getattr(value, "fold", 0))
-    return _shown_time_in(key, timezone.get_current_timezone(), api_settings.DATETIME_FORMAT, settings.USE_TZ)
+    return _shown_time_in(key, *(showing or _time_showing()))
+
+
+def _time_showing() -> tuple[Any, Any, bool]:
+    """What showing a time depends on: the current time zone (a lookup in a context-local that
+    cost as much as the rest of showing a result's time), the format and USE_TZ."""
+    return timezone.get_current_timezone(), api_settings.DATETIME_FORMAT, settings.USE_TZ
 
 
 @lru_cache(maxsize=256)

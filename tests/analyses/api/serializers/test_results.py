@@ -115,3 +115,17 @@ def test_entry_times_equal_as_instants_or_in_a_repeated_hour_are_each_shown_as_t
     for value in (first, second, same_instant, first, second):
         assert _shown_time(value) == field.to_representation(value)
     assert _shown_time(first) != _shown_time(second)
+
+
+def test_a_list_shows_its_times_in_the_zone_current_when_it_is_shown(lab, users):
+    """A serializer looks the time zone up once for all its results; each serializer (each
+    request) looks it up anew, so a list shown under another zone shows that zone's times."""
+    av, _ = lab.assigned("analyst")
+    results = result_record_bulk_once(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}]).results
+    field = serializers.DateTimeField()
+    for zone in ("Asia/Kolkata", "America/New_York"):
+        with timezone.override(zone):
+            [row] = ResultSerializer(results, many=True).data
+            assert row["entered_at"] == field.to_representation(results[0].entered_at)
+            assert row["entered_at"].endswith(("+05:30",) if zone == "Asia/Kolkata" else ("-05:00", "-04:00"))
+        _assert_same(results)
