@@ -34,10 +34,10 @@ from analyses.audit import PendingEntry, audit_append_many, created, json_safe
 from analyses.errors import Conflict, DomainError, InvalidInput, NotFound
 from analyses.row_writes import ids_reserve, new_row, rows_insert, rows_update
 from analyses.models import (
-    AuditAction, Result, ResultInstrument, ResultUncertainty, Sample, Test, TestState, TestUncertainty,
+    AuditAction, Result, ResultInstrument, ResultUncertainty, Test, TestState, TestUncertainty,
 )
 from analyses.selectors.results import current_results
-from analyses.selectors.samples import samples_with_lot
+from analyses.selectors.samples import samples_of_tests_locked, samples_with_lot
 from analyses.selectors.tests import tests_locked
 from analyses.services.access import ID_MAX, Actor, refuse_raw_data_edit_by_qa, require_permission
 from analyses.services.derived_tests import derived_tests_refresh
@@ -184,12 +184,7 @@ class _Batch:
         self.current: dict[int, dict[int, Result]] = {}
         if test_ids:
             # the project's lock order: the samples, then the tests; both by id
-            sample_ids = list(
-                Sample.objects.select_for_update()
-                .filter(pk__in=Test.objects.filter(pk__in=test_ids).values("sample_id"))
-                .order_by("pk")
-                .values_list("pk", flat=True)
-            )
+            sample_ids = samples_of_tests_locked(test_ids)
             # each sample read once, with its lot and product, and shared by its tests (joined to
             # every test, it was read and built again for each: issue 12); read once the samples
             # are locked, so that a lot changed while the lock was awaited is read as it now is

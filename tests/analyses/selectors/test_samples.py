@@ -3,7 +3,7 @@ of SQL, elsewhere the queryset; both give the same samples, lots and products.""
 from __future__ import annotations
 
 import pytest
-from django.db import connection
+from django.db import connection, transaction
 from django.test.utils import CaptureQueriesContext
 
 from analyses.models import Sample
@@ -30,3 +30,44 @@ def test_samples_with_lot_are_the_querysets_samples_lots_and_products():
         assert ours[one.pk].lot.product.code == lot.product.code
     assert len(captured) == 0
     assert samples_with_lot([]) == {}
+
+
+def test_the_samples_of_tests_are_locked_as_the_queryset_locks_them():
+    """samples_of_tests_locked against the queryset it stands for: each sample once, in order,
+    whatever the number of its tests named; the rows locked (FOR UPDATE, on PostgreSQL)."""
+    from analyses.models import Test
+    from analyses.selectors.samples import samples_of_tests_locked
+    from tests.factories import TestFactory
+
+    first, second = SampleFactory(), SampleFactory()
+    tests = [TestFactory(sample=second), TestFactory(sample=first), TestFactory(sample=second)]
+    TestFactory()  # its sample is not named
+    ids = [t.pk for t in tests] + [999_999]
+    with transaction.atomic():
+        with CaptureQueriesContext(connection) as captured:
+            ours = samples_of_tests_locked(ids)
+        theirs = list(
+            Sample.objects.select_for_update().filter(pk__in=Test.objects.filter(pk__in=ids).values("sample_id"))
+            .order_by("pk").values_list("pk", flat=True)
+        )
+        assert ours == theirs == sorted([first.pk, second.pk])
+        [locking] = captured.captured_queries
+        if connection.vendor == "postgresql":
+            assert locking["sql"].endswith("FOR UPDATE")
+        assert samples_of_tests_locked([999_999]) == []
+
+
+@pytest.mark.django_db(transaction=True)
+def test_the_samples_are_not_locked_outside_a_transaction():
+    """Refused on PostgreSQL, as Django refuses select_for_update there (SQLite has no row locks)."""
+    from django.db.transaction import TransactionManagementError
+
+    from analyses.selectors.samples import samples_of_tests_locked
+    from tests.factories import TestFactory
+
+    test = TestFactory()
+    if connection.vendor == "postgresql":
+        with pytest.raises(TransactionManagementError):
+            samples_of_tests_locked([test.pk])
+    with transaction.atomic():
+        assert samples_of_tests_locked([test.pk]) == [test.sample_id]
