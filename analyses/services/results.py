@@ -148,7 +148,8 @@ def clean_idempotency_key(idempotency_key: str | None) -> str | None:
 
 def check_may_enter(actor: Actor, test: Test) -> None:
     """NotAllowed unless the test is assigned to ``actor`` or the role may enter any result."""
-    if not role_permits(actor, "record_any_result") and test.assignee_id != actor.pk:
+    # the assignee first: asking the role's permission for every entry of a batch cost a hundredth of it
+    if test.assignee_id != actor.pk and not role_permits(actor, "record_any_result"):
         whom = test.assignee.username if test.assignee_id else "nobody"
         raise NotAllowed(f"test {test.pk} is assigned to {whom}; {actor_name(actor)} may not enter its results")
 
