@@ -15,7 +15,8 @@ from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import UTC, date, datetime, time, timedelta
 from decimal import Decimal
-from typing import Any
+from functools import lru_cache
+from typing import Any, NamedTuple
 from uuid import UUID
 
 import orjson
@@ -228,11 +229,15 @@ def entry_content(entry: AuditEntry) -> str:
 
 def snapshot(obj: models.Model, fields: Iterable[str]) -> dict[str, Any]:
     """The JSON-safe values of ``fields`` (foreign keys by id)."""
-    values: dict[str, Any] = {}
-    for name in fields:
-        field = obj._meta.get_field(name)
-        values[name] = getattr(obj, field.attname)
-    return json_safe(values)
+    names = tuple(fields)
+    return json_safe({name: getattr(obj, attname) for name, attname in zip(names, _attnames(type(obj), names))})
+
+
+@lru_cache(maxsize=512)
+def _attnames(model: type[models.Model], names: tuple[str, ...]) -> tuple[str, ...]:
+    """Each field's attname (a foreign key's id), looked up once per model and set of fields:
+    an audit entry of a new result names twenty of them (issue 12)."""
+    return tuple(model._meta.get_field(name).attname for name in names)
 
 
 def changes_between(before: Mapping[str, Any], after: Mapping[str, Any]) -> dict[str, list[Any]]:
@@ -261,9 +266,10 @@ def audit_append(
     return appended
 
 
-@dataclass(frozen=True)
-class PendingEntry:
-    """An audit entry to append: what ``audit_append`` takes, for ``audit_append_many``."""
+class PendingEntry(NamedTuple):
+    """An audit entry to append: what ``audit_append`` takes, for ``audit_append_many``. A
+    named tuple (immutable, as the frozen dataclass it was, and made in under half its time: a
+    batch of results makes hundreds)."""
 
     actor: Any
     action: str

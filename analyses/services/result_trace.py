@@ -12,8 +12,10 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Any
 
+from analyses.audit import json_safe
 from analyses.errors import Conflict, InvalidInput
 from analyses.row_writes import new_row, related_rows_keep, rows_insert
 from analyses.models import Calibration, Instrument, ReagentLot, Result, ResultInstrument, Standardisation
@@ -56,6 +58,12 @@ class Trace:
             "titrant_concentration": s.concentration if s else "",
             "titrant_uncertainty": s.uncertainty if s else "",
         }
+
+    @cached_property
+    def described(self) -> dict[str, Any]:
+        """``describe()`` as plain JSON types, worked out once: a batch's results share their
+        traces, and each result's audit entry gives it (the entry's encoding copies it)."""
+        return json_safe(self.describe())
 
     def describe(self) -> dict[str, Any]:
         """For the audit entry and the certificate."""

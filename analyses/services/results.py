@@ -292,7 +292,7 @@ def new_result_fields(
 def result_created_changes(result: Result, trace: Trace) -> dict[str, Any]:
     """The audit entry's fields of a new result, with what it was measured with."""
     changes = created(result, RESULT_FIELDS)
-    changes["measured_with"] = [None, json_safe(trace.describe())]
+    changes["measured_with"] = [None, trace.described]
     return changes
 
 

@@ -526,3 +526,25 @@ def test_the_head_is_locked_read_and_moved_in_one_statement_each_and_made_when_m
     assert (made.sequence, made.previous_hash) == (1, GENESIS_HASH)
     assert AuditChainHead.objects.values_list("last_sequence", "last_hash").get(id=1) == (1, made.entry_hash)
     assert audit_chain_verify().ok
+
+
+@pytest.mark.django_db
+def test_a_snapshot_gives_each_field_json_safe_and_foreign_keys_by_id(received_sample):
+    from decimal import Decimal
+
+    from django.core.exceptions import FieldDoesNotExist
+
+    from analyses.audit import created, snapshot
+    from tests.factories import TestFactory
+
+    test = TestFactory(sample=received_sample)
+    test.value_exact, test.value = Decimal("0.3506"), 0.3506
+    for _ in range(2):  # the second time from the attnames looked up the first
+        assert snapshot(test, ["sample", "specification_line", "value_exact", "value", "due_on"]) == {
+            "sample": received_sample.pk, "specification_line": test.specification_line_id, "value_exact": "0.3506",
+            "value": 0.3506, "due_on": test.due_on.isoformat(),
+        }
+    assert snapshot(test, (name for name in ("state",))) == {"state": test.state}  # any iterable of names
+    assert created(received_sample, ["lot"]) == {"lot": [None, received_sample.lot_id]}
+    with pytest.raises(FieldDoesNotExist):
+        snapshot(test, ["no_such_field"])
