@@ -33,7 +33,7 @@ def current_results(test_ids: Collection[int]) -> list[Result]:
             Result.objects.filter(test_id__in=test_ids, status=ResultStatus.CURRENT).select_related("uncertainty")
             .order_by("test_id", "replicate")
         )
-    results, budgets = RowReader(Result, connection), RowReader(ResultUncertainty, connection)
+    results, budgets = RowReader.of(Result, connection), RowReader.of(ResultUncertainty, connection)
     found = []
     with connection.cursor() as cursor:
         cursor.execute(_current_results_sql(), [list(test_ids), ResultStatus.CURRENT.value])

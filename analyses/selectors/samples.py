@@ -87,7 +87,7 @@ def samples_with_lot(sample_ids: Collection[int]) -> dict[int, Sample]:
     connection = connections[router.db_for_read(Sample)]
     if connection.vendor != "postgresql":
         return Sample.objects.select_related("lot__product").in_bulk(sample_ids)
-    readers = [RowReader(model, connection) for model in (Sample, Lot, Product)]
+    readers = [RowReader.of(model, connection) for model in (Sample, Lot, Product)]
     found = {}
     with connection.cursor() as cursor:
         cursor.execute(_samples_with_lot_sql(), [list(sample_ids)])

@@ -165,7 +165,7 @@ def _tests_with_lines(connection, sql: str, params: Sequence, *, budgets: bool) 
     if connection.get_autocommit():
         # as Django refuses select_for_update there: the lock would end with the statement
         raise TransactionManagementError("select_for_update cannot be used outside of a transaction.")
-    readers = [RowReader(model, connection) for model in (Test, SpecificationLine, TestUncertainty)]
+    readers = [RowReader.of(model, connection) for model in (Test, SpecificationLine, TestUncertainty)]
     found = []
     with connection.cursor() as cursor:
         cursor.execute(sql, params)

@@ -107,7 +107,7 @@ def lots_by_reference(references: Iterable[int | str]) -> tuple[list[ReagentLot]
         lots = list(lots_with_current(ReagentLot.objects.select_related("kind")).filter(Q(pk__in=ids) | Q(code__in=codes)))
         current = [lot.current_standardisation_id for lot in lots if lot.current_standardisation_id]
         return lots, Standardisation.objects.in_bulk(current)
-    lot_rows, kind_rows, standardisation_rows = (RowReader(m, connection) for m in (ReagentLot, ReagentKind, Standardisation))
+    lot_rows, kind_rows, standardisation_rows = (RowReader.of(m, connection) for m in (ReagentLot, ReagentKind, Standardisation))
     kind_field = ReagentLot._meta.get_field("kind")
     lots, standardisations = [], {}
     with connection.cursor() as cursor:
@@ -155,7 +155,7 @@ def instruments_with_calibrations(
         found = instruments_by_reference([*ids, *codes])
         latest = {i.latest_calibration_id for i in found.values() if i.latest_calibration_id}
         return found, Calibration.objects.in_bulk(latest)
-    instrument_rows, calibration_rows = RowReader(Instrument, connection), RowReader(Calibration, connection)
+    instrument_rows, calibration_rows = RowReader.of(Instrument, connection), RowReader.of(Calibration, connection)
     instruments: list[Instrument] = []
     calibrations: dict[int, Calibration] = {}
     with connection.cursor() as cursor:

@@ -3,7 +3,7 @@ of SQL, elsewhere the queryset; both give the same samples, lots and products.""
 from __future__ import annotations
 
 import pytest
-from django.db import connection, transaction
+from django.db import connection, connections, transaction
 from django.test.utils import CaptureQueriesContext
 
 from analyses.models import Sample
@@ -71,3 +71,13 @@ def test_the_samples_are_not_locked_outside_a_transaction():
             samples_of_tests_locked([test.pk])
     with transaction.atomic():
         assert samples_of_tests_locked([test.pk]) == [test.sample_id]
+
+
+def test_a_models_row_reader_is_made_once_per_connection():
+    from analyses.models import Lot
+    from analyses.selectors.rows import RowReader
+
+    wrapper = connections["default"]  # as the selectors pass it (django.db.connection is a proxy)
+    reader = RowReader.of(Sample, wrapper)
+    assert RowReader.of(Sample, wrapper) is reader and reader.connection is wrapper
+    assert RowReader.of(Lot, wrapper) is not reader and RowReader.of(Lot, wrapper).model is Lot
