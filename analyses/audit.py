@@ -21,7 +21,7 @@ from uuid import UUID
 
 import orjson
 from django.core.serializers.json import DjangoJSONEncoder
-from django.db import connections, models, router, transaction
+from django.db import DatabaseError, connections, models, router, transaction
 from django.utils import timezone
 
 from analyses.models import AuditAction, AuditChainHead, AuditEntry
@@ -341,13 +341,16 @@ def _head_move(sequence: int, digest: str) -> None:
     ``_head_locked`` (the database's trigger refuses a head moved back, or to no such entry)."""
     connection = connections[router.db_for_write(AuditChainHead)]
     if connection.vendor != "postgresql":
-        AuditChainHead.objects.filter(id=1).update(last_sequence=sequence, last_hash=digest)
-        return
-    with connection.cursor() as cursor:
-        cursor.execute(
-            f"UPDATE {_head_table(connection)} SET {_HEAD_SEQUENCE} = %s, {_HEAD_HASH} = %s WHERE {_HEAD_ID} = 1",
-            [sequence, digest],
-        )
+        moved = AuditChainHead.objects.filter(id=1).update(last_sequence=sequence, last_hash=digest)
+    else:
+        with connection.cursor() as cursor:
+            cursor.execute(
+                f"UPDATE {_head_table(connection)} SET {_HEAD_SEQUENCE} = %s, {_HEAD_HASH} = %s WHERE {_HEAD_ID} = 1",
+                [sequence, digest],
+            )
+            moved = cursor.rowcount
+    if moved != 1:  # as save(update_fields=...) refuses an update that found no row
+        raise DatabaseError("the audit chain head was not moved: its row is missing")
 
 
 def _head_table(connection) -> str:

@@ -42,7 +42,9 @@ def new_row(model: type[_M], **values: Any) -> _M:
     (one value per column, in order), which skips the keyword path's work for every field:
     that was most of the time of building a batch's results and instrument uses (issue 12). A
     relation is given by its name as an object (kept on the new one, its id taken) or by its
-    attname as an id; every other field takes its default, as the keyword path gives it."""
+    attname as an id; every other field takes its default, as the keyword path gives it. Every
+    value is stored as given (``DEFERRED``, which ``Model.__init__`` leaves unset, has no meaning
+    for a new row)."""
     columns, names, attnames = _row_fields(model)
     unknown = values.keys() - names
     if unknown:
@@ -96,8 +98,14 @@ def _row_fields(
         (field, field.name, field.attname, field.remote_field.model if field.is_relation else None) for field in fields
     )
     names = frozenset(name for field in fields for name in {field.name, field.attname})
-    plain = not model._meta.abstract and all(
-        type(inspect.getattr_static(model, field.attname, None)) in (DeferredAttribute, ForeignKeyDeferredAttribute) for field in fields
+    plain = (
+        not model._meta.abstract
+        # nor an __init__ or a __setattr__ of its own (found by a review: none has one today)
+        and model.__init__ is models.Model.__init__ and model.__setattr__ is object.__setattr__
+        and all(
+            type(inspect.getattr_static(model, field.attname, None)) in (DeferredAttribute, ForeignKeyDeferredAttribute)
+            for field in fields
+        )
     )
     return columns, names, tuple(field.attname for field in fields) if plain else None
 

@@ -33,6 +33,8 @@ def current_results(test_ids: Collection[int]) -> list[Result]:
             Result.objects.filter(test_id__in=test_ids, status=ResultStatus.CURRENT).select_related("uncertainty")
             .order_by("test_id", "replicate")
         )
+    if not test_ids:
+        return []  # no query, as the queryset makes none for an empty list
     results, budgets = RowReader.of(Result, connection), RowReader.of(ResultUncertainty, connection)
     found = []
     with connection.cursor() as cursor:

@@ -6,7 +6,6 @@ read keeps its queryset for the other databases, and a test holds the two equal.
 """
 from __future__ import annotations
 
-from functools import lru_cache
 from typing import Any
 
 from django.db.models import Model
@@ -33,8 +32,15 @@ class RowReader:
     @classmethod
     def of(cls, model: type[Model], connection: Any) -> "RowReader":
         """The reader of ``model``'s rows on ``connection``, made once: looking up every
-        column's converters was a sixteenth of a request that enters two results (issue 12)."""
-        return _reader(cls, model, connection)
+        column's converters was a sixteenth of a request that enters two results (issue 12).
+        Kept on the connection's own wrapper (one per thread), so that it goes with it: a cache
+        of this module's would keep the wrapper of a thread that ended, and its connection, alive
+        (found by a review)."""
+        readers = connection.__dict__.setdefault(_READERS, {})
+        reader = readers.get(model)
+        if reader is None:
+            reader = readers[model] = cls(model, connection)
+        return reader
 
     @staticmethod
     def select_list(model: type[Model], table: str) -> str:
@@ -51,9 +57,7 @@ class RowReader:
         return self.model.from_db(self.alias, self.attnames, values), end
 
 
-@lru_cache(maxsize=128)  # a few models, on each thread's connection (bounded: threads come and go)
-def _reader(cls: type[RowReader], model: type[Model], connection: Any) -> RowReader:
-    return cls(model, connection)
+_READERS = "_oleotrace_row_readers"  # the attribute of a connection's wrapper that keeps its readers
 
 
 def select_list(*models_and_aliases: tuple[type[Model], str]) -> str:

@@ -87,6 +87,8 @@ def samples_with_lot(sample_ids: Collection[int]) -> dict[int, Sample]:
     connection = connections[router.db_for_read(Sample)]
     if connection.vendor != "postgresql":
         return Sample.objects.select_related("lot__product").in_bulk(sample_ids)
+    if not sample_ids:
+        return {}  # no query, as in_bulk([]) makes none
     readers = [RowReader.of(model, connection) for model in (Sample, Lot, Product)]
     found = {}
     with connection.cursor() as cursor:

@@ -62,7 +62,8 @@ class Trace:
     @cached_property
     def described(self) -> dict[str, Any]:
         """``describe()`` as plain JSON types, worked out once: a batch's results share their
-        traces, and each result's audit entry gives it (the entry's encoding copies it)."""
+        traces, and each result's audit entry gives it (the entry's encoding copies it). Shared
+        by every caller: read it, never change it in place."""
         return json_safe(self.describe())
 
     def describe(self) -> dict[str, Any]:

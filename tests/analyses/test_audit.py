@@ -517,6 +517,14 @@ def test_the_head_is_locked_read_and_moved_in_one_statement_each_and_made_when_m
         assert len(statements) == 3  # the lock, the ids for the COPY of the entries, the move
     assert audit_chain_verify().ok
 
+    # a head row gone between its lock and its move (it cannot, while locked): refused, as save() refused it
+    from django.db import DatabaseError
+
+    from analyses.audit import _head_move
+
+    tamper("DELETE FROM {head}")
+    with pytest.raises(DatabaseError, match="head was not moved"), transaction.atomic():
+        _head_move(appended[-1].sequence + 1, "0" * 64)
     # a database with no chain yet (emptied here, the guard lifted): the first append makes the head
     tamper("DELETE FROM {entries}")
     tamper("DELETE FROM {head}")

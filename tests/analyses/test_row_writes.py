@@ -466,3 +466,36 @@ def test_new_row_leaves_the_object_to_the_model_when_someone_listens_for_its_mak
     assert len(heard) == 2
     new_row(Result, test=test, entered_by=user, replicate=1)  # no one listens now: no one hears
     assert len(heard) == 2
+
+
+def test_new_row_leaves_a_model_with_an_attribute_of_its_own_to_the_model():
+    """A field whose attribute is not Django's plain one (a file field's), or a model with an
+    __init__ of its own, is built through Model.__init__: new_row gives what the model gives."""
+    from django.db import models
+    from django.test.utils import isolate_apps
+
+    from analyses.row_writes import _row_fields, new_row
+
+    with isolate_apps("analyses"):
+        class Filed(models.Model):
+            label = models.CharField(max_length=20)
+            sheet = models.FileField(upload_to="sheets")
+
+            class Meta:
+                app_label = "analyses"
+
+        class Initialised(models.Model):
+            label = models.CharField(max_length=20)
+
+            class Meta:
+                app_label = "analyses"
+
+            def __init__(self, *args, **kwargs):
+                super().__init__(*args, **kwargs)
+                self.made_by_init = True
+
+        assert _row_fields(Filed)[2] is None and _row_fields(Initialised)[2] is None
+        row = new_row(Filed, label="sheet 1", sheet="sheets/a.csv")
+        assert row.sheet.name == "sheets/a.csv" and type(row.sheet).__name__ == "FieldFile"
+        assert row.label == Filed(label="sheet 1").label
+        assert new_row(Initialised, label="x").made_by_init is True

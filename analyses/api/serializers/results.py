@@ -179,7 +179,10 @@ def _time_showing() -> tuple[Any, Any, bool]:
 
 @lru_cache(maxsize=256)
 def _shown_time_in(key: tuple[Any, Any, int], zone: Any, output_format: Any, use_tz: bool) -> Any:
-    return _ENTERED_AT.to_representation(key[0])
+    # shown in the zone it is cached under, whatever zone is current now: a serializer keeps the
+    # zone it looked up first (found by a review: a zone changed meanwhile filled the cache wrongly)
+    with timezone.override(zone):
+        return _ENTERED_AT.to_representation(key[0])
 
 
 def _text(value: Any) -> str | None:

@@ -29,7 +29,9 @@ def test_samples_with_lot_are_the_querysets_samples_lots_and_products():
     with CaptureQueriesContext(connection) as captured:
         assert ours[one.pk].lot.product.code == lot.product.code
     assert len(captured) == 0
-    assert samples_with_lot([]) == {}
+    with CaptureQueriesContext(connection) as captured:
+        assert samples_with_lot([]) == {}
+    assert len(captured) == 0  # as in_bulk([]) makes none
 
 
 def test_the_samples_of_tests_are_locked_as_the_queryset_locks_them():
@@ -81,3 +83,15 @@ def test_a_models_row_reader_is_made_once_per_connection():
     reader = RowReader.of(Sample, wrapper)
     assert RowReader.of(Sample, wrapper) is reader and reader.connection is wrapper
     assert RowReader.of(Lot, wrapper) is not reader and RowReader.of(Lot, wrapper).model is Lot
+    # kept on the wrapper, not by the module: a wrapper dropped (its thread ended) is let go
+    import gc
+    import weakref
+
+    from django.db import connections as handler
+
+    other = handler.create_connection("default")
+    RowReader.of(Sample, other)
+    gone = weakref.ref(other)
+    del other
+    gc.collect()
+    assert gone() is None

@@ -129,3 +129,29 @@ def test_a_list_shows_its_times_in_the_zone_current_when_it_is_shown(lab, users)
             assert row["entered_at"] == field.to_representation(results[0].entered_at)
             assert row["entered_at"].endswith(("+05:30",) if zone == "Asia/Kolkata" else ("-05:00", "-04:00"))
         _assert_same(results)
+
+
+def test_a_serializer_used_after_the_zone_changed_leaves_no_wrong_time_for_the_next_request(lab, users):
+    """A serializer keeps the zone it looked up first; a time shown by it after the zone changed
+    is shown, and cached, in that zone: a later serializer in the changed zone shows its own
+    (found by a review: the cache was filled with the changed zone's text under the first one)."""
+    from analyses.api.serializers.results import _shown_time_in
+
+    av, _ = lab.assigned("analyst")
+    [result] = result_record_bulk_once(users["analyst"], [{"test": av.pk, "inputs": AV_LOW, **AV_TRACE}]).results
+    field = serializers.DateTimeField()
+    _shown_time_in.cache_clear()
+    with timezone.override("Asia/Kolkata"):
+        kept = ResultSerializer(many=True)
+        kept.child._time_showing()  # the zone looked up first
+    with timezone.override("America/New_York"):
+        [row] = kept.to_representation([result])
+        with timezone.override("Asia/Kolkata"):
+            expected = field.to_representation(result.entered_at)
+        assert row["entered_at"] == expected  # the zone it kept, consistently
+    with timezone.override("Asia/Kolkata"):
+        [row] = ResultSerializer([result], many=True).data
+        assert row["entered_at"] == field.to_representation(result.entered_at)
+    with timezone.override("America/New_York"):
+        [row] = ResultSerializer([result], many=True).data
+        assert row["entered_at"] == field.to_representation(result.entered_at)
