@@ -499,3 +499,19 @@ def test_new_row_leaves_a_model_with_an_attribute_of_its_own_to_the_model():
         assert row.sheet.name == "sheets/a.csv" and type(row.sheet).__name__ == "FieldFile"
         assert row.label == Filed(label="sheet 1").label
         assert new_row(Initialised, label="x").made_by_init is True
+
+
+def test_cached_relations_are_dropped_and_read_again_when_asked():
+    from analyses.models import Result
+    from analyses.row_writes import cached_relations_drop
+
+    result = _result(TestFactory(), UserFactory())
+    rows_insert([result])
+    read = Result.objects.select_related("test").prefetch_related("instrument_uses").get(pk=result.pk)
+    test = read.test
+    assert "test" in read._state.fields_cache and "_prefetched_objects_cache" in read.__dict__
+    cached_relations_drop([read])
+    assert read._state.fields_cache == {} and "_prefetched_objects_cache" not in read.__dict__
+    with CaptureQueriesContext(connection) as captured:
+        assert read.test.pk == test.pk and list(read.instrument_uses.all()) == []
+    assert len(captured) == 2  # each read again from the database

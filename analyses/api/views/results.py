@@ -21,6 +21,7 @@ from analyses.api.serializers.results import (
     ResultUncertaintySerializer,
 )
 from analyses.api.views.common import validated
+from analyses.row_writes import cached_relations_drop
 from analyses.selectors.api_results import result_rows
 from analyses.selectors.uncertainty import result_uncertainty
 from analyses.services.results import result_correct_once, result_record_bulk_once, result_record_once
@@ -56,9 +57,19 @@ class ResultRecordView(APIView):
 
 
 def _shown(results) -> list:
-    """The results as the API shows them, their instruments read in one go."""
-    prefetch_related_objects(results, "instrument_uses__instrument")
-    return ResultSerializer(results, many=True).data
+    """The results as the API shows them, their instruments read in one go. Then the results and
+    their tests let go of the rows kept on them (``row_writes.cached_relations_drop``), so that
+    what a batch read and wrote is freed as soon as the answer is sent, not by the cyclic
+    collector later (issue 12)."""
+    items = list(results)
+    prefetch_related_objects(items, "instrument_uses__instrument")
+    shown = list(ResultSerializer(items, many=True).data)
+    tests = {id(test): test for test in (result._state.fields_cache.get("test") for result in items) if test is not None}
+    cached_relations_drop([*tests.values(), *items])
+    # the serializer, which refers to itself through its child (freed only by the collector),
+    # holds this list: emptied, it holds no result
+    items.clear()
+    return shown
 
 
 class ResultRecordBulkView(APIView):

@@ -169,3 +169,33 @@ def test_bulk_entry_over_http_runs_the_same_number_of_queries_for_4_and_for_40_r
     assert len(counts[0]) == len(counts[1]), "\n".join(counts[0]) + "\n----\n" + "\n".join(counts[1])
     # the answer shows the instrument uses just written, without reading them back
     assert not any(q.startswith("SELECT") and '"analyses_resultinstrument"' in q for q in counts[1]), counts[1]
+
+
+def test_results_once_shown_are_freed_without_the_cyclic_collector(lab, users):
+    """A batch's results, their budgets, instrument uses, tests and mean budgets refer to one
+    another through the rows kept on them; once the answer is built they let go of those, so
+    that reference counting frees them at once (issue 12: the cyclic collector held them for a
+    dozen batches, then paused up to 100 ms). Without the letting go they outlive this check."""
+    import gc
+    import weakref
+
+    from analyses.api.views.results import _shown
+    from analyses.services.results import result_record_bulk_once
+
+    av_test, _ = lab.assigned("analyst")
+    batch = result_record_bulk_once(users["analyst"], [
+        {"test": av_test.pk, "inputs": AV_LOW, **AV_TRACE}, {"test": av_test.pk, "inputs": AV_LOW_TWIN, **AV_TRACE},
+    ])
+    result = batch.results[1]  # it completed its test: a mean budget too
+    test = result.test
+    kept = [result, test, result.uncertainty, test.uncertainty, *result.instrument_uses.all()]
+    watched = [weakref.ref(obj) for obj in kept]
+    gc.collect()
+    gc.disable()
+    try:
+        shown = _shown(batch.results)
+        del batch, result, test, kept
+        assert [ref() for ref in watched] == [None] * len(watched)
+    finally:
+        gc.enable()
+    assert [row["replicate"] for row in shown] == [1, 2] and all(len(row["instruments"]) == 2 for row in shown)
