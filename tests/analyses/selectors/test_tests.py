@@ -184,3 +184,42 @@ def test_the_tests_are_not_locked_outside_a_transaction():
                 read()
         with transaction.atomic():
             assert [t.pk for t in read()] == [test.pk]
+
+
+@pytest.mark.django_db(transaction=True)
+def test_the_rows_each_read_locks_are_the_rows_its_queryset_locks(postgres):
+    """Seen from a second connection (NOWAIT): samples_of_tests_locked locks the samples,
+    tests_locked the tests but not their lines (FOR UPDATE OF, as of=("self",)), and
+    tests_of_samples_locked the tests and their lines (FOR UPDATE, as select_for_update())."""
+    import psycopg
+    from django.db import transaction
+
+    from analyses.selectors.samples import samples_of_tests_locked
+    from analyses.selectors.tests import tests_locked, tests_of_samples_locked
+
+    test = TestFactory(method_code="ffa")
+    settings = postgres.get_connection_params()
+    other = psycopg.connect(**{k: v for k, v in settings.items() if k in ("host", "port", "dbname", "user", "password")},
+                            autocommit=True)
+
+    def locked(table: str, pk: int) -> bool:
+        try:
+            other.execute(f'SELECT 1 FROM "{table}" WHERE id = %s FOR UPDATE NOWAIT', [pk])
+        except psycopg.errors.LockNotAvailable:
+            return True
+        return False
+
+    rows = {"sample": ("analyses_sample", test.sample_id), "test": ("analyses_test", test.pk),
+            "line": ("analyses_specificationline", test.specification_line_id)}
+    try:
+        for read, expected in (
+            (lambda: samples_of_tests_locked([test.pk]), {"sample"}),
+            (lambda: tests_locked([test.pk]), {"test"}),
+            (lambda: tests_of_samples_locked([test.sample_id], ["ffa"]), {"test", "line"}),
+        ):
+            with transaction.atomic():
+                read()
+                assert {name for name, (table, pk) in rows.items() if locked(table, pk)} == expected
+            assert not any(locked(table, pk) for table, pk in rows.values())  # released with the transaction
+    finally:
+        other.close()
