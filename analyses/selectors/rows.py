@@ -9,6 +9,7 @@ from __future__ import annotations
 from typing import Any
 
 from django.db.models import Model
+from django.db.transaction import TransactionManagementError
 from django.db.models.fields.related_descriptors import ForwardManyToOneDescriptor, ReverseOneToOneDescriptor
 
 
@@ -58,6 +59,13 @@ class RowReader:
 
 
 _READERS = "_oleotrace_row_readers"  # the attribute of a connection's wrapper that keeps its readers
+
+
+def lock_needs_transaction(connection: Any) -> None:
+    """Refuse a locking read in autocommit, as Django refuses ``select_for_update`` there: the
+    lock would end with the statement."""
+    if connection.get_autocommit():
+        raise TransactionManagementError("select_for_update cannot be used outside of a transaction.")
 
 
 def select_list(*models_and_aliases: tuple[type[Model], str]) -> str:

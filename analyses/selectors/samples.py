@@ -7,12 +7,11 @@ from functools import lru_cache
 from typing import Any
 
 from django.db import connections, router
-from django.db.transaction import TransactionManagementError
 from django.db.models import Prefetch, QuerySet
 
 from analyses.errors import NotFound
 from analyses.models import Lot, Product, Sample, Test
-from analyses.selectors.rows import RowReader, relation_keep, select_list
+from analyses.selectors.rows import RowReader, lock_needs_transaction, relation_keep, select_list
 
 
 def sample_list(
@@ -62,9 +61,7 @@ def samples_of_tests_locked(test_ids: Collection[int]) -> list[int]:
             Sample.objects.select_for_update().filter(pk__in=Test.objects.filter(pk__in=test_ids).values("sample_id"))
             .order_by("pk").values_list("pk", flat=True)
         )
-    if connection.get_autocommit():
-        # as Django refuses select_for_update there: the lock would end with the statement
-        raise TransactionManagementError("select_for_update cannot be used outside of a transaction.")
+    lock_needs_transaction(connection)
     with connection.cursor() as cursor:
         cursor.execute(_samples_of_tests_locked_sql(), [list(test_ids)])
         return [pk for (pk,) in cursor.fetchall()]

@@ -10,7 +10,6 @@ from functools import lru_cache
 
 from django.contrib.auth import get_user_model
 from django.db import connections, router
-from django.db.transaction import TransactionManagementError
 from django.db.models import BooleanField, Exists, ExpressionWrapper, OuterRef, Q, QuerySet, Subquery
 from django.utils import timezone
 
@@ -26,7 +25,7 @@ from analyses.models import (
     TestState,
     TestUncertainty,
 )
-from analyses.selectors.rows import RowReader, relation_keep, select_list
+from analyses.selectors.rows import RowReader, lock_needs_transaction, relation_keep, select_list
 
 # everything a queue row shows, in one query (retest_of is shown by id only: no join)
 TEST_RELATIONS = ("sample__lot__product", "assignee", "specification_line")
@@ -162,9 +161,7 @@ def tests_of_samples_locked(sample_ids: Collection[int], method_codes: Collectio
 
 
 def _tests_with_lines(connection, sql: str, params: Sequence, *, budgets: bool) -> list[Test]:
-    if connection.get_autocommit():
-        # as Django refuses select_for_update there: the lock would end with the statement
-        raise TransactionManagementError("select_for_update cannot be used outside of a transaction.")
+    lock_needs_transaction(connection)
     readers = [RowReader.of(model, connection) for model in (Test, SpecificationLine, TestUncertainty)]
     found = []
     with connection.cursor() as cursor:

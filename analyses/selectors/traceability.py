@@ -12,7 +12,7 @@ from django.db.models import OuterRef, Q, Subquery
 from analyses.models import (
     Calibration, Instrument, InstrumentCheck, ReagentKind, ReagentLot, Standardisation, StandardisationStatus,
 )
-from analyses.selectors.rows import RowReader
+from analyses.selectors.rows import RowReader, select_list
 from analyses.traceability.usability import InstrumentFacts, LotFacts
 
 
@@ -131,7 +131,7 @@ def _lots_with_current_sql() -> str:
     with its kind and its latest standardisation of the first parameter's status (as
     ``current_standardisation_subquery`` orders them), read in one pass."""
     lot, kind, standardisation = (m._meta.db_table for m in (ReagentLot, ReagentKind, Standardisation))
-    columns = ", ".join(RowReader.select_list(m, a) for m, a in ((ReagentLot, "l"), (ReagentKind, "k"), (Standardisation, "s")))
+    columns = select_list((ReagentLot, "l"), (ReagentKind, "k"), (Standardisation, "s"))
     return (
         f'SELECT {columns} FROM "{lot}" l JOIN "{kind}" k ON k.id = l.kind_id '
         f'LEFT JOIN LATERAL (SELECT * FROM "{standardisation}" WHERE lot_id = l.id AND status = %s '
